@@ -1,0 +1,567 @@
+"""Input preparation: from a validated case to the sides to march.
+
+Contents
+--------
+- ``prepare(case)``: checks across fields, Cp to edge velocity, optional smoothing,
+  the stagnation point between input points, the split into sides and arc lengths.
+- ``edge_velocity_from_cp``: Bernoulli, or the isentropic edge when the Mach number is set.
+- ``stagnation_cp``: Cp at a stagnation point for a free-stream Mach number.
+- ``SideInput``, ``SideOptions``, ``Prepared``: what the march receives.
+
+Every problem with the input raises ``CaseError`` naming the field by JSON pointer;
+everything this module changes on the way (clipping, smoothing) becomes a warning.
+"""
+
+from __future__ import annotations
+
+from dataclasses import dataclass, field
+from typing import Literal
+
+import numpy as np
+from numpy.typing import ArrayLike, NDArray
+
+from ibl.errors import CaseError, FieldProblem
+from ibl.schema import Case, Notice, Stagnation
+
+__all__ = [
+    "CP_NOISE",
+    "GAMMA",
+    "MIN_POINTS",
+    "Prepared",
+    "SideInput",
+    "SideOptions",
+    "edge_velocity_from_cp",
+    "prepare",
+    "stagnation_cp",
+]
+
+F64 = NDArray[np.float64]
+
+#: Ratio of specific heats of air (common practice).
+GAMMA = 1.4
+#: Cp may exceed its stagnation value by this much (tap noise) before the case is refused;
+#: the excess is clipped and reported (common practice for pressure-tap data).
+CP_NOISE = 0.05
+#: Fewest points on a surface, and on each side of a contour after the split.
+MIN_POINTS = 3
+#: Two consecutive contour points closer than this fraction of the contour length repeat.
+REPEAT_TOLERANCE = 1e-10
+#: A contour's smallest Ue/U_inf above this is reported as "no stagnation point in the data".
+STAGNATION_UE = 0.05
+
+
+@dataclass(frozen=True, slots=True)
+class SideOptions:
+    """Per-case options, shared by the sides of a case."""
+
+    criterion: str
+    turbulence_intensity: float | None
+    separation_lambda: float
+    closure: str
+    initial_shape_factor: float
+    separation_shape_factor: float
+    skin_friction: str
+    y_plus: tuple[float, ...]
+
+
+@dataclass(frozen=True, slots=True)
+class SideInput:
+    """One side to march: arc length from its origin, edge velocity, radius, start state."""
+
+    name: Literal["upper", "lower", "surface"]
+    s: F64  # arc length from the origin (stagnation point, leading edge or first station)
+    offset: float  # reported s = s + offset
+    ue: F64  # Ue / U_inf, >= 0
+    r: F64  # body radius (ones when planar)
+    x: F64 | None
+    y: F64 | None
+    nu: float  # nu / U_inf in coordinate units
+    axisymmetric: bool
+    start: Literal["stagnation", "sharp", "inflow"]
+    slope: float  # dUe/ds at a stagnation start, else NaN
+    theta0: float  # inflow theta (0 otherwise)
+    h0: float  # inflow shape factor (NaN otherwise)
+    turbulent_start: bool
+    trip: float | None  # trip position in s, or None
+    options: SideOptions
+
+
+@dataclass(slots=True)
+class Prepared:
+    """A case ready to march."""
+
+    sides: list[SideInput]
+    stagnation: Stagnation | None
+    warnings: list[Notice] = field(default_factory=list)
+
+
+def stagnation_cp(mach: float, gamma: float = GAMMA) -> float:
+    r"""Pressure coefficient at a stagnation point, isentropic compression.
+
+    .. math::
+        C_{p,0} = \frac{2}{\gamma M^2}
+        \left[\left(1 + \frac{\gamma - 1}{2} M^2\right)^{\gamma/(\gamma - 1)} - 1\right],
+        \qquad C_{p,0} = 1 \text{ at } M = 0
+
+    Parameters
+    ----------
+    mach : float
+        Free-stream Mach number [-].
+    gamma : float
+        Ratio of specific heats [-].
+
+    Returns
+    -------
+    float
+        Cp at stagnation [-].
+
+    >>> round(stagnation_cp(0.5), 4)
+    1.0637
+
+    References
+    ----------
+    Standard gas dynamics, e.g. Anderson, Modern Compressible Flow [derived].
+    """
+    if mach <= 0.0:
+        return 1.0
+    ratio = (1.0 + 0.5 * (gamma - 1.0) * mach**2) ** (gamma / (gamma - 1.0))
+    return float(2.0 / (gamma * mach**2) * (ratio - 1.0))
+
+
+def edge_velocity_from_cp(cp: ArrayLike, mach: float = 0.0, gamma: float = GAMMA) -> F64:
+    r"""Edge velocity Ue/U_inf from the pressure coefficient.
+
+    .. math::
+        \frac{U_e}{U_\infty} = \sqrt{1 - C_p} \quad (M_\infty = 0);\qquad
+        \frac{U_e}{U_\infty} = \frac{M_e}{M_\infty}
+        \sqrt{\frac{1 + \frac{\gamma-1}{2}M_\infty^2}{1 + \frac{\gamma-1}{2}M_e^2}}
+        \quad (M_\infty > 0)
+
+    with the local Mach number M_e from the isentropic relation for p/p0 and
+    p/p_inf = 1 + (gamma/2) M_inf^2 Cp.
+
+    Parameters
+    ----------
+    cp : float or array
+        Pressure coefficient [-]; values above the stagnation value give 0.
+    mach : float
+        Free-stream Mach number [-], 0 <= M < 1.
+    gamma : float
+        Ratio of specific heats [-].
+
+    Returns
+    -------
+    array
+        Ue / U_inf [-].
+
+    Notes
+    -----
+    The boundary-layer methods downstream remain incompressible.
+
+    >>> float(edge_velocity_from_cp(-3.0))
+    2.0
+
+    References
+    ----------
+    Bernoulli; isentropic flow relations [derived; standard gas dynamics].
+    """
+    cp = np.asarray(cp, dtype=np.float64)
+    if mach <= 0.0:
+        return np.asarray(np.sqrt(np.maximum(1.0 - cp, 0.0)), dtype=np.float64)
+    g = gamma
+    p_ratio = np.maximum(1.0 + 0.5 * g * mach**2 * cp, 1e-12)  # p / p_inf
+    p0_ratio = (1.0 + 0.5 * (g - 1.0) * mach**2) ** (g / (g - 1.0))  # p0 / p_inf
+    me2 = np.maximum(2.0 / (g - 1.0) * ((p0_ratio / p_ratio) ** ((g - 1.0) / g) - 1.0), 0.0)
+    t_ratio = (1.0 + 0.5 * (g - 1.0) * mach**2) / (1.0 + 0.5 * (g - 1.0) * me2)
+    return np.asarray(np.sqrt(me2) / mach * np.sqrt(t_ratio), dtype=np.float64)
+
+
+def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
+    array = np.asarray(values, dtype=np.float64)
+    bad = np.flatnonzero(~np.isfinite(array))
+    if bad.size:
+        problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
+    return array
+
+
+def _check_length(
+    array: F64 | None, n: int, pointer: str, what: str, problems: list[FieldProblem]
+) -> None:
+    if array is not None and array.size != n:
+        problems.append(
+            FieldProblem(pointer, f"has {array.size} values; the {what} has {n} points")
+        )
+
+
+def _smooth(q: F64, s: F64, smoothing: float | str) -> tuple[F64, Notice]:
+    """Smooth 1 - Cp (= (Ue/U_inf)^2 at M = 0) along the arc length with a smoothing spline."""
+    from scipy.interpolate import make_smoothing_spline
+
+    lam = None if smoothing == "auto" else float(smoothing)
+    spline = make_smoothing_spline(s, q, lam=lam)
+    smoothed = np.asarray(spline(s), dtype=np.float64)
+    change = smoothed - q
+    how = "generalised cross-validation" if lam is None else f"penalty {lam:g}"
+    return smoothed, Notice(
+        code="input_smoothed",
+        message=(
+            f"pressure smoothed by a cubic smoothing spline ({how}); change in Cp: "
+            f"RMS {np.sqrt(np.mean(change**2)):.3g}, largest {np.max(np.abs(change)):.3g}"
+        ),
+        pointer="/pressure",
+    )
+
+
+def _options(case: Case) -> SideOptions:
+    return SideOptions(
+        criterion=case.transition.criterion,
+        turbulence_intensity=case.flow.turbulence_intensity,
+        separation_lambda=case.laminar.separation_lambda,
+        closure=case.laminar.closure,
+        initial_shape_factor=case.turbulent.initial_shape_factor,
+        separation_shape_factor=case.turbulent.separation_shape_factor,
+        skin_friction=case.turbulent.skin_friction,
+        y_plus=tuple(case.mesh.y_plus),
+    )
+
+
+def _check_structure(case: Case) -> list[FieldProblem]:
+    problems: list[FieldProblem] = []
+    surface, pressure, flow = case.surface, case.pressure, case.flow
+    contour = surface.x is not None or surface.y is not None
+    if contour and surface.s is not None:
+        problems.append(FieldProblem("/surface", "give either x and y, or s, not both"))
+    elif contour and (surface.x is None or surface.y is None):
+        missing = "/surface/y" if surface.y is None else "/surface/x"
+        problems.append(FieldProblem(missing, "is required with a contour (x and y)"))
+    elif not contour and surface.s is None:
+        problems.append(FieldProblem("/surface", "give either x and y, or s"))
+    if (pressure.cp is None) == (pressure.edge_velocity is None):
+        problems.append(FieldProblem("/pressure", "give exactly one of cp or edge_velocity"))
+    if flow.reynolds is not None:
+        if flow.speed is not None or flow.kinematic_viscosity is not None:
+            problems.append(
+                FieldProblem("/flow", "give either reynolds, or speed and kinematic_viscosity")
+            )
+    elif flow.speed is None or flow.kinematic_viscosity is None:
+        missing = "/flow/speed" if flow.speed is None else "/flow/kinematic_viscosity"
+        problems.append(FieldProblem(missing, "is required when reynolds is not given"))
+    if contour and case.inflow is not None:
+        problems.append(
+            FieldProblem("/inflow", "applies to single-surface input (surface.s) only")
+        )
+    if case.transition.criterion == "abu_ghannam_shaw" and flow.turbulence_intensity is None:
+        problems.append(
+            FieldProblem(
+                "/flow/turbulence_intensity", "is required by the abu_ghannam_shaw criterion"
+            )
+        )
+    if case.body.kind == "axisymmetric" and not contour and case.body.radius is None:
+        problems.append(
+            FieldProblem("/body/radius", "is required for an axisymmetric single surface")
+        )
+    if case.body.kind == "planar" and case.body.radius is not None:
+        problems.append(FieldProblem("/body/radius", "applies to axisymmetric bodies only"))
+    allowed = {"upper", "lower"} if contour else {"surface"}
+    for key in case.transition.trip or {}:
+        if key not in allowed:
+            problems.append(
+                FieldProblem(
+                    f"/transition/trip/{key}",
+                    f"unknown side for this input; use {', '.join(sorted(allowed))}",
+                )
+            )
+    return problems
+
+
+def prepare(case: Case) -> Prepared:
+    """Check a case across its fields and turn it into sides to march.
+
+    Raises
+    ------
+    CaseError
+        With one problem per offending field.
+    """
+    problems = _check_structure(case)
+    if problems:
+        raise CaseError(problems)
+    surface, pressure, flow = case.surface, case.pressure, case.flow
+    contour = surface.s is None
+    if contour:
+        assert surface.x is not None and surface.y is not None
+        x = _array(surface.x, "/surface/x", problems)
+        y = _array(surface.y, "/surface/y", problems)
+        n = x.size
+        _check_length(y, n, "/surface/y", "contour (x)", problems)
+    else:
+        assert surface.s is not None
+        s_in = _array(surface.s, "/surface/s", problems)
+        n = s_in.size
+    if pressure.cp is not None:
+        p_values = _array(pressure.cp, "/pressure/cp", problems)
+        p_pointer = "/pressure/cp"
+    else:
+        assert pressure.edge_velocity is not None
+        p_values = _array(pressure.edge_velocity, "/pressure/edge_velocity", problems)
+        p_pointer = "/pressure/edge_velocity"
+    _check_length(p_values, n, p_pointer, "surface", problems)
+    radius = None
+    if case.body.radius is not None:
+        radius = _array(case.body.radius, "/body/radius", problems)
+        _check_length(radius, n, "/body/radius", "surface", problems)
+        negative = np.flatnonzero(radius < 0.0)
+        if negative.size:
+            problems.append(FieldProblem(f"/body/radius/{negative[0]}", "is negative"))
+    if problems:
+        raise CaseError(problems)
+
+    warnings: list[Notice] = []
+    # Arc length along the input.
+    if contour:
+        segment = np.hypot(np.diff(x), np.diff(y))
+        total = float(segment.sum())
+        repeated = np.flatnonzero(segment <= REPEAT_TOLERANCE * max(total, 1e-300))
+        if total <= 0.0 or repeated.size:
+            i = int(repeated[0]) + 1 if repeated.size else 1
+            raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
+        arc = np.concatenate(([0.0], np.cumsum(segment)))
+    else:
+        step = np.diff(s_in)
+        bad = np.flatnonzero(step <= 0.0)
+        if bad.size:
+            i = int(bad[0]) + 1
+            raise CaseError.at(
+                f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
+            )
+        arc = s_in - s_in[0]
+
+    # Edge velocity squared, q = (Ue/U_inf)^2, smooth through a stagnation point.
+    mach = flow.mach
+    if pressure.cp is not None:
+        cp_max = stagnation_cp(mach)
+        over = np.flatnonzero(p_values > cp_max + CP_NOISE)
+        if over.size:
+            i = int(over[0])
+            raise CaseError.at(
+                f"/pressure/cp/{i}",
+                f"Cp = {p_values[i]:.4g} exceeds the stagnation value {cp_max:.4g} at "
+                f"M = {mach:g} by more than measurement noise ({CP_NOISE:g})",
+            )
+        clipped = int(np.count_nonzero(p_values > cp_max))
+        if clipped:
+            warnings.append(
+                Notice(
+                    code="cp_clipped",
+                    message=f"{clipped} Cp value(s) above the stagnation value {cp_max:.4g} "
+                    f"clipped to it (largest {p_values.max():.4g})",
+                    pointer="/pressure/cp",
+                )
+            )
+        q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
+    else:
+        q = p_values**2
+    if mach > 0.0:
+        warnings.append(
+            Notice(
+                code="compressible_edge",
+                message="edge velocity from the isentropic relations at M = "
+                f"{mach:g}; the boundary-layer methods themselves are incompressible",
+                pointer="/flow/mach",
+            )
+        )
+    if pressure.smoothing is not None:
+        if n < 5:
+            raise CaseError.at("/pressure/smoothing", "needs at least 5 points")
+        q, notice = _smooth(q, arc, pressure.smoothing)
+        q = np.maximum(q, 0.0)
+        warnings.append(notice)
+    if not np.any(q > 0.0):
+        raise CaseError.at(p_pointer, "the edge velocity is zero everywhere")
+
+    nu = 1.0 / flow.reynolds if flow.reynolds is not None else 0.0
+    if flow.reynolds is None:
+        assert flow.speed is not None and flow.kinematic_viscosity is not None
+        nu = flow.kinematic_viscosity / flow.speed
+    axisymmetric = case.body.kind == "axisymmetric"
+    if axisymmetric and radius is None and contour:
+        radius = np.abs(y)
+    options = _options(case)
+    trips = case.transition.trip or {}
+    if not contour:
+        ue = np.sqrt(q)
+        return Prepared(
+            [_single_side(case, arc, float(s_in[0]), ue, radius, nu, options, trips)],
+            None,
+            warnings,
+        )
+    sides, stagnation = _split_contour(
+        arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings
+    )
+    return Prepared(sides, stagnation, warnings)
+
+
+def _single_side(
+    case: Case,
+    s: F64,
+    offset: float,
+    ue: F64,
+    radius: F64 | None,
+    nu: float,
+    options: SideOptions,
+    trips: dict[str, float],
+) -> SideInput:
+    inflow = case.inflow
+    p_pointer = "/pressure/cp" if case.pressure.cp is not None else "/pressure/edge_velocity"
+    inner_zero = np.flatnonzero(ue[1:] <= 0.0)
+    if inner_zero.size:
+        i = int(inner_zero[0]) + 1
+        raise CaseError.at(
+            f"{p_pointer}/{i}",
+            "the edge velocity vanishes inside the surface; give a contour (x, y) so that "
+            "the surface is split at its stagnation point, or start the surface there",
+        )
+    axisymmetric = case.body.kind == "axisymmetric"
+    if axisymmetric and radius is not None:
+        zero = np.flatnonzero(radius[1:] <= 0.0)
+        if zero.size:
+            raise CaseError.at(
+                f"/body/radius/{int(zero[0]) + 1}", "must be positive after the first point"
+            )
+    r = radius if radius is not None else np.ones_like(s)
+    if inflow is not None:
+        if ue[0] <= 0.0:
+            raise CaseError.at(f"{p_pointer}/0", "must be positive where an inflow is given")
+        start: Literal["stagnation", "sharp", "inflow"] = "inflow"
+        slope = float("nan")
+    elif ue[0] <= 0.0:
+        start, slope = "stagnation", float(ue[1] / s[1])
+    else:
+        start, slope = "sharp", float("nan")
+    return SideInput(
+        name="surface",
+        s=s,
+        offset=offset,
+        ue=ue,
+        r=r,
+        x=None,
+        y=None,
+        nu=nu,
+        axisymmetric=axisymmetric,
+        start=start,
+        slope=slope,
+        theta0=inflow.theta if inflow is not None else 0.0,
+        h0=inflow.shape_factor if inflow is not None else float("nan"),
+        turbulent_start=inflow is not None and inflow.regime == "turbulent",
+        trip=trips.get("surface"),
+        options=options,
+    )
+
+
+def _split_contour(
+    arc: F64,
+    x: F64,
+    y: F64,
+    q: F64,
+    radius: F64 | None,
+    nu: float,
+    axisymmetric: bool,
+    options: SideOptions,
+    trips: dict[str, float],
+    p_pointer: str,
+    warnings: list[Notice],
+) -> tuple[list[SideInput], Stagnation]:
+    """Locate the stagnation point between points and split the contour into two sides."""
+    n = arc.size
+    # Where several points share the smallest Ue (front and rear stagnation points of a
+    # potential flow), the front one is the most upstream: the free stream is along +x.
+    near = np.flatnonzero(q <= q.min() + 1e-6 * max(float(q.max()), 1e-300))
+    k = int(near[np.argmin(x[near])])
+    total = float(arc[-1])
+    closed = np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * total
+    shift = 0
+    if closed and k in (0, n - 1):
+        # A closed contour listed from its stagnation point: start it half-way round instead.
+        shift = (n - 1) // 2
+        order = np.concatenate((np.arange(shift, n - 1), np.arange(0, shift + 1)))
+        x, y, q = x[order], y[order], q[order]
+        radius = radius[order] if radius is not None else None
+        arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
+        k = int(np.flatnonzero(order == (k % (n - 1)))[0])
+    if 0 < k < n - 1:
+        # Near stagnation Ue = a |S - S0|, so q = a^2 (S - S0)^2 + q0: a parabola in S.
+        s3, q3 = arc[k - 1 : k + 2], q[k - 1 : k + 2]
+        c2, c1, _ = np.polyfit(s3 - arc[k], q3, 2)
+        vertex = arc[k] - 0.5 * c1 / c2 if c2 > 0.0 else 0.0
+        s0 = float(np.clip(vertex, arc[k - 1], arc[k + 1])) if c2 > 0.0 else float(arc[k])
+        slope = float(np.sqrt(c2)) if c2 > 0.0 else float("nan")
+    else:
+        s0 = float(arc[k])
+        j = 1 if k == 0 else n - 2
+        slope = float(np.sqrt(q[j]) / abs(arc[j] - s0))
+    if np.sqrt(q[k]) > STAGNATION_UE:
+        warnings.append(
+            Notice(
+                code="no_stagnation_point",
+                message=f"the smallest Ue/U_inf in the data is {np.sqrt(q[k]):.3g}; the sides "
+                "start there as if from a sharp leading edge",
+                pointer=p_pointer,
+            )
+        )
+        slope = float("nan")
+    position = float(np.interp(s0, arc, np.arange(n, dtype=np.float64)))
+    if shift:
+        position = (position + shift) % (n - 1)
+    x0, y0 = float(np.interp(s0, arc, x)), float(np.interp(s0, arc, y))
+    r0 = float(np.interp(s0, arc, radius)) if radius is not None else 1.0
+    stagnation = Stagnation(x=x0, y=y0, position=position)
+    tol = 1e-9 * total
+    ue = np.sqrt(q)
+    sides: list[SideInput] = []
+    branches = (np.flatnonzero(arc < s0 - tol)[::-1], np.flatnonzero(arc > s0 + tol))
+    mean_y = [float(np.mean(y[b])) if b.size else -np.inf for b in branches]
+    upper_first = mean_y[0] >= mean_y[1]
+    start: Literal["stagnation", "sharp"] = "sharp" if np.isnan(slope) else "stagnation"
+    for index, branch in enumerate(branches):
+        if branch.size + 1 < MIN_POINTS:
+            continue
+        name: Literal["upper", "lower"] = "upper" if (index == 0) == upper_first else "lower"
+        s = np.concatenate(([0.0], np.abs(arc[branch] - s0)))
+        u = np.concatenate(([0.0 if start == "stagnation" else ue[k]], ue[branch]))
+        r = (
+            np.concatenate(([r0], radius[branch]))
+            if radius is not None
+            else np.ones(branch.size + 1)
+        )
+        if axisymmetric:
+            zero = np.flatnonzero(r[1:-1] <= 0.0)
+            if zero.size:
+                i = int(branch[zero[0]])
+                raise CaseError.at(
+                    f"/body/radius/{i}",
+                    "the body radius must be positive between the nose and the tail",
+                )
+        sides.append(
+            SideInput(
+                name=name,
+                s=s,
+                offset=0.0,
+                ue=u,
+                r=r,
+                x=np.concatenate(([x0], x[branch])),
+                y=np.concatenate(([y0], y[branch])),
+                nu=nu,
+                axisymmetric=axisymmetric,
+                start=start,
+                slope=slope,
+                theta0=0.0,
+                h0=float("nan"),
+                turbulent_start=False,
+                trip=trips.get(name),
+                options=options,
+            )
+        )
+    if not sides:
+        raise CaseError.at("/surface", f"too few points on either side of the stagnation point")
+    if len(sides) == 2 and sides[0].name == sides[1].name:
+        raise CaseError.at("/surface", "could not tell the upper side from the lower side")
+    return sides, stagnation

@@ -1,0 +1,304 @@
+"""The case and result documents: one contract for the library, the CLI and the HTTP API.
+
+Contents
+--------
+- ``Case`` and its parts (``Surface``, ``Pressure``, ``Flow``, ``Body``, ``TransitionOptions``,
+  ``LaminarOptions``, ``TurbulentOptions``, ``Inflow``, ``MeshOptions``): the input.
+- ``Result`` and its parts (``Side``, events, ``MeshAdvice``, ``Notice``): the output.
+- ``MAX_POINTS``: the largest number of points one surface may carry.
+
+All lengths in a result are in the unit of the input coordinates; velocities are
+ratios to the free-stream speed.  The structures are msgspec Structs, so that the
+service can use them as wire types and publish their limits in its schema; the
+library itself never imports the service.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+import msgspec
+from msgspec import Meta
+
+__all__ = [
+    "MAX_POINTS",
+    "Body",
+    "Case",
+    "Flow",
+    "FirstCell",
+    "Inflow",
+    "LaminarOptions",
+    "LaminarSeparationEvent",
+    "MeshAdvice",
+    "MeshOptions",
+    "Notice",
+    "Pressure",
+    "Result",
+    "SeparationEvent",
+    "Side",
+    "Stagnation",
+    "Surface",
+    "TransitionEvent",
+    "TransitionOptions",
+    "TurbulentOptions",
+]
+
+#: Largest number of points accepted on one surface (a contour counts as one surface).
+MAX_POINTS = 20_000
+
+
+class Struct(
+    msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True, omit_defaults=False
+):
+    """Common base: unknown fields are errors, instances are immutable."""
+
+
+Coordinate = Annotated[float, Meta(description="Coordinate [length unit of the case]")]
+Points = Annotated[list[float], Meta(min_length=3, max_length=MAX_POINTS)]
+PositiveFloat = Annotated[float, Meta(gt=0.0)]
+
+
+class Surface(Struct):
+    """Geometry: a contour ``x``/``y`` or one surface given by arc length ``s``."""
+
+    x: Annotated[
+        Points | None,
+        Meta(description="Contour x, points in order along the wetted contour [length unit]"),
+    ] = None
+    y: Annotated[Points | None, Meta(description="Contour y, one per x [length unit]")] = None
+    s: Annotated[
+        Points | None,
+        Meta(
+            description="Arc length along one surface from its leading edge or stagnation "
+            "point, strictly increasing [length unit]"
+        ),
+    ] = None
+
+
+class Pressure(Struct):
+    """Surface pressure: pressure coefficient or edge velocity, one value per point."""
+
+    cp: Annotated[
+        Points | None, Meta(description="Pressure coefficient Cp [-], one per point")
+    ] = None
+    edge_velocity: Annotated[
+        Points | None,
+        Meta(description="Edge velocity Ue/U_inf [-], one per point (sign ignored)"),
+    ] = None
+    smoothing: Annotated[
+        Annotated[float, Meta(ge=0.0)] | Literal["auto"] | None,
+        Meta(
+            description="Smoothing of noisy tap data: null for none, 'auto' for a "
+            "generalised-cross-validation smoothing spline, or a spline penalty >= 0"
+        ),
+    ] = None
+
+
+class Flow(Struct):
+    """Free-stream conditions: a Reynolds number per unit length, or speed and viscosity."""
+
+    reynolds: Annotated[
+        Annotated[float, Meta(gt=0.0)] | None,
+        Meta(description="Re = U_inf L / nu, L the unit of the coordinates [-]"),
+    ] = None
+    speed: Annotated[
+        Annotated[float, Meta(gt=0.0)] | None, Meta(description="Free-stream speed U_inf [m/s]")
+    ] = None
+    kinematic_viscosity: Annotated[
+        Annotated[float, Meta(gt=0.0)] | None, Meta(description="Kinematic viscosity nu [m^2/s]")
+    ] = None
+    turbulence_intensity: Annotated[
+        Annotated[float, Meta(ge=0.0, le=0.2)] | None,
+        Meta(description="Free-stream turbulence intensity Tu, a fraction [-]"),
+    ] = None
+    mach: Annotated[
+        float, Meta(ge=0.0, lt=1.0, description="Free-stream Mach number [-]")
+    ] = 0.0
+
+
+class Body(Struct):
+    """Planar section or body of revolution (axis along x)."""
+
+    kind: Literal["planar", "axisymmetric"] = "planar"
+    radius: Annotated[
+        Points | None,
+        Meta(description="Local body radius per point [length unit]; default |y|"),
+    ] = None
+
+
+class TransitionOptions(Struct):
+    """Transition criterion and optional trips."""
+
+    criterion: Literal["michel", "granville", "abu_ghannam_shaw", "none"] = "michel"
+    trip: Annotated[
+        dict[Literal["upper", "lower", "surface"], Annotated[float, Meta(ge=0.0)]] | None,
+        Meta(
+            description="Forced transition: arc length from the stagnation point or leading "
+            "edge, per side name [length unit]; 0 makes the side turbulent from its start"
+        ),
+    ] = None
+
+
+class LaminarOptions(Struct):
+    """Options of Thwaites' method."""
+
+    separation_lambda: Annotated[
+        float,
+        Meta(
+            ge=-0.1,
+            le=-0.05,
+            description="Thwaites parameter at laminar separation: -0.09 (Thwaites 1949) "
+            "or -0.082 (Curle & Skan 1957) [-]",
+        ),
+    ] = -0.09
+    closure: Literal["cebeci_bradshaw", "white"] = "cebeci_bradshaw"
+
+
+class TurbulentOptions(Struct):
+    """Options of Head's entrainment method."""
+
+    initial_shape_factor: Annotated[
+        float, Meta(ge=1.2, le=1.8, description="Shape factor H just after transition [-]")
+    ] = 1.4
+    separation_shape_factor: Annotated[
+        float, Meta(ge=1.8, le=2.8, description="Shape factor H at turbulent separation [-]")
+    ] = 2.4
+    skin_friction: Literal["ludwieg_tillmann", "white"] = "ludwieg_tillmann"
+
+
+class Inflow(Struct):
+    """A measured state at the first station of a single surface, to march from."""
+
+    theta: Annotated[float, Meta(gt=0.0, description="Momentum thickness [length unit]")]
+    shape_factor: Annotated[float, Meta(ge=1.05, le=4.0, description="Shape factor H [-]")]
+    regime: Literal["laminar", "turbulent"] = "laminar"
+
+
+class MeshOptions(Struct):
+    """Targets for near-wall mesh advice."""
+
+    y_plus: Annotated[
+        list[Annotated[float, Meta(gt=0.0, le=1000.0)]],
+        Meta(min_length=1, max_length=16, description="Target first-cell y+ values [-]"),
+    ] = msgspec.field(default_factory=lambda: [1.0, 30.0])
+
+
+class Case(Struct):
+    """One analysis: geometry, pressure, flow and options."""
+
+    surface: Surface
+    pressure: Pressure
+    flow: Flow
+    body: Body = msgspec.field(default_factory=Body)
+    transition: TransitionOptions = msgspec.field(default_factory=TransitionOptions)
+    laminar: LaminarOptions = msgspec.field(default_factory=LaminarOptions)
+    turbulent: TurbulentOptions = msgspec.field(default_factory=TurbulentOptions)
+    inflow: Inflow | None = None
+    mesh: MeshOptions = msgspec.field(default_factory=MeshOptions)
+    name: Annotated[str, Meta(max_length=200, description="A label carried into the result")] | None = None
+
+
+# ----------------------------------------------------------------------------- result
+
+
+class Stagnation(Struct):
+    """Stagnation point located between input points."""
+
+    x: float
+    y: float
+    position: Annotated[float, Meta(description="Fractional index along the input points")]
+
+
+class TransitionEvent(Struct):
+    """Onset of turbulent flow."""
+
+    s: float
+    x: float | None
+    cause: Literal["criterion", "trip", "laminar_separation"]
+    re_theta: float
+
+
+class LaminarSeparationEvent(Struct):
+    """Laminar separation, with the Owen-Klanfer bubble class."""
+
+    s: float
+    x: float | None
+    bubble: Literal["short", "long"]
+    re_delta_star: float
+
+
+class SeparationEvent(Struct):
+    """Separation that ends the attached boundary layer."""
+
+    s: float
+    x: float | None
+    regime: Literal["laminar", "turbulent"]
+
+
+class FirstCell(Struct):
+    """Smallest first-cell height on a side for a y+ target."""
+
+    y_plus: float
+    height: Annotated[float, Meta(description="First-cell height [length unit]")]
+    s: float
+    x: float | None
+
+
+class MeshAdvice(Struct):
+    """Near-wall mesh figures of one side."""
+
+    first_cell: list[FirstCell]
+    max_thickness: Annotated[
+        float, Meta(description="Largest delta99 estimate on the side [length unit]")
+    ]
+    max_thickness_s: float
+    max_eddy_viscosity_ratio: Annotated[
+        float, Meta(description="Peak outer eddy-to-molecular viscosity ratio [-]")
+    ]
+    max_eddy_viscosity_ratio_s: float
+
+
+class Side(Struct):
+    """Station arrays and events of one side, from its start to separation or its end."""
+
+    name: Literal["upper", "lower", "surface"]
+    s: list[float]
+    x: list[float] | None
+    y: list[float] | None
+    edge_velocity: list[float]
+    theta: list[float]
+    delta_star: list[float]
+    shape_factor: list[float]
+    cf: Annotated[
+        list[float | None],
+        Meta(
+            description="Skin-friction coefficient tau_w / (0.5 rho Ue^2) [-]; null where it is "
+            "undefined (Ue = 0 at a stagnation point, theta = 0 at a sharp leading edge)"
+        ),
+    ]
+    re_theta: list[float]
+    delta99: list[float]
+    regime: list[Literal["laminar", "turbulent"]]
+    transition: TransitionEvent | None
+    laminar_separation: LaminarSeparationEvent | None
+    separation: SeparationEvent | None
+    mesh: MeshAdvice
+
+
+class Notice(Struct):
+    """A warning: a machine-readable code, a message and, where it applies, a JSON pointer."""
+
+    code: str
+    message: str
+    pointer: str | None = None
+
+
+class Result(Struct):
+    """The result document."""
+
+    name: str | None
+    stagnation: Stagnation | None
+    sides: list[Side]
+    options: dict[str, str | float]
+    warnings: list[Notice]
+    caution: str
