@@ -1,4 +1,4 @@
-"""Turbulent boundary layer: Head's entrainment method with a skin-friction law.
+r"""Turbulent boundary layer: Head's entrainment method with a skin-friction law.
 
 Contents
 --------

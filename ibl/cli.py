@@ -1,0 +1,276 @@
+"""Command line: ``ibl run``, ``ibl demo``, ``ibl bench``, ``ibl serve``.
+
+Contents
+--------
+- ``main(argv)``: the entry point.
+- ``load_case(path, overrides)``: a case from JSON or CSV, with options from flags.
+- ``summary(result)``: the readable per-side summary.
+"""
+
+from __future__ import annotations
+
+import argparse
+import csv
+import json
+import math
+import sys
+from importlib import resources
+from pathlib import Path
+from typing import Any
+
+import msgspec
+
+from ibl.analysis import CAUTION, analyze
+from ibl.errors import CaseError
+
+__all__ = ["DEMO_CASE", "load_case", "main", "summary"]
+
+#: The built-in demonstration case (invented data).
+DEMO_CASE = "strut.json"
+
+_CSV_COLUMNS = {
+    ("x", "y", "cp"): ("contour", "cp"),
+    ("x", "y", "edge_velocity"): ("contour", "edge_velocity"),
+    ("s", "cp"): ("single", "cp"),
+    ("s", "edge_velocity"): ("single", "edge_velocity"),
+}
+
+
+def _read_csv(path: Path) -> dict[str, Any]:
+    with path.open(newline="") as handle:
+        rows = list(csv.reader(line for line in handle if not line.lstrip().startswith("#")))
+    if not rows:
+        raise CaseError.at("", f"{path}: empty CSV file")
+    header = tuple(name.strip().lower() for name in rows[0])
+    kind = None
+    for columns, value in _CSV_COLUMNS.items():
+        if set(columns) <= set(header):
+            kind = value
+            break
+    if kind is None:
+        raise CaseError.at(
+            "",
+            f"{path}: the CSV header must hold x,y,cp or x,y,edge_velocity or s,cp or "
+            f"s,edge_velocity; it holds {','.join(header)}",
+        )
+    columns: dict[str, list[float]] = {name: [] for name in header}
+    for number, row in enumerate(rows[1:], start=2):
+        if not any(cell.strip() for cell in row):
+            continue
+        if len(row) != len(header):
+            raise CaseError.at("", f"{path}, line {number}: {len(row)} values, expected {len(header)}")
+        for name, cell in zip(header, row, strict=True):
+            try:
+                columns[name].append(float(cell))
+            except ValueError:
+                raise CaseError.at(
+                    "", f"{path}, line {number}: `{name}` value {cell!r} is not a number"
+                ) from None
+    geometry, pressure = kind
+    surface = (
+        {"x": columns["x"], "y": columns["y"]} if geometry == "contour" else {"s": columns["s"]}
+    )
+    case: dict[str, Any] = {"surface": surface, "pressure": {pressure: columns[pressure]}}
+    if "radius" in columns:
+        case["body"] = {"kind": "axisymmetric", "radius": columns["radius"]}
+    return case
+
+
+def load_case(path: Path, args: argparse.Namespace | None = None) -> dict[str, Any]:
+    """Read a case from a JSON case document or a CSV table, then apply flag overrides."""
+    if path.suffix.lower() == ".csv":
+        case = _read_csv(path)
+    else:
+        try:
+            case = json.loads(path.read_text())
+        except json.JSONDecodeError as error:
+            raise CaseError.at("", f"{path}: malformed JSON: {error}") from None
+        if not isinstance(case, dict):
+            raise CaseError.at("", f"{path}: a case document is a JSON object")
+    if args is not None:
+        _apply_flags(case, args)
+    return case
+
+
+def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
+    flow = case.setdefault("flow", {})
+    if args.reynolds is not None:
+        flow.pop("speed", None)
+        flow.pop("kinematic_viscosity", None)
+        flow["reynolds"] = args.reynolds
+    if args.speed is not None:
+        flow.pop("reynolds", None)
+        flow["speed"] = args.speed
+    if args.viscosity is not None:
+        flow.pop("reynolds", None)
+        flow["kinematic_viscosity"] = args.viscosity
+    if args.mach is not None:
+        flow["mach"] = args.mach
+    if args.turbulence_intensity is not None:
+        flow["turbulence_intensity"] = args.turbulence_intensity
+    transition = case.setdefault("transition", {})
+    if args.criterion is not None:
+        transition["criterion"] = args.criterion
+    trips = {"upper": args.trip_upper, "lower": args.trip_lower, "surface": args.trip}
+    for side, value in trips.items():
+        if value is not None:
+            transition.setdefault("trip", {})[side] = value
+    if args.axisymmetric:
+        case.setdefault("body", {})["kind"] = "axisymmetric"
+    if args.y_plus:
+        case["mesh"] = {"y_plus": args.y_plus}
+    if args.smoothing is not None:
+        case.setdefault("pressure", {})["smoothing"] = (
+            "auto" if args.smoothing == "auto" else float(args.smoothing)
+        )
+
+
+def _fmt(value: float | None, unit: str = "") -> str:
+    if value is None or (isinstance(value, float) and not math.isfinite(value)):
+        return "-"
+    return f"{value:.4g}{unit}"
+
+
+def _where(event: dict[str, Any]) -> str:
+    text = f"s = {_fmt(event['s'])}"
+    if event.get("x") is not None:
+        text += f" (x = {_fmt(event['x'])})"
+    return text
+
+
+def summary(result: dict[str, Any]) -> str:
+    """A readable summary of a result document, one block per side, with the caution."""
+    lines = []
+    if result.get("name"):
+        lines.append(f"Case: {result['name']}")
+    stag = result.get("stagnation")
+    if stag:
+        lines.append(
+            f"Stagnation point: x = {_fmt(stag['x'])}, y = {_fmt(stag['y'])} "
+            f"(between input points, at index {stag['position']:.2f})"
+        )
+    options = result["options"]
+    lines.append(
+        f"Methods: {options['laminar_method']} (lambda_sep = {options['separation_lambda']}), "
+        f"transition {options['transition_criterion']}, {options['turbulent_method']} with "
+        f"{options['skin_friction']} (H_sep = {options['separation_shape_factor']})"
+    )
+    for side in result["sides"]:
+        lines.append("")
+        end = side["s"][-1]
+        lines.append(f"[{side['name']}]  {len(side['s'])} stations, s = 0 to {_fmt(end)}")
+        tr = side["transition"]
+        if tr:
+            cause = {"criterion": "criterion met", "trip": "trip", "laminar_separation": "at laminar separation (short bubble)"}[tr["cause"]]
+            lines.append(f"  transition          {_where(tr)}, {cause}, Re_theta = {_fmt(tr['re_theta'])}")
+        else:
+            lines.append("  transition          none (laminar throughout the attached length)")
+        ls = side["laminar_separation"]
+        if ls:
+            lines.append(
+                f"  laminar separation  {_where(ls)}, Re_delta* = {_fmt(ls['re_delta_star'])}: "
+                f"{ls['bubble']} bubble"
+                + (" (likely to burst: treated as separation)" if ls["bubble"] == "long" else "")
+            )
+        sep = side["separation"]
+        if sep:
+            lines.append(f"  separation          {_where(sep)}, {sep['regime']}")
+        else:
+            lines.append("  separation          none: attached to the end of the surface")
+        m = side["mesh"]
+        for cell in m["first_cell"]:
+            lines.append(
+                f"  first cell y+ = {cell['y_plus']:<6g} height {_fmt(cell['height'])} "
+                f"(smallest, at s = {_fmt(cell['s'])})"
+            )
+        lines.append(
+            f"  largest delta99     {_fmt(m['max_thickness'])} at s = {_fmt(m['max_thickness_s'])}"
+        )
+        lines.append(
+            f"  peak nu_t/nu        {_fmt(m['max_eddy_viscosity_ratio'])}"
+            + (" (turbulent part)" if m["max_eddy_viscosity_ratio"] > 0 else " (laminar only)")
+        )
+    if result["warnings"]:
+        lines.append("")
+        lines.append("Warnings:")
+        lines.extend(f"  [{w['code']}] {w['message']}" for w in result["warnings"])
+    lines.append("")
+    lines.append("Lengths are in the unit of the input coordinates.")
+    lines.append("CAUTION: " + CAUTION)
+    return "\n".join(lines)
+
+
+def _add_case_flags(parser: argparse.ArgumentParser) -> None:
+    parser.add_argument("--format", choices=["text", "json"], default="text")
+    parser.add_argument("--reynolds", type=float, help="Re = U_inf L / nu, L the coordinate unit")
+    parser.add_argument("--speed", type=float, help="free-stream speed [m/s]")
+    parser.add_argument("--viscosity", type=float, help="kinematic viscosity [m^2/s]")
+    parser.add_argument("--mach", type=float)
+    parser.add_argument("--turbulence-intensity", type=float, help="a fraction, e.g. 0.01")
+    parser.add_argument(
+        "--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"]
+    )
+    parser.add_argument("--trip-upper", type=float, help="trip arc length on the upper side")
+    parser.add_argument("--trip-lower", type=float, help="trip arc length on the lower side")
+    parser.add_argument("--trip", type=float, help="trip arc length on a single surface")
+    parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
+    parser.add_argument("--y-plus", type=float, nargs="+", help="first-cell y+ targets")
+    parser.add_argument("--smoothing", help="'auto' or a smoothing-spline penalty")
+
+
+def _parser() -> argparse.ArgumentParser:
+    parser = argparse.ArgumentParser(
+        prog="ibl",
+        description="Integral boundary-layer and transition estimates from a surface "
+        "pressure distribution. " + CAUTION,
+    )
+    commands = parser.add_subparsers(dest="command", required=True)
+    run = commands.add_parser("run", help="analyse a case (JSON case document or CSV taps)")
+    run.add_argument("case", type=Path, help="CASE.json, or a CSV with header x,y,cp or s,edge_velocity")
+    _add_case_flags(run)
+    demo = commands.add_parser("demo", help="analyse the built-in demonstration case")
+    _add_case_flags(demo)
+    bench = commands.add_parser("bench", help="print timing figures of the march")
+    bench.add_argument("--repeat", type=int, default=200)
+    bench.add_argument("--batch", type=int, default=2000, help="sides in the batched run")
+    commands.add_parser("serve", help="run the HTTP service", add_help=False)
+    return parser
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Entry point of the ``ibl`` command."""
+    argv = list(sys.argv[1:] if argv is None else argv)
+    if argv and argv[0] == "serve":
+        from service.serve import main as serve
+
+        return serve(argv[1:])
+    args = _parser().parse_args(argv)
+    if args.command == "bench":
+        from ibl.bench import main as bench
+
+        return bench(repeat=args.repeat, batch=args.batch)
+    try:
+        if args.command == "demo":
+            text = resources.files("ibl").joinpath("data", DEMO_CASE).read_text()
+            case = json.loads(text)
+            _apply_flags(case, args)
+        else:
+            if not args.case.exists():
+                print(f"ibl: {args.case}: no such file", file=sys.stderr)
+                return 2
+            case = load_case(args.case, args)
+        result = analyze(case)
+    except CaseError as error:
+        print("ibl: the case cannot be analysed:", file=sys.stderr)
+        for problem in error.problems:
+            print(f"  {problem.pointer or '/'}: {problem.reason}", file=sys.stderr)
+        return 2
+    if args.format == "json":
+        sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
+    else:
+        print(summary(result))
+    return 0
+
+
+if __name__ == "__main__":  # pragma: no cover
+    raise SystemExit(main())
