@@ -174,7 +174,9 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
             regime="turbulent" if state.separation_turbulent else "laminar",
         )
     cf = state.cf
-    cf_list: list[float | None] = [None if math.isnan(v) else v for v in cf.tolist()]
+    cf_list: list[float | None] = cf.tolist()
+    for i in np.flatnonzero(np.isnan(cf)).tolist():
+        cf_list[i] = None
     side_out = Side(
         name=side.name,
         s=_list(state.s + offset),
@@ -198,26 +200,20 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
 
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
     ok = np.isfinite(state.cf) & (state.ue > 0.0)
-    u_tau = mesh.friction_velocity(np.where(ok, state.ue, 1.0), np.where(ok, state.cf, 1.0))
     cells = []
-    for y_plus in side.options.y_plus:
-        if ok.any():
-            height = np.where(ok, mesh.first_cell_height(y_plus, side.nu, u_tau), np.inf)
-            i = int(np.argmin(height))
-            cells.append(
-                FirstCell(
-                    y_plus=y_plus,
-                    height=float(height[i]),
-                    s=float(state.s[i] + side.offset),
-                    x=float(side.x[i]) if side.x is not None else None,
-                )
-            )
+    if ok.any():
+        u_tau = mesh.friction_velocity(np.where(ok, state.ue, 1.0), np.where(ok, state.cf, 1.0))
+        # The smallest height for every target is where u_tau is largest.
+        i = int(np.argmax(np.where(ok, u_tau, -np.inf)))
+        x = float(side.x[i]) if side.x is not None else None
+        heights = mesh.first_cell_height(np.asarray(side.options.y_plus), side.nu, u_tau[i])
+        cells = [
+            FirstCell(y_plus=y_plus, height=height, s=float(state.s[i] + side.offset), x=x)
+            for y_plus, height in zip(side.options.y_plus, heights.tolist(), strict=True)
+        ]
     i_thick = int(np.argmax(state.delta99))
-    ratio = np.where(
-        state.turbulent,
-        mesh.eddy_viscosity_ratio_clauser(state.re_theta * state.shape_factor),
-        0.0,
-    )
+    ratio = mesh.eddy_viscosity_ratio_clauser(state.re_theta * state.shape_factor)
+    ratio = np.where(state.turbulent, ratio, 0.0)
     i_ratio = int(np.argmax(ratio))
     return MeshAdvice(
         first_cell=cells,

@@ -58,7 +58,9 @@ def _read_csv(path: Path) -> dict[str, Any]:
         if not any(cell.strip() for cell in row):
             continue
         if len(row) != len(header):
-            raise CaseError.at("", f"{path}, line {number}: {len(row)} values, expected {len(header)}")
+            raise CaseError.at(
+                "", f"{path}, line {number}: {len(row)} values, expected {len(header)}"
+            )
         for name, cell in zip(header, row, strict=True):
             try:
                 columns[name].append(float(cell))
@@ -131,6 +133,13 @@ def _fmt(value: float | None, unit: str = "") -> str:
     return f"{value:.4g}{unit}"
 
 
+_CAUSES = {
+    "criterion": "criterion met",
+    "trip": "trip",
+    "laminar_separation": "at laminar separation (short bubble)",
+}
+
+
 def _where(event: dict[str, Any]) -> str:
     text = f"s = {_fmt(event['s'])}"
     if event.get("x") is not None:
@@ -161,8 +170,14 @@ def summary(result: dict[str, Any]) -> str:
         lines.append(f"[{side['name']}]  {len(side['s'])} stations, s = 0 to {_fmt(end)}")
         tr = side["transition"]
         if tr:
-            cause = {"criterion": "criterion met", "trip": "trip", "laminar_separation": "at laminar separation (short bubble)"}[tr["cause"]]
-            lines.append(f"  transition          {_where(tr)}, {cause}, Re_theta = {_fmt(tr['re_theta'])}")
+            cause = {
+                "criterion": "criterion met",
+                "trip": "trip",
+                "laminar_separation": "at laminar separation (short bubble)",
+            }[tr["cause"]]
+            lines.append(
+                f"  transition          {_where(tr)}, {cause}, Re_theta = {_fmt(tr['re_theta'])}"
+            )
         else:
             lines.append("  transition          none (laminar throughout the attached length)")
         ls = side["laminar_separation"]
@@ -207,9 +222,7 @@ def _add_case_flags(parser: argparse.ArgumentParser) -> None:
     parser.add_argument("--viscosity", type=float, help="kinematic viscosity [m^2/s]")
     parser.add_argument("--mach", type=float)
     parser.add_argument("--turbulence-intensity", type=float, help="a fraction, e.g. 0.01")
-    parser.add_argument(
-        "--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"]
-    )
+    parser.add_argument("--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"])
     parser.add_argument("--trip-upper", type=float, help="trip arc length on the upper side")
     parser.add_argument("--trip-lower", type=float, help="trip arc length on the lower side")
     parser.add_argument("--trip", type=float, help="trip arc length on a single surface")
@@ -226,7 +239,9 @@ def _parser() -> argparse.ArgumentParser:
     )
     commands = parser.add_subparsers(dest="command", required=True)
     run = commands.add_parser("run", help="analyse a case (JSON case document or CSV taps)")
-    run.add_argument("case", type=Path, help="CASE.json, or a CSV with header x,y,cp or s,edge_velocity")
+    run.add_argument(
+        "case", type=Path, help="CASE.json, or a CSV with header x,y,cp or s,edge_velocity"
+    )
     _add_case_flags(run)
     demo = commands.add_parser("demo", help="analyse the built-in demonstration case")
     _add_case_flags(demo)

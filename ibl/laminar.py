@@ -156,7 +156,7 @@ def shear_white_1974(lam: ArrayLike) -> F64:
     Valid for -0.09 <= lambda <= 0.25.
 
     >>> round(float(shear_white_1974(0.0)), 4)
-    0.2249
+    0.2247
 
     References
     ----------

@@ -116,7 +116,7 @@ def stagnation_cp(mach: float, gamma: float = GAMMA) -> float:
         Cp at stagnation [-].
 
     >>> round(stagnation_cp(0.5), 4)
-    1.0637
+    1.0641
 
     References
     ----------
@@ -177,9 +177,9 @@ def edge_velocity_from_cp(cp: ArrayLike, mach: float = 0.0, gamma: float = GAMMA
 
 
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
-    array = np.asarray(values, dtype=np.float64)
-    bad = np.flatnonzero(~np.isfinite(array))
-    if bad.size:
+    array = np.array(values, dtype=np.float64)
+    if not np.isfinite(array.sum()):
+        bad = np.flatnonzero(~np.isfinite(array))
         problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
     return array
 
@@ -247,9 +247,7 @@ def _check_structure(case: Case) -> list[FieldProblem]:
         missing = "/flow/speed" if flow.speed is None else "/flow/kinematic_viscosity"
         problems.append(FieldProblem(missing, "is required when reynolds is not given"))
     if contour and case.inflow is not None:
-        problems.append(
-            FieldProblem("/inflow", "applies to single-surface input (surface.s) only")
-        )
+        problems.append(FieldProblem("/inflow", "applies to single-surface input (surface.s) only"))
     if case.transition.criterion == "abu_ghannam_shaw" and flow.turbulence_intensity is None:
         problems.append(
             FieldProblem(
@@ -489,8 +487,11 @@ def _split_contour(
         k = int(np.flatnonzero(order == (k % (n - 1)))[0])
     if 0 < k < n - 1:
         # Near stagnation Ue = a |S - S0|, so q = a^2 (S - S0)^2 + q0: a parabola in S.
-        s3, q3 = arc[k - 1 : k + 2], q[k - 1 : k + 2]
-        c2, c1, _ = np.polyfit(s3 - arc[k], q3, 2)
+        # Parabola through the three points around the smallest q (divided differences).
+        h0, h1 = arc[k] - arc[k - 1], arc[k + 1] - arc[k]
+        d0, d1 = (q[k] - q[k - 1]) / h0, (q[k + 1] - q[k]) / h1
+        c2 = float((d1 - d0) / (h0 + h1))
+        c1 = float(d0 + c2 * h0)  # slope at arc[k]
         vertex = arc[k] - 0.5 * c1 / c2 if c2 > 0.0 else 0.0
         s0 = float(np.clip(vertex, arc[k - 1], arc[k + 1])) if c2 > 0.0 else float(arc[k])
         slope = float(np.sqrt(c2)) if c2 > 0.0 else float("nan")
@@ -508,47 +509,71 @@ def _split_contour(
             )
         )
         slope = float("nan")
-    position = float(np.interp(s0, arc, np.arange(n, dtype=np.float64)))
+    # The stagnation point lies on the segment from point i0 to i0 + 1.
+    i0 = int(min(max(np.searchsorted(arc, s0, side="right") - 1, 0), n - 2))
+    frac = (s0 - arc[i0]) / (arc[i0 + 1] - arc[i0])
+    position = float(i0 + frac)
     if shift:
         position = (position + shift) % (n - 1)
-    x0, y0 = float(np.interp(s0, arc, x)), float(np.interp(s0, arc, y))
-    r0 = float(np.interp(s0, arc, radius)) if radius is not None else 1.0
+    x0 = float(x[i0] + frac * (x[i0 + 1] - x[i0]))
+    y0 = float(y[i0] + frac * (y[i0 + 1] - y[i0]))
+    r0 = float(radius[i0] + frac * (radius[i0 + 1] - radius[i0])) if radius is not None else 1.0
     stagnation = Stagnation(x=x0, y=y0, position=position)
     tol = 1e-9 * total
-    ue = np.sqrt(q)
-    sides: list[SideInput] = []
-    branches = (np.flatnonzero(arc < s0 - tol)[::-1], np.flatnonzero(arc > s0 + tol))
-    mean_y = [float(np.mean(y[b])) if b.size else -np.inf for b in branches]
+    # Points before the stagnation point (walked backwards) and after it; a point within
+    # tol of it is the stagnation station itself.
+    last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
+    first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
+    branches = (
+        slice(last_before, None, -1) if last_before >= 0 else slice(0, 0),
+        slice(first_after, n),
+    )
+    sizes = (max(last_before + 1, 0), n - first_after)
+    mean_y = [
+        float(y[b].mean()) if size else -np.inf for b, size in zip(branches, sizes, strict=True)
+    ]
     upper_first = mean_y[0] >= mean_y[1]
     start: Literal["stagnation", "sharp"] = "sharp" if np.isnan(slope) else "stagnation"
-    for index, branch in enumerate(branches):
-        if branch.size + 1 < MIN_POINTS:
+    ue = np.sqrt(q)
+    ue_start = 0.0 if start == "stagnation" else float(ue[k])
+    sides: list[SideInput] = []
+    for index, (branch, size) in enumerate(zip(branches, sizes, strict=True)):
+        if size + 1 < MIN_POINTS:
             continue
         name: Literal["upper", "lower"] = "upper" if (index == 0) == upper_first else "lower"
-        s = np.concatenate(([0.0], np.abs(arc[branch] - s0)))
-        u = np.concatenate(([0.0 if start == "stagnation" else ue[k]], ue[branch]))
-        r = (
-            np.concatenate(([r0], radius[branch]))
-            if radius is not None
-            else np.ones(branch.size + 1)
-        )
+        side_s = np.empty(size + 1)
+        side_s[0] = 0.0
+        side_s[1:] = np.abs(arc[branch] - s0)
+        u = np.empty(size + 1)
+        u[0] = ue_start
+        u[1:] = ue[branch]
+        r = np.ones(size + 1)
+        if radius is not None:
+            r[0] = r0
+            r[1:] = radius[branch]
         if axisymmetric:
             zero = np.flatnonzero(r[1:-1] <= 0.0)
             if zero.size:
-                i = int(branch[zero[0]])
+                i = int(np.arange(n)[branch][zero[0]])
                 raise CaseError.at(
-                    f"/body/radius/{i}",
+                    f"/body/radius/{(i + shift) % (n - 1) if shift else i}",
                     "the body radius must be positive between the nose and the tail",
                 )
+        side_x = np.empty(size + 1)
+        side_x[0] = x0
+        side_x[1:] = x[branch]
+        side_y = np.empty(size + 1)
+        side_y[0] = y0
+        side_y[1:] = y[branch]
         sides.append(
             SideInput(
                 name=name,
-                s=s,
+                s=side_s,
                 offset=0.0,
                 ue=u,
                 r=r,
-                x=np.concatenate(([x0], x[branch])),
-                y=np.concatenate(([y0], y[branch])),
+                x=side_x,
+                y=side_y,
                 nu=nu,
                 axisymmetric=axisymmetric,
                 start=start,
@@ -560,8 +585,9 @@ def _split_contour(
                 options=options,
             )
         )
+    sides.sort(key=lambda side: side.name != "upper")
     if not sides:
-        raise CaseError.at("/surface", f"too few points on either side of the stagnation point")
+        raise CaseError.at("/surface", "too few points on either side of the stagnation point")
     if len(sides) == 2 and sides[0].name == sides[1].name:
         raise CaseError.at("/surface", "could not tell the upper side from the lower side")
     return sides, stagnation

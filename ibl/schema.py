@@ -24,8 +24,8 @@ __all__ = [
     "MAX_POINTS",
     "Body",
     "Case",
-    "Flow",
     "FirstCell",
+    "Flow",
     "Inflow",
     "LaminarOptions",
     "LaminarSeparationEvent",
@@ -78,9 +78,9 @@ class Surface(Struct):
 class Pressure(Struct):
     """Surface pressure: pressure coefficient or edge velocity, one value per point."""
 
-    cp: Annotated[
-        Points | None, Meta(description="Pressure coefficient Cp [-], one per point")
-    ] = None
+    cp: Annotated[Points | None, Meta(description="Pressure coefficient Cp [-], one per point")] = (
+        None
+    )
     edge_velocity: Annotated[
         Points | None,
         Meta(description="Edge velocity Ue/U_inf [-], one per point (sign ignored)"),
@@ -111,9 +111,7 @@ class Flow(Struct):
         Annotated[float, Meta(ge=0.0, le=0.2)] | None,
         Meta(description="Free-stream turbulence intensity Tu, a fraction [-]"),
     ] = None
-    mach: Annotated[
-        float, Meta(ge=0.0, lt=1.0, description="Free-stream Mach number [-]")
-    ] = 0.0
+    mach: Annotated[float, Meta(ge=0.0, lt=1.0, description="Free-stream Mach number [-]")] = 0.0
 
 
 class Body(Struct):
@@ -195,7 +193,9 @@ class Case(Struct):
     turbulent: TurbulentOptions = msgspec.field(default_factory=TurbulentOptions)
     inflow: Inflow | None = None
     mesh: MeshOptions = msgspec.field(default_factory=MeshOptions)
-    name: Annotated[str, Meta(max_length=200, description="A label carried into the result")] | None = None
+    name: (
+        Annotated[str, Meta(max_length=200, description="A label carried into the result")] | None
+    ) = None
 
 
 # ----------------------------------------------------------------------------- result

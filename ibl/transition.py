@@ -77,7 +77,7 @@ def re_theta_transition_michel_1951(re_s: ArrayLike) -> F64:
     Coefficients recalled [memory] from Cebeci & Smith (1974).
 
     >>> round(float(re_theta_transition_michel_1951(1e6)), 1)
-    713.5
+    690.7
 
     References
     ----------
@@ -186,7 +186,7 @@ def re_theta_transition_abu_ghannam_shaw_1980(lam: ArrayLike, tu: ArrayLike) -> 
     Data range about 0.3 % <= Tu <= 5 % [memory].
 
     >>> round(float(re_theta_transition_abu_ghannam_shaw_1980(0.0, 1.0)), 1)
-    529.2
+    531.7
 
     References
     ----------

@@ -1,0 +1,164 @@
+"""Timing figures of the march (``ibl bench``): printed, never asserted.
+
+Contents
+--------
+- ``ellipse_case(n)``: a benchmark case, an ellipse section at incidence (potential-flow
+  Cp), n points per side, transition and turbulent separation on both sides.
+- ``reference_side(side)``: a straightforward per-side implementation with scipy
+  (CubicSpline, cumulative Simpson quadrature, ``solve_ivp`` with a separation event),
+  timed in the same run and used to show that the fast march gives the same answers.
+- ``main()``: prints microseconds per side at N = 200 and 400, single and batched.
+"""
+
+from __future__ import annotations
+
+import statistics
+import time
+from collections.abc import Callable
+from typing import Any
+
+import numpy as np
+
+from ibl.analysis import analyze, parse_case, run, run_batch
+from ibl.march import march
+from ibl.prepare import SideInput, prepare
+
+__all__ = ["ellipse_case", "main", "reference_side"]
+
+
+def ellipse_case(n: int, reynolds: float = 2e6) -> dict[str, Any]:
+    """A 4:1 ellipse at 4 degrees, unit chord, exact potential-flow Cp, n points per side."""
+    a, b, alpha = 0.5, 0.125, np.radians(4.0)
+    eta = np.linspace(0.0, 2.0 * np.pi, 2 * n + 1)
+    speed = (
+        (a + b)
+        * np.abs(np.sin(eta - alpha))
+        / np.sqrt(a**2 * np.sin(eta) ** 2 + b**2 * np.cos(eta) ** 2)
+    )
+    return {
+        "surface": {"x": (a + a * np.cos(eta)).tolist(), "y": (b * np.sin(eta)).tolist()},
+        "pressure": {"cp": (1.0 - speed**2).tolist()},
+        "flow": {"reynolds": reynolds},
+    }
+
+
+def reference_side(side: SideInput) -> dict[str, float]:
+    """Thwaites + Michel + Head on one side with general-purpose scipy tools, no shortcuts.
+
+    Planar sides from a stagnation point only; the laminar closure and correlations are
+    the library's documented vectorised functions.
+    """
+    from scipy.integrate import cumulative_simpson, solve_ivp
+    from scipy.interpolate import CubicSpline
+
+    from ibl import laminar, transition, turbulent
+
+    s, ue, nu = side.s, side.ue, side.nu
+    spline = CubicSpline(s, ue)
+    fine = np.linspace(0.0, s[-1], 4001)
+    u = np.maximum(spline(fine), 0.0)
+    theta2 = 0.45 * nu * cumulative_simpson(u**5, x=fine, initial=0.0)
+    stagnation = 0.075 * nu / side.slope  # Ue = a s near s = 0, where the ratio is 0/0
+    with np.errstate(divide="ignore", invalid="ignore"):
+        theta2 = np.where(fine > 0.002 * s[-1], theta2 / u**6, stagnation)
+    lam = theta2 * spline(fine, 1) / nu
+    re_theta = u * np.sqrt(theta2) / nu
+    with np.errstate(divide="ignore"):
+        margin = re_theta - transition.re_theta_transition_michel_1951(u * fine / nu)
+    lsep = np.argmax(lam[1:] <= side.options.separation_lambda) + 1
+    tr = np.argmax(margin[1:] >= 0.0) + 1
+    if lam[lsep] > side.options.separation_lambda:
+        lsep = fine.size
+    if margin[tr] < 0.0:
+        tr = fine.size
+    start = min(lsep, tr)
+    if start >= fine.size:
+        return {"transition": np.nan, "separation": np.nan}
+    s0 = fine[start]
+
+    def rhs(x: float, y: Any) -> list[float]:
+        theta, h1 = y
+        uu, du = float(spline(x)), float(spline(x, 1))
+        h = float(turbulent.shape_factor_from_h1_head_1958(h1))
+        cf = float(turbulent.cf_ludwieg_tillmann_1949(h, uu * theta / nu))
+        grad = theta * du / uu
+        return [
+            0.5 * cf - (h + 2) * grad,
+            (
+                float(turbulent.entrainment_coefficient_head_1958(h1))
+                - h1 * (0.5 * cf - (h + 1) * grad)
+            )
+            / theta,
+        ]
+
+    def separated(x: float, y: Any) -> float:
+        return float(turbulent.shape_factor_from_h1_head_1958(y[1])) - 2.4
+
+    separated.terminal = True  # type: ignore[attr-defined]
+    y0 = [float(np.sqrt(theta2[start])), float(turbulent.entrainment_shape_factor_head_1958(1.4))]
+    sol = solve_ivp(rhs, (s0, s[-1]), y0, events=separated, rtol=1e-6, atol=1e-12)
+    sep = float(sol.t_events[0][0]) if sol.t_events[0].size else np.nan
+    del laminar
+    return {"transition": float(s0), "separation": sep}
+
+
+def _time(function: Callable[[], object], repeat: int) -> float:
+    """Median wall time of ``function`` in seconds over ``repeat`` calls (after a warm-up)."""
+    function()
+    times = []
+    for _ in range(repeat):
+        start = time.perf_counter()
+        function()
+        times.append(time.perf_counter() - start)
+    return statistics.median(times)
+
+
+def _figures(n: int, repeat: int, batch: int) -> None:
+    doc = ellipse_case(n)
+    case = parse_case(doc)
+    sides = prepare(case).sides
+    n_sides = len(sides)
+    many = [side for _ in range(batch // n_sides) for side in sides]
+    cases = [case] * (batch // n_sides)
+    rows = [
+        ("march, one case (numpy arrays in and out)", lambda: march(sides), repeat, n_sides),
+        (f"march, batch of {len(many)} sides in lockstep", lambda: march(many), 5, len(many)),
+        ("run(Case) -> Result, one case", lambda: run(case), repeat, n_sides),
+        (f"run_batch, {len(cases)} cases", lambda: run_batch(cases), 5, len(many)),
+        ("analyze(dict) -> dict, one case", lambda: analyze(doc), repeat, n_sides),
+        (
+            "reference: scipy solve_ivp per side",
+            lambda: [reference_side(x) for x in sides],
+            5,
+            n_sides,
+        ),
+    ]
+    for label, function, times, count in rows:
+        per_side = _time(function, times) / count
+        per_case = per_side * n_sides
+        print(f"{n:>7} {label:<46} {per_case * 1e3:>8.3f} ms {per_side * 1e6:>8.1f} us")
+    ours = run(case)
+    for side, result_side in zip(sides, ours.sides, strict=True):
+        ref = reference_side(side)
+        tr = result_side.transition.s if result_side.transition else np.nan
+        sep = result_side.separation.s if result_side.separation else np.nan
+        print(
+            f"{'':>7} {side.name}: transition s = {tr:.5f} (scipy {ref['transition']:.5f}), "
+            f"separation s = {sep:.5f} (scipy {ref['separation']:.5f})"
+        )
+    march_rate = len(many) / _time(lambda: march(many), 3)
+    run_rate = len(many) / _time(lambda: run_batch(cases), 3)
+    print(
+        f"{'':>7} sides per second in a batch: {march_rate:,.0f} (march), "
+        f"{run_rate:,.0f} (run_batch)"
+    )
+
+
+def main(repeat: int = 200, batch: int = 2000) -> int:
+    """Print timing figures; return 0."""
+    print("ibl bench: median wall time, one process, one core")
+    print(f"{'N/side':>7} {'what':<46} {'per case':>11} {'per side':>11}")
+    for n in (200, 400):
+        _figures(n, repeat, batch)
+    print("Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch.")
+    return 0

@@ -1,0 +1,634 @@
+"""The compiled march: every side from its start to separation or its end.
+
+Contents
+--------
+- ``march_sides``: one compiled loop over sides (sides along axis 0 of padded arrays,
+  stations along axis 1): Thwaites' integral, laminar separation, the transition
+  criterion, the bubble class, then Head's equations from transition to separation.
+- Scalar twins of the published correlations in ``ibl.laminar``, ``ibl.transition`` and
+  ``ibl.turbulent``: those modules hold the documented, vectorised definitions; the twins
+  here repeat the same formulas for the compiled loop, and ``tests/test_kernel.py`` checks
+  that every twin agrees with its definition.
+
+Why compiled: the turbulent layer is an initial-value problem, sequential along each side;
+a per-station loop in Python costs milliseconds per side.  Compiling the whole side march
+keeps one analysis well under a millisecond while a batch of sides still goes through
+one call.
+"""
+
+from __future__ import annotations
+
+import numba
+import numpy as np
+from numpy.typing import NDArray
+
+from ibl.laminar import GAUSS_NODES, GAUSS_WEIGHTS, LAMBDA_MAX, THWAITES_A, THWAITES_B
+from ibl.transition import GRANVILLE_INSTABILITY_TABLE, OWEN_KLANFER_RE_DELTA_STAR
+from ibl.turbulent import H1_SWITCH
+
+__all__ = [
+    "CAUSE_CRITERION",
+    "CAUSE_LAMINAR_SEPARATION",
+    "CAUSE_TRIP",
+    "CLOSURE_CODES",
+    "CRITERION_CODES",
+    "START_INFLOW",
+    "START_SHARP",
+    "START_STAGNATION",
+    "START_TURBULENT",
+    "march_sides",
+]
+
+F64 = NDArray[np.float64]
+
+CRITERION_CODES = {"none": 0, "michel": 1, "granville": 2, "abu_ghannam_shaw": 3}
+CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
+START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
+CAUSE_CRITERION, CAUSE_TRIP, CAUSE_LAMINAR_SEPARATION = 0, 1, 2
+
+#: A turbulent layer tripped at a stagnation point or sharp edge starts this fraction of
+#: the side length downstream, where Ue and theta are positive.
+START_OFFSET = 1e-4
+#: Largest internal step of the turbulent march, as a fraction of the side length.
+MAX_STEP = 0.06
+#: Step limits of the turbulent march: largest relative change of Ue and theta per step,
+#: and largest relative change of H1 - 3.3 per step.  Against a run with twenty times
+#: smaller steps, these move separation by less than 0.002 % of the side length and
+#: theta and H by less than 0.3 % on the reference cases (tests/test_kernel.py).
+STEP_UE, STEP_THETA, STEP_H1 = 0.15, 0.15, 0.06
+#: Largest step as a fraction of the distance from the side's origin (resolves the 1/s
+#: terms of a start at a stagnation point, a nose or a sharp edge).
+STEP_ORIGIN = 0.3
+#: Laminar delta99/theta of the Blasius layer, 4.91/0.664 (common practice).
+LAMINAR_DELTA99_RATIO = 4.91 / 0.664
+
+_GN = GAUSS_NODES.copy()
+_GW = GAUSS_WEIGHTS.copy()
+_G_LAM = GRANVILLE_INSTABILITY_TABLE[:, 0].copy()
+_G_LOG_RE = np.log(GRANVILLE_INSTABILITY_TABLE[:, 1])
+
+# ----------------------------------------------------------------------------- twins
+
+
+@numba.njit(cache=True)
+def shear(closure: int, lam: float) -> float:
+    """Twin of ``ibl.laminar`` l(lambda) closures."""
+    if closure == 1:
+        return max(lam + 0.09, 0.0) ** 0.62
+    if lam >= 0.0:
+        return 0.22 + 1.57 * lam - 1.8 * lam * lam
+    return 0.22 + 1.402 * lam + 0.018 * lam / (lam + 0.107)
+
+
+@numba.njit(cache=True)
+def shape_factor(closure: int, lam: float) -> float:
+    """Twin of ``ibl.laminar`` H(lambda) closures."""
+    if closure == 1:
+        z = 0.25 - lam
+        return 2.0 + z * (4.14 + z * (-83.5 + z * (854.0 + z * (-3337.0 + z * 4576.0))))
+    if lam >= 0.0:
+        return 2.61 - 3.75 * lam + 5.24 * lam * lam
+    return 2.088 + 0.0731 / (lam + 0.14)
+
+
+@numba.njit(cache=True)
+def michel(re_s: float) -> float:
+    """Twin of ``ibl.transition.re_theta_transition_michel_1951``."""
+    return 1.174 * (1.0 + 22400.0 / re_s) * re_s**0.46
+
+
+@numba.njit(cache=True)
+def granville_instability(lam: float) -> float:
+    """Twin of ``ibl.transition.re_theta_instability_granville_1953``."""
+    return float(np.exp(np.interp(lam, _G_LAM, _G_LOG_RE)))
+
+
+@numba.njit(cache=True)
+def granville_growth(lam_mean: float) -> float:
+    """Twin of ``ibl.transition.re_theta_growth_granville_1953``."""
+    return 375.0 + np.exp(6.1 + 55.0 * min(max(lam_mean, -0.04), 0.04))
+
+
+@numba.njit(cache=True)
+def abu_ghannam_shaw(lam: float, tu_percent: float) -> float:
+    """Twin of ``ibl.transition.re_theta_transition_abu_ghannam_shaw_1980``."""
+    lam = min(max(lam, -0.1), 0.1)
+    if lam <= 0.0:
+        f = 6.91 + 12.75 * lam + 63.64 * lam * lam
+    else:
+        f = 6.91 + 2.48 * lam - 12.27 * lam * lam
+    return 163.0 + np.exp(f - f * tu_percent / 6.91)
+
+
+@numba.njit(cache=True)
+def h1_from_h(h: float) -> float:
+    """Twin of ``ibl.turbulent.entrainment_shape_factor_head_1958``."""
+    if h <= 1.6:
+        return 3.3 + 0.8234 * max(h - 1.1, 1e-12) ** -1.287
+    return 3.3 + 1.5501 * max(h - 0.6778, 1e-12) ** -3.064
+
+
+@numba.njit(cache=True)
+def h_from_h1(h1: float) -> float:
+    """Twin of ``ibl.turbulent.shape_factor_from_h1_head_1958``."""
+    excess = max(h1 - 3.3, 1e-12)
+    if excess >= H1_SWITCH - 3.3:
+        return 1.1 + (excess / 0.8234) ** (-1.0 / 1.287)
+    return 0.6778 + (excess / 1.5501) ** (-1.0 / 3.064)
+
+
+@numba.njit(cache=True)
+def entrainment(h1: float) -> float:
+    """Twin of ``ibl.turbulent.entrainment_coefficient_head_1958``."""
+    return 0.0306 * max(h1 - 3.0, 1e-12) ** -0.6169
+
+
+@numba.njit(cache=True)
+def cf_turbulent(law: int, h: float, re_theta: float) -> float:
+    """Twins of ``ibl.turbulent.cf_ludwieg_tillmann_1949`` (law 0), ``cf_white_1974`` (1)."""
+    if law == 0:
+        return 0.246 * 10.0 ** (-0.678 * h) * max(re_theta, 1e-300) ** -0.268
+    log_re = np.log10(max(re_theta, 20.0))
+    return 0.3 * np.exp(-1.33 * h) / log_re ** (1.74 + 0.31 * h)
+
+
+# ----------------------------------------------------------------------------- helpers
+
+
+@numba.njit(cache=True)
+def _hermite(t: float, h: float, f0: float, f1: float, d0: float, d1: float) -> tuple[float, float]:
+    """Cubic Hermite value and derivative at fraction t of an interval of length h."""
+    t2 = t * t
+    t3 = t2 * t
+    value = (
+        (2 * t3 - 3 * t2 + 1) * f0
+        + (t3 - 2 * t2 + t) * h * d0
+        + (-2 * t3 + 3 * t2) * f1
+        + (t3 - t2) * h * d1
+    )
+    slope = (6 * t2 - 6 * t) * (f0 - f1) / h + (3 * t2 - 4 * t + 1) * d0 + (3 * t2 - 2 * t) * d1
+    return value, slope
+
+
+@numba.njit(cache=True)
+def _derivative(s: F64, f: F64, n: int, out: F64) -> None:
+    """Three-point, second-order derivative on a non-uniform grid (one-sided at the ends)."""
+    for i in range(1, n - 1):
+        h1 = s[i] - s[i - 1]
+        h2 = s[i + 1] - s[i]
+        out[i] = (
+            -h2 / (h1 * (h1 + h2)) * f[i - 1]
+            + (h2 - h1) / (h1 * h2) * f[i]
+            + h1 / (h2 * (h1 + h2)) * f[i + 1]
+        )
+    a = s[1] - s[0]
+    b = s[2] - s[1]
+    out[0] = (
+        -(2 * a + b) / (a * (a + b)) * f[0] + (a + b) / (a * b) * f[1] - a / (b * (a + b)) * f[2]
+    )
+    a = s[n - 1] - s[n - 2]
+    b = s[n - 2] - s[n - 3]
+    out[n - 1] = (
+        (2 * a + b) / (a * (a + b)) * f[n - 1]
+        - (a + b) / (a * b) * f[n - 2]
+        + a / (b * (a + b)) * f[n - 3]
+    )
+
+
+@numba.njit(cache=True)
+def _crossing(s: F64, g0: float, g1: float, i: int) -> float:
+    """Position between stations i-1 and i where g crosses zero (linear in g)."""
+    if i == 0:
+        return s[0]
+    frac = 1.0
+    if np.isfinite(g0) and g0 != g1:
+        frac = min(max(g0 / (g0 - g1), 0.0), 1.0)
+    return s[i - 1] + frac * (s[i] - s[i - 1])
+
+
+@numba.njit(cache=True)
+def _interp(s: F64, v: F64, n: int, at: float) -> float:
+    """Linear interpolation of v(s) at one position inside [s[0], s[n-1]]."""
+    if at <= s[0]:
+        return v[0]
+    j = 1
+    while j < n - 1 and s[j] < at:
+        j += 1
+    frac = (at - s[j - 1]) / (s[j] - s[j - 1])
+    return v[j - 1] + min(max(frac, 0.0), 1.0) * (v[j] - v[j - 1])
+
+
+@numba.njit(cache=True)
+def _rhs(
+    theta: float,
+    h1: float,
+    ue: float,
+    due: float,
+    r: float,
+    dr: float,
+    inv_nu: float,
+    law: int,
+    axisymmetric: bool,
+) -> tuple[float, float]:
+    r"""Head (1958): d theta/ds and d H1/ds (r eliminated from the entrainment equation)."""
+    h = h_from_h1(h1)
+    cf = cf_turbulent(law, h, ue * theta * inv_nu)
+    grad = theta * due / ue
+    dtheta = 0.5 * cf - (h + 2.0) * grad
+    if axisymmetric:
+        dtheta -= theta * dr / r
+    dh1 = (entrainment(h1) - h1 * (0.5 * cf - (h + 1.0) * grad)) / theta
+    return dtheta, dh1
+
+
+@numba.njit(cache=True)
+def _edge(
+    s: F64, ue: F64, due: F64, r: F64, dr: F64, j: int, n: int, at: float
+) -> tuple[int, float, float, float, float]:
+    """Interval index (moving forward from ``j``) and Hermite-interpolated Ue, Ue', r, r'."""
+    while j < n - 2 and s[j + 1] < at:
+        j += 1
+    length = s[j + 1] - s[j]
+    t = (at - s[j]) / length
+    u, du = _hermite(t, length, ue[j], ue[j + 1], due[j], due[j + 1])
+    rr, drr = _hermite(t, length, r[j], r[j + 1], dr[j], dr[j + 1])
+    return j, u, du, rr, drr
+
+
+@numba.njit(cache=True)
+def _head(
+    s: F64,
+    ue: F64,
+    due: F64,
+    r: F64,
+    dr: F64,
+    n: int,
+    start: float,
+    theta0: float,
+    h0: float,
+    inv_nu: float,
+    h_separation: float,
+    law: int,
+    axisymmetric: bool,
+    theta_out: F64,
+    h_out: F64,
+    scale: float,
+) -> tuple[float, int]:
+    """Head's equations from ``start`` by classical Runge-Kutta with limited steps.
+
+    Returns the separation position (NaN when attached to the end) and the step count.
+    """
+    origin = s[0]
+    end = s[n - 1]
+    span = end - origin
+    pos = start
+    theta = theta0
+    h1 = h1_from_h(h0)
+    j = 0
+    while j < n - 2 and s[j + 1] <= pos:
+        j += 1
+    m = j if s[j] >= pos else j + 1  # next station to fill
+    j, u, du, rr, drr = _edge(s, ue, due, r, dr, j, n, pos)
+    if not (u > 0.0 and rr > 0.0) or h0 >= h_separation:
+        return pos, 0
+    f_theta, f_h1 = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
+    steps = 0
+    while True:
+        while m < n and s[m] <= pos:
+            theta_out[m] = theta
+            h_out[m] = h_from_h1(h1)
+            m += 1
+        if m >= n or pos >= end:
+            return np.nan, steps
+        step = min(scale * MAX_STEP * span, end - pos)
+        step = min(step, max(scale * STEP_ORIGIN * (pos - origin), 1e-9 * span))
+        step = min(step, scale * STEP_UE * u / max(abs(du), 1e-300))
+        step = min(step, scale * STEP_THETA * theta / max(abs(f_theta), 1e-300))
+        step = min(step, scale * STEP_H1 * (h1 - 3.3) / max(abs(f_h1), 1e-300))
+        if end - pos - step < 1e-9 * span:
+            step = end - pos
+        steps += 1
+        jj, u2, du2, r2, dr2 = _edge(s, ue, due, r, dr, j, n, pos + 0.5 * step)
+        th2 = theta + 0.5 * step * f_theta
+        hh2 = h1 + 0.5 * step * f_h1
+        if not (u2 > 0.0 and th2 > 0.0 and hh2 > 3.3 and r2 > 0.0):
+            return pos, steps
+        a_theta, a_h1 = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+        th3 = theta + 0.5 * step * a_theta
+        hh3 = h1 + 0.5 * step * a_h1
+        if not (th3 > 0.0 and hh3 > 3.3):
+            return pos, steps
+        b_theta, b_h1 = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+        jj, u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, jj, n, pos + step)
+        th4 = theta + step * b_theta
+        hh4 = h1 + step * b_h1
+        if not (u4 > 0.0 and th4 > 0.0 and hh4 > 3.3 and r4 > 0.0):
+            return pos, steps
+        c_theta, c_h1 = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+        theta_new = theta + step / 6.0 * (f_theta + 2.0 * (a_theta + b_theta) + c_theta)
+        h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
+        if not (theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)):
+            return pos, steps
+        h_old = h_from_h1(h1)
+        h_new = h_from_h1(h1_new)
+        if h_new >= h_separation:
+            frac = (h_separation - h_old) / (h_new - h_old)
+            return pos + min(max(frac, 0.0), 1.0) * step, steps
+        g_theta, g_h1 = _rhs(theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+        # Cubic Hermite dense output at the stations passed in this step.
+        while m < n and s[m] <= pos + step:
+            t = (s[m] - pos) / step
+            theta_out[m], _ = _hermite(t, step, theta, theta_new, f_theta, g_theta)
+            h1_m, _ = _hermite(t, step, h1, h1_new, f_h1, g_h1)
+            h_out[m] = h_from_h1(h1_m)
+            m += 1
+        pos += step
+        theta, h1 = theta_new, h1_new
+        f_theta, f_h1 = g_theta, g_h1
+        j, u, du = jj, u4, du4
+
+
+# ----------------------------------------------------------------------------- the march
+
+
+@numba.njit(cache=True)
+def march_sides(
+    s: F64,
+    ue: F64,
+    r: F64,
+    count: NDArray[np.int64],
+    ints: NDArray[np.int64],
+    reals: F64,
+    stations: F64,
+    events: F64,
+    step_scale: float = 1.0,
+) -> int:
+    """March every side; see the module docstring.
+
+    Parameters (sides along axis 0)
+    -------------------------------
+    s, ue, r : (sides, n) arc length from the side's origin, Ue/U_inf, body radius
+        (ones when planar); only the first ``count`` stations of a row are read.
+    ints : (sides, 5) start kind, criterion code, closure code, skin-friction law,
+        axisymmetric flag.
+    reals : (sides, 10) nu/U_inf, stagnation slope dUe/ds, inflow theta, inflow H,
+        trip position (inf for none), Tu [%], separation lambda, initial H, separation H,
+        unused.
+    stations : (sides, 7, n) output: theta, H, cf (NaN where undefined), Re_theta,
+        delta99, turbulent flag (0/1), lambda.
+    events : (sides, 14) output: kept station count, transition s, cause, Re_theta,
+        laminar separation s, its Re_delta*, short-bubble flag, separation s,
+        separation-is-turbulent flag, largest laminar lambda, smallest and largest
+        turbulent Re_theta, Re_s at transition, mean lambda at transition.
+    step_scale : multiplies every step limit of the turbulent march (1 by default;
+        smaller for convergence checks).
+    Positions are NaN when an event does not happen.  Returns the turbulent step count.
+    """
+    n_sides, n_max = s.shape
+    due = np.empty(n_max)
+    dr = np.empty(n_max)
+    integral = np.empty(n_max)
+    theta2 = np.empty(n_max)
+    lam = np.empty(n_max)
+    h_lam = np.empty(n_max)
+    re_lam = np.empty(n_max)
+    g = np.empty(n_max)
+    running = np.empty(n_max)
+    theta_t = np.empty(n_max)
+    h_t = np.empty(n_max)
+    steps = 0
+    for k in range(n_sides):
+        n = count[k]
+        sk, uk, rk = s[k], ue[k], r[k]
+        start_kind, criterion, closure, law, axisym = (
+            ints[k, 0],
+            ints[k, 1],
+            ints[k, 2],
+            ints[k, 3],
+            ints[k, 4] != 0,
+        )
+        nu, slope, theta_in, h_in, trip, tu = (
+            reals[k, 0],
+            reals[k, 1],
+            reals[k, 2],
+            reals[k, 3],
+            reals[k, 4],
+            reals[k, 5],
+        )
+        lam_sep, h_init, h_sep = reals[k, 6], reals[k, 7], reals[k, 8]
+        length = sk[n - 1] - sk[0]
+
+        # Gradients at the stations.
+        _derivative(sk, uk, n, due)
+        if start_kind == START_STAGNATION:
+            due[0] = slope
+        if axisym:
+            _derivative(sk, rk, n, dr)
+        else:
+            for i in range(n):
+                dr[i] = 0.0
+
+        # Thwaites (1949), planar or axisymmetric (Rott & Crabtree 1952): the integral of
+        # r^2 Ue^5 by four-point Gauss quadrature on the Hermite interpolants.
+        integral[0] = 0.0
+        for i in range(n - 1):
+            h = sk[i + 1] - sk[i]
+            acc = 0.0
+            for q in range(4):
+                u, _ = _hermite(_GN[q], h, uk[i], uk[i + 1], due[i], due[i + 1])
+                u = max(u, 0.0)
+                w = u**4 * u
+                if axisym:
+                    rr, _ = _hermite(_GN[q], h, rk[i], rk[i + 1], dr[i], dr[i + 1])
+                    w *= rr * rr
+                acc += _GW[q] * w
+            integral[i + 1] = integral[i] + h * acc
+        if start_kind == START_STAGNATION:
+            on_axis = axisym and rk[0] <= 1e-9 * length
+            power = THWAITES_B + 2.0 if on_axis else THWAITES_B
+            start_theta2 = THWAITES_A * nu / (power * slope)
+        else:
+            start_theta2 = theta_in * theta_in
+        start_weight = rk[0] ** 2 * uk[0] ** THWAITES_B
+        lam_max_seen = 0.0
+        for i in range(n):
+            weight = rk[i] ** 2 * uk[i] ** THWAITES_B
+            if i == 0 or weight <= 0.0:
+                theta2[i] = start_theta2
+            else:
+                theta2[i] = (start_theta2 * start_weight + THWAITES_A * nu * integral[i]) / weight
+            lam[i] = theta2[i] * due[i] / nu
+            lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
+            h_lam[i] = shape_factor(closure, lc)
+            re_lam[i] = uk[i] * np.sqrt(theta2[i]) / nu
+
+        # Laminar separation: lambda falls to the separation value.
+        lsep = np.inf
+        lsep_re_dstar = np.nan
+        for i in range(1, n):
+            if lam[i] <= lam_sep:
+                lsep = _crossing(sk, lam_sep - lam[i - 1], lam_sep - lam[i], i)
+                a = re_lam[i - 1] * h_lam[i - 1]
+                b = re_lam[i] * h_lam[i]
+                frac = (lsep - sk[i - 1]) / (sk[i] - sk[i - 1])
+                lsep_re_dstar = a + frac * (b - a)
+                break
+
+        # Natural transition.
+        crit = np.inf
+        lam_mean_tr = np.nan
+        if criterion == 2:
+            # Granville (1953): instability, then growth on the mean lambda since then.
+            running[0] = 0.0
+            for i in range(1, n):
+                l0 = min(max(lam[i - 1], lam_sep), LAMBDA_MAX)
+                l1 = min(max(lam[i], lam_sep), LAMBDA_MAX)
+                running[i] = running[i - 1] + 0.5 * (l0 + l1) * (sk[i] - sk[i - 1])
+            s_i = np.inf
+            for i in range(1, n):
+                lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
+                g[i] = re_lam[i] - granville_instability(lc)
+                if g[i] >= 0.0:
+                    l0 = min(max(lam[i - 1], lam_sep), LAMBDA_MAX)
+                    g0 = re_lam[i - 1] - granville_instability(l0) if i > 1 else -np.inf
+                    s_i = _crossing(sk, g0, g[i], i)
+                    re_i = _interp(sk, re_lam, n, s_i)
+                    run_i = _interp(sk, running, n, s_i)
+                    break
+            if np.isfinite(s_i):
+                s_prev = s_i
+                lc = min(max(_interp(sk, lam, n, s_i), lam_sep), LAMBDA_MAX)
+                g_prev = -granville_growth(lc)
+                for i in range(1, n):
+                    if sk[i] <= s_i:
+                        continue
+                    mean = (running[i] - run_i) / (sk[i] - s_i)
+                    gi = re_lam[i] - re_i - granville_growth(mean)
+                    if gi >= 0.0:
+                        frac = min(max(g_prev / (g_prev - gi), 0.0), 1.0)
+                        crit = s_prev + frac * (sk[i] - s_prev)
+                        lam_mean_tr = mean
+                        break
+                    g_prev = gi
+                    s_prev = sk[i]
+        elif criterion != 0:
+            g_prev = -np.inf
+            for i in range(1, n):
+                if criterion == 1:
+                    gi = re_lam[i] - michel(uk[i] * (sk[i] - sk[0]) / nu)
+                else:
+                    lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
+                    gi = re_lam[i] - abu_ghannam_shaw(lc, tu)
+                if gi >= 0.0:
+                    crit = _crossing(sk, g_prev, gi, i)
+                    break
+                g_prev = gi
+
+        natural = min(crit, trip)
+        if natural > sk[n - 1]:
+            natural = np.inf
+        short = lsep_re_dstar > OWEN_KLANFER_RE_DELTA_STAR
+        lsep_first = lsep < natural
+        lam_separates = lsep_first and (criterion == 0 or not short)
+        if start_kind == START_TURBULENT:
+            tr = sk[0]
+            cause = CAUSE_TRIP
+            lsep_first = False
+            lam_separates = False
+        elif lsep_first:
+            tr = lsep if not lam_separates else np.inf
+            cause = CAUSE_LAMINAR_SEPARATION
+        else:
+            tr = natural
+            cause = CAUSE_TRIP if trip <= crit else CAUSE_CRITERION
+
+        # Head (1958) from transition, theta continuous.
+        for i in range(n):
+            theta_t[i] = np.nan
+            h_t[i] = np.nan
+        separation = lsep if lam_separates else np.nan
+        if np.isfinite(tr):
+            if start_kind == START_TURBULENT:
+                start, th0, hh0 = sk[0], theta_in, h_in
+            else:
+                start = tr
+                if start_kind != START_INFLOW:
+                    start = max(tr, sk[0] + START_OFFSET * length)
+                th0 = np.sqrt(_interp(sk, theta2, n, start))
+                hh0 = h_init
+            separation, taken = _head(
+                sk,
+                uk,
+                due,
+                rk,
+                dr,
+                n,
+                start,
+                th0,
+                hh0,
+                1.0 / nu,
+                h_sep,
+                law,
+                axisym,
+                theta_t,
+                h_t,
+                step_scale,
+            )
+            steps += taken
+
+        # Station values up to separation.
+        keep = n
+        if np.isfinite(separation):
+            keep = 1
+            while keep < n and sk[keep] <= separation:
+                keep += 1
+        re_min = np.inf
+        re_max = -np.inf
+        out = stations[k]
+        for i in range(keep):
+            turb = np.isfinite(theta_t[i])
+            if turb:
+                th = theta_t[i]
+                hh = h_t[i]
+                re = uk[i] * th / nu
+                cf = cf_turbulent(law, hh, re)
+                d99 = th * hh * (hh + 1.0) / (hh - 1.0)
+                re_min = min(re_min, re)
+                re_max = max(re_max, re)
+            else:
+                th = np.sqrt(theta2[i])
+                hh = h_lam[i]
+                re = re_lam[i]
+                lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
+                cf = 2.0 * shear(closure, lc) / re if re > 0.0 else np.nan
+                d99 = LAMINAR_DELTA99_RATIO * th
+                lam_max_seen = max(lam_max_seen, lam[i])
+            out[0, i] = th
+            out[1, i] = hh
+            out[2, i] = cf if (uk[i] > 0.0 and np.isfinite(cf)) else np.nan
+            out[3, i] = re
+            out[4, i] = d99
+            out[5, i] = 1.0 if turb else 0.0
+            out[6, i] = lam[i]
+        ev = events[k]
+        ev[0] = keep
+        if start_kind == START_TURBULENT:
+            tr = np.inf  # turbulent from the first station: no transition on this surface
+        ev[1] = tr if np.isfinite(tr) else np.nan
+        ev[2] = cause
+        ev[3] = np.nan
+        ev[12] = np.nan
+        if np.isfinite(tr):
+            ev[3] = _interp(sk, uk, n, tr) * np.sqrt(_interp(sk, theta2, n, tr)) / nu
+            ev[12] = _interp(sk, uk, n, tr) * (tr - sk[0]) / nu
+        shown = lsep_first and np.isfinite(lsep)
+        ev[4] = lsep if shown else np.nan
+        ev[5] = lsep_re_dstar
+        ev[6] = 1.0 if short else 0.0
+        ev[7] = separation
+        ev[8] = 1.0 if (np.isfinite(separation) and not lam_separates) else 0.0
+        ev[9] = lam_max_seen
+        ev[10] = re_min if re_min <= re_max else np.nan
+        ev[11] = re_max if re_min <= re_max else np.nan
+        ev[13] = lam_mean_tr
+    return steps
