@@ -55,7 +55,7 @@ MAX_STEP = 0.06
 #: and largest relative change of H1 - 3.3 per step.  Against a run with twenty times
 #: smaller steps, these move separation by less than 0.002 % of the side length and
 #: theta and H by less than 0.3 % on the reference cases (tests/test_kernel.py).
-STEP_UE, STEP_THETA, STEP_H1 = 0.15, 0.15, 0.06
+STEP_UE, STEP_THETA, STEP_H1 = 0.15, 0.15, 0.045
 #: Largest step as a fraction of the distance from the side's origin (resolves the 1/s
 #: terms of a start at a stagnation point, a nose or a sharp edge).
 STEP_ORIGIN = 0.3
