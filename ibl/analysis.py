@@ -199,7 +199,7 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
 
 
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
-    ok = np.isfinite(state.cf) & (state.ue > 0.0)
+    ok = np.isfinite(state.cf) & (state.cf > 0.0) & (state.ue > 0.0)
     cells = []
     if ok.any():
         u_tau = mesh.friction_velocity(np.where(ok, state.ue, 1.0), np.where(ok, state.cf, 1.0))

@@ -348,6 +348,136 @@ def _head(
         j, u, du = jj, u4, du4
 
 
+@numba.njit(cache=True)
+def _laminar_at(
+    sk: F64,
+    uk: F64,
+    due: F64,
+    rk: F64,
+    dr: F64,
+    integral: F64,
+    n: int,
+    at: float,
+    c0: float,
+    start_theta2: float,
+    nu: float,
+    axisym: bool,
+) -> tuple[float, float, float, float]:
+    """theta^2, lambda, Re_theta and Ue at any arc length, between stations included.
+
+    Thwaites' integral up to the station before ``at`` is completed by four-point Gauss
+    quadrature of the Hermite interpolants over the rest of the interval.
+    """
+    j = 0
+    while j < n - 2 and sk[j + 1] < at:
+        j += 1
+    h = sk[j + 1] - sk[j]
+    t_end = min(max((at - sk[j]) / h, 0.0), 1.0)
+    acc = 0.0
+    for q in range(4):
+        u, _ = _hermite(_GN[q] * t_end, h, uk[j], uk[j + 1], due[j], due[j + 1])
+        u = max(u, 0.0)
+        w = u**4 * u
+        if axisym:
+            rr, _ = _hermite(_GN[q] * t_end, h, rk[j], rk[j + 1], dr[j], dr[j + 1])
+            w *= rr * rr
+        acc += _GW[q] * w
+    total = integral[j] + acc * h * t_end
+    u, du = _hermite(t_end, h, uk[j], uk[j + 1], due[j], due[j + 1])
+    u = max(u, 0.0)
+    rr = 1.0
+    if axisym:
+        rr, _ = _hermite(t_end, h, rk[j], rk[j + 1], dr[j], dr[j + 1])
+    weight = rr * rr * u**THWAITES_B
+    theta2 = (c0 + THWAITES_A * nu * total) / weight if weight > 0.0 else start_theta2
+    return theta2, theta2 * du / nu, u * np.sqrt(theta2) / nu, u
+
+
+@numba.njit(cache=True)
+def _margin(
+    kind: int,
+    theta2: float,
+    lam: float,
+    re: float,
+    u: float,
+    sigma: float,
+    nu: float,
+    lam_sep: float,
+    tu: float,
+) -> float:
+    """How far past its threshold an event is (>= 0 once it happens).
+
+    kind 0: laminar separation; 1: Michel; 2: Granville instability; 3: Abu-Ghannam & Shaw.
+    """
+    lc = min(max(lam, lam_sep), LAMBDA_MAX)
+    if kind == 0:
+        return lam_sep - lam
+    if kind == 1:
+        return re - michel(u * sigma / nu) if sigma > 0.0 else -np.inf
+    if kind == 2:
+        return re - granville_instability(lc)
+    return re - abu_ghannam_shaw(lc, tu)
+
+
+@numba.njit(cache=True)
+def _refine(
+    kind: int,
+    lo: float,
+    hi: float,
+    sk: F64,
+    uk: F64,
+    due: F64,
+    rk: F64,
+    dr: F64,
+    integral: F64,
+    n: int,
+    c0: float,
+    start_theta2: float,
+    nu: float,
+    axisym: bool,
+    lam_sep: float,
+    tu: float,
+) -> float:
+    """Where an event's margin crosses zero between ``lo`` (before) and ``hi`` (after),
+    by the Illinois variant of regula falsi on the interpolated laminar state, so that the
+    position does not depend on how far apart the stations are."""
+    origin = sk[0]
+    th, lam, re, u = _laminar_at(sk, uk, due, rk, dr, integral, n, lo, c0, start_theta2, nu, axisym)
+    g_lo = _margin(kind, th, lam, re, u, lo - origin, nu, lam_sep, tu)
+    th, lam, re, u = _laminar_at(sk, uk, due, rk, dr, integral, n, hi, c0, start_theta2, nu, axisym)
+    g_hi = _margin(kind, th, lam, re, u, hi - origin, nu, lam_sep, tu)
+    if not g_hi >= 0.0:
+        return hi
+    if not g_lo < 0.0:
+        return lo
+    tol = 1e-9 * (sk[n - 1] - origin)
+    side = 0
+    for _ in range(60):
+        if hi - lo <= tol:
+            break
+        if np.isfinite(g_lo):
+            mid = (lo * g_hi - hi * g_lo) / (g_hi - g_lo)
+            if not (lo < mid < hi):
+                mid = 0.5 * (lo + hi)
+        else:
+            mid = 0.5 * (lo + hi)
+        th, lam, re, u = _laminar_at(
+            sk, uk, due, rk, dr, integral, n, mid, c0, start_theta2, nu, axisym
+        )
+        g = _margin(kind, th, lam, re, u, mid - origin, nu, lam_sep, tu)
+        if g >= 0.0:
+            hi, g_hi = mid, g
+            if side == 1:
+                g_lo *= 0.5
+            side = 1
+        else:
+            lo, g_lo = mid, g
+            if side == -1:
+                g_hi *= 0.5
+            side = -1
+    return hi
+
+
 # ----------------------------------------------------------------------------- the march
 
 
@@ -463,15 +593,33 @@ def march_sides(
             re_lam[i] = uk[i] * np.sqrt(theta2[i]) / nu
 
         # Laminar separation: lambda falls to the separation value.
+        c0 = start_theta2 * start_weight
         lsep = np.inf
         lsep_re_dstar = np.nan
         for i in range(1, n):
             if lam[i] <= lam_sep:
-                lsep = _crossing(sk, lam_sep - lam[i - 1], lam_sep - lam[i], i)
-                a = re_lam[i - 1] * h_lam[i - 1]
-                b = re_lam[i] * h_lam[i]
-                frac = (lsep - sk[i - 1]) / (sk[i] - sk[i - 1])
-                lsep_re_dstar = a + frac * (b - a)
+                lsep = _refine(
+                    0,
+                    sk[i - 1],
+                    sk[i],
+                    sk,
+                    uk,
+                    due,
+                    rk,
+                    dr,
+                    integral,
+                    n,
+                    c0,
+                    start_theta2,
+                    nu,
+                    axisym,
+                    lam_sep,
+                    tu,
+                )
+                _, _, re_sep, _ = _laminar_at(
+                    sk, uk, due, rk, dr, integral, n, lsep, c0, start_theta2, nu, axisym
+                )
+                lsep_re_dstar = re_sep * shape_factor(closure, lam_sep)
                 break
 
         # Natural transition.
@@ -489,10 +637,27 @@ def march_sides(
                 lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
                 g[i] = re_lam[i] - granville_instability(lc)
                 if g[i] >= 0.0:
-                    l0 = min(max(lam[i - 1], lam_sep), LAMBDA_MAX)
-                    g0 = re_lam[i - 1] - granville_instability(l0) if i > 1 else -np.inf
-                    s_i = _crossing(sk, g0, g[i], i)
-                    re_i = _interp(sk, re_lam, n, s_i)
+                    s_i = _refine(
+                        2,
+                        sk[i - 1],
+                        sk[i],
+                        sk,
+                        uk,
+                        due,
+                        rk,
+                        dr,
+                        integral,
+                        n,
+                        c0,
+                        start_theta2,
+                        nu,
+                        axisym,
+                        lam_sep,
+                        tu,
+                    )
+                    _, _, re_i, _ = _laminar_at(
+                        sk, uk, due, rk, dr, integral, n, s_i, c0, start_theta2, nu, axisym
+                    )
                     run_i = _interp(sk, running, n, s_i)
                     break
             if np.isfinite(s_i):
@@ -520,7 +685,24 @@ def march_sides(
                     lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
                     gi = re_lam[i] - abu_ghannam_shaw(lc, tu)
                 if gi >= 0.0:
-                    crit = _crossing(sk, g_prev, gi, i)
+                    crit = _refine(
+                        criterion,
+                        sk[i - 1],
+                        sk[i],
+                        sk,
+                        uk,
+                        due,
+                        rk,
+                        dr,
+                        integral,
+                        n,
+                        c0,
+                        start_theta2,
+                        nu,
+                        axisym,
+                        lam_sep,
+                        tu,
+                    )
                     break
                 g_prev = gi
 
@@ -554,7 +736,10 @@ def march_sides(
                 start = tr
                 if start_kind != START_INFLOW:
                     start = max(tr, sk[0] + START_OFFSET * length)
-                th0 = np.sqrt(_interp(sk, theta2, n, start))
+                th2_start, _, _, _ = _laminar_at(
+                    sk, uk, due, rk, dr, integral, n, start, c0, start_theta2, nu, axisym
+                )
+                th0 = np.sqrt(th2_start)
                 hh0 = h_init
             separation, taken = _head(
                 sk,
@@ -600,7 +785,8 @@ def march_sides(
                 hh = h_lam[i]
                 re = re_lam[i]
                 lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
-                cf = 2.0 * shear(closure, lc) / re if re > 0.0 else np.nan
+                # The fits give l slightly below zero at lambda = -0.09 (-0.0015): clip.
+                cf = 2.0 * max(shear(closure, lc), 0.0) / re if re > 0.0 else np.nan
                 d99 = LAMINAR_DELTA99_RATIO * th
                 lam_max_seen = max(lam_max_seen, lam[i])
             out[0, i] = th
@@ -619,8 +805,10 @@ def march_sides(
         ev[3] = np.nan
         ev[12] = np.nan
         if np.isfinite(tr):
-            ev[3] = _interp(sk, uk, n, tr) * np.sqrt(_interp(sk, theta2, n, tr)) / nu
-            ev[12] = _interp(sk, uk, n, tr) * (tr - sk[0]) / nu
+            _, _, ev[3], u_tr = _laminar_at(
+                sk, uk, due, rk, dr, integral, n, tr, c0, start_theta2, nu, axisym
+            )
+            ev[12] = u_tr * (tr - sk[0]) / nu
         shown = lsep_first and np.isfinite(lsep)
         ev[4] = lsep if shown else np.nan
         ev[5] = lsep_re_dstar

@@ -381,7 +381,8 @@ def prepare(case: Case) -> Prepared:
         assert flow.speed is not None and flow.kinematic_viscosity is not None
         nu = flow.kinematic_viscosity / flow.speed
     axisymmetric = case.body.kind == "axisymmetric"
-    if axisymmetric and radius is None and contour:
+    radius_from_y = axisymmetric and radius is None and contour
+    if radius_from_y:
         radius = np.abs(y)
     options = _options(case)
     trips = case.transition.trip or {}
@@ -393,7 +394,7 @@ def prepare(case: Case) -> Prepared:
             warnings,
         )
     sides, stagnation = _split_contour(
-        arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings
+        arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings, radius_from_y
     )
     return Prepared(sides, stagnation, warnings)
 
@@ -455,6 +456,41 @@ def _single_side(
     )
 
 
+def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool) -> int:
+    """Index of the point next to the front stagnation point.
+
+    Every local minimum of q = (Ue/U_inf)^2 whose parabola through its neighbours
+    reaches Ue <= ``STAGNATION_UE`` is a stagnation point; where there are several (the
+    front and rear stagnation points of a potential flow), the most upstream one is the
+    front one: the free stream is along +x.  Without any, the smallest q.
+    """
+    m = q.size - 1 if closed else q.size
+    qq, seg = q[:m], np.diff(arc)
+    if closed:
+        prev, nxt = np.roll(qq, 1), np.roll(qq, -1)
+        h0, h1 = np.roll(seg, 1), seg
+    else:
+        prev = np.concatenate(([np.inf], qq[:-1]))
+        nxt = np.concatenate((qq[1:], [np.inf]))
+        h0 = np.concatenate(([np.nan], seg))
+        h1 = np.concatenate((seg, [np.nan]))
+    candidates = np.flatnonzero((qq <= prev) & (qq <= nxt))
+    if candidates.size > 64:  # noisy data: keep the smallest
+        candidates = candidates[np.argsort(qq[candidates])[:64]]
+    with np.errstate(invalid="ignore", divide="ignore"):
+        c = candidates
+        d0 = (qq[c] - prev[c]) / h0[c]
+        d1 = (nxt[c] - qq[c]) / h1[c]
+        c2 = (d1 - d0) / (h0[c] + h1[c])
+        c1 = d0 + c2 * h0[c]
+        vertex_q = np.where(c2 > 0.0, qq[c] - 0.25 * c1**2 / c2, qq[c])
+    vertex_q = np.where(np.isfinite(vertex_q), vertex_q, qq[c])
+    stagnant = c[np.sqrt(np.maximum(vertex_q, 0.0)) <= STAGNATION_UE]
+    if stagnant.size == 0:
+        return int(np.argmin(q))
+    return int(stagnant[np.argmin(x[stagnant])])
+
+
 def _split_contour(
     arc: F64,
     x: F64,
@@ -467,15 +503,13 @@ def _split_contour(
     trips: dict[str, float],
     p_pointer: str,
     warnings: list[Notice],
+    radius_from_y: bool = False,
 ) -> tuple[list[SideInput], Stagnation]:
     """Locate the stagnation point between points and split the contour into two sides."""
     n = arc.size
-    # Where several points share the smallest Ue (front and rear stagnation points of a
-    # potential flow), the front one is the most upstream: the free stream is along +x.
-    near = np.flatnonzero(q <= q.min() + 1e-6 * max(float(q.max()), 1e-300))
-    k = int(near[np.argmin(x[near])])
     total = float(arc[-1])
-    closed = np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * total
+    closed = bool(np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * total)
+    k = _front_stagnation_index(arc, x, q, closed)
     shift = 0
     if closed and k in (0, n - 1):
         # A closed contour listed from its stagnation point: start it half-way round instead.
@@ -495,16 +529,19 @@ def _split_contour(
         vertex = arc[k] - 0.5 * c1 / c2 if c2 > 0.0 else 0.0
         s0 = float(np.clip(vertex, arc[k - 1], arc[k + 1])) if c2 > 0.0 else float(arc[k])
         slope = float(np.sqrt(c2)) if c2 > 0.0 else float("nan")
+        q_vertex = float(q[k] - 0.25 * c1**2 / c2) if c2 > 0.0 else float(q[k])
     else:
         s0 = float(arc[k])
         j = 1 if k == 0 else n - 2
         slope = float(np.sqrt(q[j]) / abs(arc[j] - s0))
-    if np.sqrt(q[k]) > STAGNATION_UE:
+        q_vertex = float(q[k])
+    if np.sqrt(max(q_vertex, 0.0)) > STAGNATION_UE:
         warnings.append(
             Notice(
                 code="no_stagnation_point",
-                message=f"the smallest Ue/U_inf in the data is {np.sqrt(q[k]):.3g}; the sides "
-                "start there as if from a sharp leading edge",
+                message="the edge velocity does not fall to zero in the data (smallest "
+                f"Ue/U_inf about {np.sqrt(max(q_vertex, 0.0)):.3g}); the sides start there as "
+                "if from a sharp leading edge",
                 pointer=p_pointer,
             )
         )
@@ -518,6 +555,8 @@ def _split_contour(
     x0 = float(x[i0] + frac * (x[i0 + 1] - x[i0]))
     y0 = float(y[i0] + frac * (y[i0 + 1] - y[i0]))
     r0 = float(radius[i0] + frac * (radius[i0 + 1] - radius[i0])) if radius is not None else 1.0
+    if axisymmetric and radius_from_y:
+        r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
     stagnation = Stagnation(x=x0, y=y0, position=position)
     tol = 1e-9 * total
     # Points before the stagnation point (walked backwards) and after it; a point within
