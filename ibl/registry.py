@@ -1,0 +1,119 @@
+"""The catalogue of methods: every method and criterion with its options, defaults,
+validity ranges and published source, as JSON-ready data.
+
+Contents
+--------
+- ``catalogue()``: the catalogue (served by the HTTP API at ``GET /v1/methods``).
+- ``method_names(kind)``: the valid names of one kind of choice, for error messages.
+"""
+
+from __future__ import annotations
+
+from typing import Any
+
+from ibl import laminar, transition, turbulent
+from ibl.schema import LaminarOptions, MeshOptions, TransitionOptions, TurbulentOptions
+
+__all__ = ["catalogue", "method_names"]
+
+
+def _range(pair: tuple[float, float]) -> dict[str, float]:
+    return {"min": pair[0], "max": pair[1]}
+
+
+def catalogue() -> dict[str, Any]:
+    """Every method with its options, defaults, validity ranges and source."""
+    lam_defaults = LaminarOptions()
+    turb_defaults = TurbulentOptions()
+    return {
+        "laminar": {
+            "method": "thwaites_1949",
+            "summary": "Thwaites' integral method; axisymmetric bodies by the Rott-Crabtree "
+            "(Mangler) form; analytic start at a stagnation point or sharp leading edge",
+            "reference": "Thwaites (1949) Aeronaut. Q. 1, 245-280; Rott & Crabtree (1952) "
+            "J. Aeronaut. Sci. 19, 553",
+            "options": {
+                "separation_lambda": {
+                    "default": lam_defaults.separation_lambda,
+                    "choices": {
+                        "-0.09": "Thwaites (1949)",
+                        "-0.082": "Curle & Skan (1957) [memory]",
+                    },
+                },
+                "closure": {
+                    "default": lam_defaults.closure,
+                    "choices": {
+                        name: {"validity": {"lambda": _range(c.validity)}, "reference": c.reference}
+                        for name, c in laminar.CLOSURES.items()
+                    },
+                },
+            },
+        },
+        "transition": {
+            "default": TransitionOptions().criterion,
+            "criteria": {
+                name: {
+                    "summary": c.summary,
+                    "validity": {key: _range(v) for key, v in c.validity.items()},
+                    "reference": c.reference,
+                }
+                for name, c in transition.CRITERIA.items()
+            },
+            "trip": "forced transition at a given arc length per side (common practice)",
+            "laminar_separation_bubble": {
+                "criterion": "owen_klanfer_1953",
+                "summary": "Re_delta* at laminar separation above the threshold: short bubble "
+                "(transition, reattachment); below: long bubble, likely to burst (separation)",
+                "re_delta_star_threshold": transition.OWEN_KLANFER_RE_DELTA_STAR,
+                "reference": "Owen & Klanfer (1953) RAE Report Aero 2508 [memory]",
+            },
+        },
+        "turbulent": {
+            "method": "head_1958",
+            "summary": "Head's entrainment method, planar and axisymmetric (thin layers)",
+            "reference": "Head (1958) ARC R&M 3152; fits of Cebeci & Bradshaw (1977)",
+            "options": {
+                "initial_shape_factor": {"default": turb_defaults.initial_shape_factor},
+                "separation_shape_factor": {
+                    "default": turb_defaults.separation_shape_factor,
+                    "note": "texts give 1.8 to 2.4",
+                },
+                "skin_friction": {
+                    "default": turb_defaults.skin_friction,
+                    "choices": {
+                        name: {
+                            "validity": {k: _range(v) for k, v in law.validity.items()},
+                            "reference": law.reference,
+                        }
+                        for name, law in turbulent.SKIN_FRICTION.items()
+                    },
+                },
+            },
+        },
+        "mesh": {
+            "y_plus_default": MeshOptions().y_plus,
+            "first_cell_height": "y+ nu / u_tau, u_tau = Ue sqrt(Cf/2) (common practice)",
+            "thickness": "delta99: 7.39 theta laminar (Blasius ratio); power-law profile "
+            "theta H (H + 1)/(H - 1) turbulent [derived]",
+            "eddy_viscosity": "Clauser outer value 0.0168 Ue delta* (Cebeci & Smith 1974) [memory]",
+        },
+        "edge_velocity": {
+            "incompressible": "Ue/U_inf = sqrt(1 - Cp) (Bernoulli)",
+            "compressible": "isentropic edge for mach > 0; the boundary-layer methods stay "
+            "incompressible",
+        },
+    }
+
+
+def method_names(kind: str) -> list[str]:
+    """Valid names for ``criterion``, ``closure`` or ``skin_friction``.
+
+    >>> method_names("criterion")
+    ['michel', 'granville', 'abu_ghannam_shaw', 'none']
+    """
+    table: dict[str, Any] = {
+        "criterion": transition.CRITERIA,
+        "closure": laminar.CLOSURES,
+        "skin_friction": turbulent.SKIN_FRICTION,
+    }
+    return list(table[kind])
