@@ -33,7 +33,9 @@ def test_run_csv_with_reynolds_flag(tmp_path, capsys):
     with path.open("w", newline="") as handle:
         writer = csv.writer(handle)
         writer.writerow(["x", "y", "cp"])
-        writer.writerows(zip(case["surface"]["x"], case["surface"]["y"], case["pressure"]["cp"]))
+        writer.writerows(
+            zip(case["surface"]["x"], case["surface"]["y"], case["pressure"]["cp"], strict=True)
+        )
     assert main(["run", str(path), "--reynolds", "2e5", "--format", "json"]) == 0
     from_csv = json.loads(capsys.readouterr().out)
     case["flow"] = {"reynolds": 2e5}

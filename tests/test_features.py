@@ -4,7 +4,6 @@ from __future__ import annotations
 
 import numpy as np
 import pytest
-from scipy.optimize import brentq
 
 import ibl
 from ibl.prepare import edge_velocity_from_cp
