@@ -11,7 +11,7 @@ Contents
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import Any, Literal
 
 import msgspec
 import numpy as np
@@ -141,6 +141,15 @@ def _list(values: NDArray[np.float64]) -> list[float]:
     return out
 
 
+def _regime(turbulent: NDArray[np.bool_]) -> list[Literal["laminar", "turbulent"]]:
+    """Station regimes: laminar up to transition, turbulent after it."""
+    n = turbulent.size
+    first = int(np.argmax(turbulent)) if n and turbulent.any() else n
+    if turbulent[first:].all():
+        return ["laminar"] * first + ["turbulent"] * (n - first)
+    return ["turbulent" if t else "laminar" for t in turbulent.tolist()]
+
+
 def _x_at(side: SideInput, s: float) -> float | None:
     if side.x is None or not math.isfinite(s):
         return None
@@ -189,7 +198,7 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
         cf=cf_list,
         re_theta=_list(state.re_theta),
         delta99=_list(state.delta99),
-        regime=["turbulent" if t else "laminar" for t in state.turbulent.tolist()],
+        regime=_regime(state.turbulent),
         transition=tr,
         laminar_separation=lsep,
         separation=sep,

@@ -17,6 +17,7 @@ from __future__ import annotations
 from dataclasses import dataclass, field
 from typing import Literal
 
+import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
@@ -456,39 +457,43 @@ def _single_side(
     )
 
 
-def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool) -> int:
+@numba.njit(cache=True)
+def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool, ue_limit: float) -> int:
     """Index of the point next to the front stagnation point.
 
     Every local minimum of q = (Ue/U_inf)^2 whose parabola through its neighbours
-    reaches Ue <= ``STAGNATION_UE`` is a stagnation point; where there are several (the
-    front and rear stagnation points of a potential flow), the most upstream one is the
-    front one: the free stream is along +x.  Without any, the smallest q.
+    reaches Ue <= ``ue_limit`` is a stagnation point; where there are several (the front
+    and rear stagnation points of a potential flow), the most upstream one is the front
+    one: the free stream is along +x.  Without any, the smallest q.
     """
     m = q.size - 1 if closed else q.size
-    qq, seg = q[:m], np.diff(arc)
-    if closed:
-        prev, nxt = np.roll(qq, 1), np.roll(qq, -1)
-        h0, h1 = np.roll(seg, 1), seg
-    else:
-        prev = np.concatenate(([np.inf], qq[:-1]))
-        nxt = np.concatenate((qq[1:], [np.inf]))
-        h0 = np.concatenate(([np.nan], seg))
-        h1 = np.concatenate((seg, [np.nan]))
-    candidates = np.flatnonzero((qq <= prev) & (qq <= nxt))
-    if candidates.size > 64:  # noisy data: keep the smallest
-        candidates = candidates[np.argsort(qq[candidates])[:64]]
-    with np.errstate(invalid="ignore", divide="ignore"):
-        c = candidates
-        d0 = (qq[c] - prev[c]) / h0[c]
-        d1 = (nxt[c] - qq[c]) / h1[c]
-        c2 = (d1 - d0) / (h0[c] + h1[c])
-        c1 = d0 + c2 * h0[c]
-        vertex_q = np.where(c2 > 0.0, qq[c] - 0.25 * c1**2 / c2, qq[c])
-    vertex_q = np.where(np.isfinite(vertex_q), vertex_q, qq[c])
-    stagnant = c[np.sqrt(np.maximum(vertex_q, 0.0)) <= STAGNATION_UE]
-    if stagnant.size == 0:
-        return int(np.argmin(q))
-    return int(stagnant[np.argmin(x[stagnant])])
+    best = -1
+    smallest = 0
+    for i in range(m):
+        if q[i] < q[smallest]:
+            smallest = i
+        if closed:
+            ip, inx = (i - 1) % m, (i + 1) % m
+            h0 = arc[i] - arc[i - 1] if i > 0 else arc[m] - arc[m - 1]
+            h1 = arc[i + 1] - arc[i]
+        else:
+            if i == 0 or i == m - 1:
+                if q[i] <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
+                    best = i
+                continue
+            ip, inx = i - 1, i + 1
+            h0 = arc[i] - arc[i - 1]
+            h1 = arc[i + 1] - arc[i]
+        if q[i] > q[ip] or q[i] > q[inx]:
+            continue
+        d0 = (q[i] - q[ip]) / h0
+        d1 = (q[inx] - q[i]) / h1
+        c2 = (d1 - d0) / (h0 + h1)
+        c1 = d0 + c2 * h0
+        vertex = q[i] - 0.25 * c1 * c1 / c2 if c2 > 0.0 else q[i]
+        if vertex <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
+            best = i
+    return best if best >= 0 else smallest
 
 
 def _split_contour(
@@ -509,7 +514,7 @@ def _split_contour(
     n = arc.size
     total = float(arc[-1])
     closed = bool(np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * total)
-    k = _front_stagnation_index(arc, x, q, closed)
+    k = int(_front_stagnation_index(arc, x, q, closed, STAGNATION_UE))
     shift = 0
     if closed and k in (0, n - 1):
         # A closed contour listed from its stagnation point: start it half-way round instead.
