@@ -238,6 +238,15 @@ def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
     notes = []
     name = side.name
     options = side.options
+    if state.stop:
+        notes.append(
+            Notice(
+                code="march_stopped",
+                message=f"{name}: the turbulent march stopped at s = "
+                f"{state.stopped_s + side.offset:.4g} ({state.stop}); the edge velocity is "
+                "too rough there for Head's equations; try pressure.smoothing",
+            )
+        )
     if state.max_laminar_lambda > 0.1:
         notes.append(
             Notice(

@@ -32,6 +32,8 @@ __all__ = [
     "CAUSE_TRIP",
     "CLOSURE_CODES",
     "CRITERION_CODES",
+    "N_EVENT_FIELDS",
+    "N_STATION_FIELDS",
     "START_INFLOW",
     "START_SHARP",
     "START_STAGNATION",
@@ -41,6 +43,8 @@ __all__ = [
 
 F64 = NDArray[np.float64]
 
+#: Rows of the ``stations`` output and columns of the ``events`` output of ``march_sides``.
+N_STATION_FIELDS, N_EVENT_FIELDS = 7, 16
 CRITERION_CODES = {"none": 0, "michel": 1, "granville": 2, "abu_ghannam_shaw": 3}
 CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
 START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
@@ -59,6 +63,11 @@ STEP_UE, STEP_THETA, STEP_H1 = 0.15, 0.15, 0.045
 #: Largest step as a fraction of the distance from the side's origin (resolves the 1/s
 #: terms of a start at a stagnation point, a nose or a sharp edge).
 STEP_ORIGIN = 0.3
+#: Most Runge-Kutta steps (tries included) on one side: a bound on the work for any input.
+MAX_STEPS = 20_000
+#: How a turbulent march ended: normally (attached or separated), out of steps, or on a
+#: state the equations cannot continue from (rough input data).
+STOP_NONE, STOP_BUDGET, STOP_INVALID = 0, 1, 2
 #: Laminar delta99/theta of the Blasius layer, 4.91/0.664 (common practice).
 LAMINAR_DELTA99_RATIO = 4.91 / 0.664
 
@@ -70,7 +79,7 @@ _G_LOG_RE = np.log(GRANVILLE_INSTABILITY_TABLE[:, 1])
 # ----------------------------------------------------------------------------- twins
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def shear(closure: int, lam: float) -> float:
     """Twin of ``ibl.laminar`` l(lambda) closures."""
     if closure == 1:
@@ -80,7 +89,7 @@ def shear(closure: int, lam: float) -> float:
     return 0.22 + 1.402 * lam + 0.018 * lam / (lam + 0.107)
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def shape_factor(closure: int, lam: float) -> float:
     """Twin of ``ibl.laminar`` H(lambda) closures."""
     if closure == 1:
@@ -91,25 +100,25 @@ def shape_factor(closure: int, lam: float) -> float:
     return 2.088 + 0.0731 / (lam + 0.14)
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def michel(re_s: float) -> float:
     """Twin of ``ibl.transition.re_theta_transition_michel_1951``."""
     return 1.174 * (1.0 + 22400.0 / re_s) * re_s**0.46
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def granville_instability(lam: float) -> float:
     """Twin of ``ibl.transition.re_theta_instability_granville_1953``."""
     return float(np.exp(np.interp(lam, _G_LAM, _G_LOG_RE)))
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def granville_growth(lam_mean: float) -> float:
     """Twin of ``ibl.transition.re_theta_growth_granville_1953``."""
     return 375.0 + np.exp(6.1 + 55.0 * min(max(lam_mean, -0.04), 0.04))
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def abu_ghannam_shaw(lam: float, tu_percent: float) -> float:
     """Twin of ``ibl.transition.re_theta_transition_abu_ghannam_shaw_1980``."""
     lam = min(max(lam, -0.1), 0.1)
@@ -120,7 +129,7 @@ def abu_ghannam_shaw(lam: float, tu_percent: float) -> float:
     return 163.0 + np.exp(f - f * tu_percent / 6.91)
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def h1_from_h(h: float) -> float:
     """Twin of ``ibl.turbulent.entrainment_shape_factor_head_1958``."""
     if h <= 1.6:
@@ -128,7 +137,7 @@ def h1_from_h(h: float) -> float:
     return 3.3 + 1.5501 * max(h - 0.6778, 1e-12) ** -3.064
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def h_from_h1(h1: float) -> float:
     """Twin of ``ibl.turbulent.shape_factor_from_h1_head_1958``."""
     excess = max(h1 - 3.3, 1e-12)
@@ -137,13 +146,13 @@ def h_from_h1(h1: float) -> float:
     return 0.6778 + (excess / 1.5501) ** (-1.0 / 3.064)
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def entrainment(h1: float) -> float:
     """Twin of ``ibl.turbulent.entrainment_coefficient_head_1958``."""
     return 0.0306 * max(h1 - 3.0, 1e-12) ** -0.6169
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def cf_turbulent(law: int, h: float, re_theta: float) -> float:
     """Twins of ``ibl.turbulent.cf_ludwieg_tillmann_1949`` (law 0), ``cf_white_1974`` (1)."""
     if law == 0:
@@ -155,7 +164,7 @@ def cf_turbulent(law: int, h: float, re_theta: float) -> float:
 # ----------------------------------------------------------------------------- helpers
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _hermite(t: float, h: float, f0: float, f1: float, d0: float, d1: float) -> tuple[float, float]:
     """Cubic Hermite value and derivative at fraction t of an interval of length h."""
     t2 = t * t
@@ -170,9 +179,10 @@ def _hermite(t: float, h: float, f0: float, f1: float, d0: float, d1: float) -> 
     return value, slope
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _derivative(s: F64, f: F64, n: int, out: F64) -> None:
-    """Three-point, second-order derivative on a non-uniform grid (one-sided at the ends)."""
+    """Three-point, second-order derivative on a non-uniform grid (one-sided at the ends),
+    then limited so that the Hermite interpolant does not overshoot."""
     for i in range(1, n - 1):
         h1 = s[i] - s[i - 1]
         h2 = s[i + 1] - s[i]
@@ -193,9 +203,40 @@ def _derivative(s: F64, f: F64, n: int, out: F64) -> None:
         - (a + b) / (a * b) * f[n - 2]
         + a / (b * (a + b)) * f[n - 3]
     )
+    _limit(s, f, n, out)
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
+def _limit(s: F64, f: F64, n: int, d: F64) -> None:
+    """Fritsch & Carlson (1980) limiter: node derivatives that would make the cubic Hermite
+    interpolant overshoot (a derivative against the secant, or alpha^2 + beta^2 > 9) are
+    reduced, so that Ue and r never dip below their data between stations (rough or very
+    unevenly spaced data). Smooth, well-sampled data are left as they are.
+
+    Fritsch, F. N. & Carlson, R. E. (1980) SIAM J. Numer. Anal. 17(2), 238-246.
+    """
+    for i in range(n - 1):
+        delta = (f[i + 1] - f[i]) / (s[i + 1] - s[i])
+        if delta == 0.0:
+            d[i] = 0.0
+            d[i + 1] = 0.0
+            continue
+        a = d[i] / delta
+        b = d[i + 1] / delta
+        if a < 0.0:
+            d[i] = 0.0
+            a = 0.0
+        if b < 0.0:
+            d[i + 1] = 0.0
+            b = 0.0
+        norm = a * a + b * b
+        if norm > 9.0:
+            t = 3.0 / np.sqrt(norm)
+            d[i] = t * a * delta
+            d[i + 1] = t * b * delta
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _crossing(s: F64, g0: float, g1: float, i: int) -> float:
     """Position between stations i-1 and i where g crosses zero (linear in g)."""
     if i == 0:
@@ -206,7 +247,7 @@ def _crossing(s: F64, g0: float, g1: float, i: int) -> float:
     return s[i - 1] + frac * (s[i] - s[i - 1])
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _interp(s: F64, v: F64, n: int, at: float) -> float:
     """Linear interpolation of v(s) at one position inside [s[0], s[n-1]]."""
     if at <= s[0]:
@@ -218,7 +259,7 @@ def _interp(s: F64, v: F64, n: int, at: float) -> float:
     return v[j - 1] + min(max(frac, 0.0), 1.0) * (v[j] - v[j - 1])
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _rhs(
     theta: float,
     h1: float,
@@ -241,7 +282,7 @@ def _rhs(
     return dtheta, dh1
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _edge(
     s: F64, ue: F64, due: F64, r: F64, dr: F64, j: int, n: int, at: float
 ) -> tuple[int, float, float, float, float]:
@@ -255,7 +296,7 @@ def _edge(
     return j, u, du, rr, drr
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _head(
     s: F64,
     ue: F64,
@@ -273,14 +314,16 @@ def _head(
     theta_out: F64,
     h_out: F64,
     scale: float,
-) -> tuple[float, int]:
+) -> tuple[float, int, int]:
     """Head's equations from ``start`` by classical Runge-Kutta with limited steps.
 
-    Returns the separation position (NaN when attached to the end) and the step count.
+    Returns the separation position (NaN when attached to the end; where the march
+    stopped for ``STOP_BUDGET`` or ``STOP_INVALID``), the step count and the stop code.
     """
     origin = s[0]
     end = s[n - 1]
     span = end - origin
+    min_step = 1e-9 * span
     pos = start
     theta = theta0
     h1 = h1_from_h(h0)
@@ -290,51 +333,73 @@ def _head(
     m = j if s[j] >= pos else j + 1  # next station to fill
     j, u, du, rr, drr = _edge(s, ue, due, r, dr, j, n, pos)
     if not (u > 0.0 and rr > 0.0) or h0 >= h_separation:
-        return pos, 0
+        return pos, 0, STOP_NONE
     f_theta, f_h1 = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
     steps = 0
+    step = 0.0
     while True:
         while m < n and s[m] <= pos:
             theta_out[m] = theta
             h_out[m] = h_from_h1(h1)
             m += 1
         if m >= n or pos >= end:
-            return np.nan, steps
-        step = min(scale * MAX_STEP * span, end - pos)
-        step = min(step, max(scale * STEP_ORIGIN * (pos - origin), 1e-9 * span))
-        step = min(step, scale * STEP_UE * u / max(abs(du), 1e-300))
-        step = min(step, scale * STEP_THETA * theta / max(abs(f_theta), 1e-300))
-        step = min(step, scale * STEP_H1 * (h1 - 3.3) / max(abs(f_h1), 1e-300))
-        if end - pos - step < 1e-9 * span:
+            return np.nan, steps, STOP_NONE
+        if steps >= MAX_STEPS:
+            return pos, steps, STOP_BUDGET
+        limit = min(scale * MAX_STEP * span, end - pos)
+        limit = min(limit, max(scale * STEP_ORIGIN * (pos - origin), min_step))
+        limit = min(limit, scale * STEP_UE * u / max(abs(du), 1e-300))
+        limit = min(limit, scale * STEP_THETA * theta / max(abs(f_theta), 1e-300))
+        limit = min(limit, scale * STEP_H1 * (h1 - 3.3) / max(abs(f_h1), 1e-300))
+        step = max(limit, min_step)
+        if end - pos - step < min_step:
             step = end - pos
-        steps += 1
-        jj, u2, du2, r2, dr2 = _edge(s, ue, due, r, dr, j, n, pos + 0.5 * step)
-        th2 = theta + 0.5 * step * f_theta
-        hh2 = h1 + 0.5 * step * f_h1
-        if not (u2 > 0.0 and th2 > 0.0 and hh2 > 3.3 and r2 > 0.0):
-            return pos, steps
-        a_theta, a_h1 = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
-        th3 = theta + 0.5 * step * a_theta
-        hh3 = h1 + 0.5 * step * a_h1
-        if not (th3 > 0.0 and hh3 > 3.3):
-            return pos, steps
-        b_theta, b_h1 = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
-        jj, u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, jj, n, pos + step)
-        th4 = theta + step * b_theta
-        hh4 = h1 + step * b_h1
-        if not (u4 > 0.0 and th4 > 0.0 and hh4 > 3.3 and r4 > 0.0):
-            return pos, steps
-        c_theta, c_h1 = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
-        theta_new = theta + step / 6.0 * (f_theta + 2.0 * (a_theta + b_theta) + c_theta)
-        h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
-        if not (theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)):
-            return pos, steps
-        h_old = h_from_h1(h1)
-        h_new = h_from_h1(h1_new)
-        if h_new >= h_separation:
-            frac = (h_separation - h_old) / (h_new - h_old)
-            return pos + min(max(frac, 0.0), 1.0) * step, steps
-        g_theta, g_h1 = _rhs(theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+        # Classical Runge-Kutta; a step whose stages leave the valid state, or whose end
+        # derivatives break the step limits by more than a factor of 2, is halved.
+        while True:
+            steps += 1
+            ok = True
+            jj, u2, du2, r2, dr2 = _edge(s, ue, due, r, dr, j, n, pos + 0.5 * step)
+            th2 = theta + 0.5 * step * f_theta
+            hh2 = h1 + 0.5 * step * f_h1
+            ok = u2 > 0.0 and th2 > 0.0 and hh2 > 3.3 and r2 > 0.0
+            if ok:
+                a_theta, a_h1 = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                th3 = theta + 0.5 * step * a_theta
+                hh3 = h1 + 0.5 * step * a_h1
+                ok = th3 > 0.0 and hh3 > 3.3
+            if ok:
+                b_theta, b_h1 = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                jj, u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, jj, n, pos + step)
+                th4 = theta + step * b_theta
+                hh4 = h1 + step * b_h1
+                ok = u4 > 0.0 and th4 > 0.0 and hh4 > 3.3 and r4 > 0.0
+            if ok:
+                c_theta, c_h1 = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+                theta_new = theta + step / 6.0 * (f_theta + 2.0 * (a_theta + b_theta) + c_theta)
+                h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
+                ok = theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)
+            if ok:
+                h_new = h_from_h1(h1_new)
+                if h_new >= h_separation:
+                    h_old = h_from_h1(h1)
+                    frac = (h_separation - h_old) / (h_new - h_old)
+                    return pos + min(max(frac, 0.0), 1.0) * step, steps, STOP_NONE
+                g_theta, g_h1 = _rhs(theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+                ok = (
+                    step * abs(g_theta) <= 2.0 * scale * STEP_THETA * theta_new
+                    and step * abs(g_h1) <= 2.0 * scale * STEP_H1 * (h1_new - 3.3)
+                    and step * abs(du4) <= 2.0 * scale * STEP_UE * u4
+                )
+            if ok:
+                break
+            if step <= min_step or steps >= MAX_STEPS:
+                # H1 at its floor or Ue at zero: the layer separates; anything else is a
+                # numerical stop.
+                if hh2 <= 3.3 or u2 <= 0.0:
+                    return pos, steps, STOP_NONE
+                return pos, steps, STOP_INVALID
+            step = max(0.5 * step, min_step)
         # Cubic Hermite dense output at the stations passed in this step.
         while m < n and s[m] <= pos + step:
             t = (s[m] - pos) / step
@@ -348,7 +413,7 @@ def _head(
         j, u, du = jj, u4, du4
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _laminar_at(
     sk: F64,
     uk: F64,
@@ -393,7 +458,7 @@ def _laminar_at(
     return theta2, theta2 * du / nu, u * np.sqrt(theta2) / nu, u
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _margin(
     kind: int,
     theta2: float,
@@ -419,7 +484,7 @@ def _margin(
     return re - abu_ghannam_shaw(lc, tu)
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _refine(
     kind: int,
     lo: float,
@@ -481,7 +546,7 @@ def _refine(
 # ----------------------------------------------------------------------------- the march
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def march_sides(
     s: F64,
     ue: F64,
@@ -506,15 +571,19 @@ def march_sides(
         unused.
     stations : (sides, 7, n) output: theta, H, cf (NaN where undefined), Re_theta,
         delta99, turbulent flag (0/1), lambda.
-    events : (sides, 14) output: kept station count, transition s, cause, Re_theta,
+    events : (sides, 16) output: kept station count, transition s, cause, Re_theta,
         laminar separation s, its Re_delta*, short-bubble flag, separation s,
         separation-is-turbulent flag, largest laminar lambda, smallest and largest
-        turbulent Re_theta, Re_s at transition, mean lambda at transition.
+        turbulent Re_theta, Re_s at transition, mean lambda at transition, stop code of
+        the turbulent march, and where it stopped (NaN unless the code is not STOP_NONE).
     step_scale : multiplies every step limit of the turbulent march (1 by default;
         smaller for convergence checks).
     Positions are NaN when an event does not happen.  Returns the turbulent step count.
     """
     n_sides, n_max = s.shape
+    assert stations.shape[0] == n_sides and stations.shape[1] == N_STATION_FIELDS
+    assert stations.shape[2] >= n_max and events.shape[1] == N_EVENT_FIELDS
+    assert ints.shape[1] >= 5 and reals.shape[1] >= 9
     due = np.empty(n_max)
     dr = np.empty(n_max)
     integral = np.empty(n_max)
@@ -729,6 +798,7 @@ def march_sides(
             theta_t[i] = np.nan
             h_t[i] = np.nan
         separation = lsep if lam_separates else np.nan
+        stop = STOP_NONE
         if np.isfinite(tr):
             if start_kind == START_TURBULENT:
                 start, th0, hh0 = sk[0], theta_in, h_in
@@ -741,7 +811,7 @@ def march_sides(
                 )
                 th0 = np.sqrt(th2_start)
                 hh0 = h_init
-            separation, taken = _head(
+            separation, taken, stop = _head(
                 sk,
                 uk,
                 due,
@@ -760,12 +830,16 @@ def march_sides(
                 step_scale,
             )
             steps += taken
+        stopped = np.nan
+        if stop != STOP_NONE:
+            stopped, separation = separation, np.nan
 
-        # Station values up to separation.
+        # Station values up to separation (or where the march stopped).
+        cut = stopped if stop != STOP_NONE else separation
         keep = n
-        if np.isfinite(separation):
+        if np.isfinite(cut):
             keep = 1
-            while keep < n and sk[keep] <= separation:
+            while keep < n and sk[keep] <= cut:
                 keep += 1
         re_min = np.inf
         re_max = -np.inf
@@ -819,4 +893,6 @@ def march_sides(
         ev[10] = re_min if re_min <= re_max else np.nan
         ev[11] = re_max if re_min <= re_max else np.nan
         ev[13] = lam_mean_tr
+        ev[14] = stop
+        ev[15] = stopped
     return steps

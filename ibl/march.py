@@ -31,6 +31,11 @@ _START = {
     "sharp": kernel.START_SHARP,
     "inflow": kernel.START_INFLOW,
 }
+_STOP = {
+    kernel.STOP_NONE: "",
+    kernel.STOP_BUDGET: "step budget",
+    kernel.STOP_INVALID: "invalid state",
+}
 _CAUSE = {
     kernel.CAUSE_CRITERION: "criterion",
     kernel.CAUSE_TRIP: "trip",
@@ -63,6 +68,8 @@ class SideState:
     turbulent_re_theta_range: tuple[float, float]
     transition_re_s: float
     lambda_mean_at_transition: float
+    stop: str  # "" when the turbulent march ended normally
+    stopped_s: float
 
 
 def _stack(
@@ -108,8 +115,8 @@ def _stack(
 def march(sides: list[SideInput]) -> list[SideState]:
     """March every side from its start to separation or its end, all in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
-    stations = np.full((len(sides), 7, s.shape[1]), np.nan)
-    events = np.empty((len(sides), 14))
+    stations = np.full((len(sides), kernel.N_STATION_FIELDS, s.shape[1]), np.nan)
+    events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
     kernel.march_sides(s, ue, r, count, ints, reals, stations, events)
     states = []
     for i, ev in enumerate(events.tolist()):
@@ -138,6 +145,8 @@ def march(sides: list[SideInput]) -> list[SideState]:
                 turbulent_re_theta_range=(ev[10], ev[11]),
                 transition_re_s=ev[12],
                 lambda_mean_at_transition=ev[13],
+                stop=_STOP[int(ev[14])],
+                stopped_s=ev[15],
             )
         )
     return states

@@ -457,7 +457,7 @@ def _single_side(
     )
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, error_model="numpy")
 def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool, ue_limit: float) -> int:
     """Index of the point next to the front stagnation point.
 
@@ -540,6 +540,13 @@ def _split_contour(
         j = 1 if k == 0 else n - 2
         slope = float(np.sqrt(q[j]) / abs(arc[j] - s0))
         q_vertex = float(q[k])
+    if not slope > 0.0:
+        # No curvature to fit (a plateau of clipped Cp = 1): the slope from the nearest
+        # point that moves.
+        moving = np.flatnonzero(q > 1e-12)
+        if moving.size:
+            j = int(moving[np.argmin(np.abs(arc[moving] - s0))])
+            slope = float(np.sqrt(q[j]) / max(abs(arc[j] - s0), 1e-300))
     if np.sqrt(max(q_vertex, 0.0)) > STAGNATION_UE:
         warnings.append(
             Notice(

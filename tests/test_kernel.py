@@ -103,8 +103,8 @@ def test_turbulent_march_is_converged(doc):
     s, ue, r, count, ints, reals = _stack(sides)
     out = {}
     for scale in (1.0, 0.05):
-        stations = np.full((len(sides), 7, s.shape[1]), np.nan)
-        events = np.empty((len(sides), 14))
+        stations = np.full((len(sides), kernel.N_STATION_FIELDS, s.shape[1]), np.nan)
+        events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
         kernel.march_sides(s, ue, r, count, ints, reals, stations, events, scale)
         out[scale] = (stations, events)
     (st, ev), (st_ref, ev_ref) = out[1.0], out[0.05]
