@@ -380,12 +380,19 @@ def _head(
                 h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
                 ok = theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)
             if ok:
+                g_theta, g_h1 = _rhs(theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
                 h_new = h_from_h1(h1_new)
                 if h_new >= h_separation:
                     h_old = h_from_h1(h1)
-                    frac = (h_separation - h_old) / (h_new - h_old)
-                    return pos + min(max(frac, 0.0), 1.0) * step, steps, STOP_NONE
-                g_theta, g_h1 = _rhs(theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+                    frac = min(max((h_separation - h_old) / (h_new - h_old), 0.0), 1.0)
+                    separation = pos + frac * step
+                    while m < n and s[m] <= separation:
+                        t = (s[m] - pos) / step
+                        theta_out[m], _ = _hermite(t, step, theta, theta_new, f_theta, g_theta)
+                        h1_m, _ = _hermite(t, step, h1, h1_new, f_h1, g_h1)
+                        h_out[m] = min(h_from_h1(h1_m), h_separation)
+                        m += 1
+                    return separation, steps, STOP_NONE
                 ok = (
                     step * abs(g_theta) <= 2.0 * scale * STEP_THETA * theta_new
                     and step * abs(g_h1) <= 2.0 * scale * STEP_H1 * (h1_new - 3.3)
