@@ -142,18 +142,20 @@ def _list(values: NDArray[np.float64]) -> list[float]:
 
 
 def _regime(turbulent: NDArray[np.bool_]) -> list[Literal["laminar", "turbulent"]]:
-    """Station regimes: laminar up to transition, turbulent after it."""
+    """Station regimes: laminar up to transition, turbulent after it (as the kernel marks)."""
     n = turbulent.size
-    first = int(np.argmax(turbulent)) if n and turbulent.any() else n
-    if turbulent[first:].all():
-        return ["laminar"] * first + ["turbulent"] * (n - first)
-    return ["turbulent" if t else "laminar" for t in turbulent.tolist()]
+    laminar = n - int(np.count_nonzero(turbulent))
+    return ["laminar"] * laminar + ["turbulent"] * (n - laminar)
 
 
 def _x_at(side: SideInput, s: float) -> float | None:
+    """x at arc length s along the side's stations (linear), None without a contour."""
     if side.x is None or not math.isfinite(s):
         return None
-    return float(np.interp(s, side.s, side.x))
+    i = min(max(int(np.searchsorted(side.s, s)), 1), side.s.size - 1)
+    s0, s1 = float(side.s[i - 1]), float(side.s[i])
+    x0, x1 = float(side.x[i - 1]), float(side.x[i])
+    return x0 + (x1 - x0) * min(max((s - s0) / (s1 - s0), 0.0), 1.0)
 
 
 def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
