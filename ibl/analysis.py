@@ -65,9 +65,23 @@ def parse_case(doc: Any) -> Case:
         reason, _, path = message.rpartition(" - at `")
         if not reason:
             return _raise(FieldProblem("", message))
-        return _raise(FieldProblem(msgspec_path_to_pointer(path.rstrip("`")), reason))
+        pointer = msgspec_path_to_pointer(path.rstrip("`"))
+        value = _lookup(doc, pointer)
+        if isinstance(value, float) and not math.isfinite(value):
+            reason = "is not a finite number"
+        return _raise(FieldProblem(pointer, reason))
     except msgspec.DecodeError as error:
         return _raise(FieldProblem("", f"malformed JSON: {error}"))
+
+
+def _lookup(doc: Any, pointer: str) -> Any:
+    """The value a JSON pointer designates in a dict document, or None."""
+    for token in pointer.split("/")[1:]:
+        try:
+            doc = doc[int(token)] if isinstance(doc, list) else doc[token]
+        except (KeyError, IndexError, ValueError, TypeError):
+            return None
+    return doc
 
 
 def _raise(problem: FieldProblem) -> Case:

@@ -21,6 +21,7 @@ import msgspec
 from msgspec import Meta
 
 __all__ = [
+    "MAX_LENGTH",
     "MAX_POINTS",
     "Body",
     "Case",
@@ -53,9 +54,12 @@ class Struct(
     """Common base: unknown fields are errors, instances are immutable."""
 
 
-Coordinate = Annotated[float, Meta(description="Coordinate [length unit of the case]")]
-Points = Annotated[list[float], Meta(min_length=3, max_length=MAX_POINTS)]
-PositiveFloat = Annotated[float, Meta(gt=0.0)]
+#: Largest magnitude of a coordinate, arc length or radius [length unit].
+MAX_LENGTH = 1e9
+Length = Annotated[float, Meta(ge=-MAX_LENGTH, le=MAX_LENGTH)]
+Points = Annotated[list[Length], Meta(min_length=3, max_length=MAX_POINTS)]
+CpValue = Annotated[float, Meta(ge=-1e4, le=1e4)]
+SpeedRatio = Annotated[float, Meta(ge=-100.0, le=100.0)]
 
 
 class Surface(Struct):
@@ -82,7 +86,7 @@ class Pressure(Struct):
         None
     )
     edge_velocity: Annotated[
-        Points | None,
+        Annotated[list[SpeedRatio], Meta(min_length=3, max_length=MAX_POINTS)] | None,
         Meta(description="Edge velocity Ue/U_inf [-], one per point (sign ignored)"),
     ] = None
     smoothing: Annotated[
@@ -98,14 +102,16 @@ class Flow(Struct):
     """Free-stream conditions: a Reynolds number per unit length, or speed and viscosity."""
 
     reynolds: Annotated[
-        Annotated[float, Meta(gt=0.0)] | None,
+        Annotated[float, Meta(ge=1.0, le=1e12)] | None,
         Meta(description="Re = U_inf L / nu, L the unit of the coordinates [-]"),
     ] = None
     speed: Annotated[
-        Annotated[float, Meta(gt=0.0)] | None, Meta(description="Free-stream speed U_inf [m/s]")
+        Annotated[float, Meta(gt=0.0, le=1e4)] | None,
+        Meta(description="Free-stream speed U_inf [m/s]"),
     ] = None
     kinematic_viscosity: Annotated[
-        Annotated[float, Meta(gt=0.0)] | None, Meta(description="Kinematic viscosity nu [m^2/s]")
+        Annotated[float, Meta(ge=1e-12, le=10.0)] | None,
+        Meta(description="Kinematic viscosity nu [m^2/s]"),
     ] = None
     turbulence_intensity: Annotated[
         Annotated[float, Meta(ge=0.0, le=0.2)] | None,
@@ -129,7 +135,8 @@ class TransitionOptions(Struct):
 
     criterion: Literal["michel", "granville", "abu_ghannam_shaw", "none"] = "michel"
     trip: Annotated[
-        dict[Literal["upper", "lower", "surface"], Annotated[float, Meta(ge=0.0)]] | None,
+        dict[Literal["upper", "lower", "surface"], Annotated[float, Meta(ge=0.0, le=MAX_LENGTH)]]
+        | None,
         Meta(
             description="Forced transition: arc length from the stagnation point or leading "
             "edge, per side name [length unit]; 0 makes the side turbulent from its start"
@@ -167,7 +174,9 @@ class TurbulentOptions(Struct):
 class Inflow(Struct):
     """A measured state at the first station of a single surface, to march from."""
 
-    theta: Annotated[float, Meta(gt=0.0, description="Momentum thickness [length unit]")]
+    theta: Annotated[
+        float, Meta(gt=0.0, le=MAX_LENGTH, description="Momentum thickness [length unit]")
+    ]
     shape_factor: Annotated[float, Meta(ge=1.05, le=4.0, description="Shape factor H [-]")]
     regime: Literal["laminar", "turbulent"] = "laminar"
 

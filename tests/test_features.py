@@ -141,11 +141,11 @@ def test_batch_equals_single_runs():
 def test_batch_isolates_a_bad_case():
     good = ibl.parse_case(_plate(1e6))
     bad_doc = _plate(1e6)
-    bad_doc["pressure"]["edge_velocity"][3] = float("nan")
+    bad_doc["pressure"]["edge_velocity"] = [1.0] * 400  # one value short
     bad = ibl.parse_case(bad_doc)
     out = ibl.run_batch([good, bad, good])
     assert isinstance(out[1], ibl.CaseError)
-    assert out[1].problems[0].pointer == "/pressure/edge_velocity/3"
+    assert out[1].problems[0].pointer == "/pressure/edge_velocity"
     assert out[0] == out[2] == ibl.run(good)
 
 
