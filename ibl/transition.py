@@ -40,18 +40,28 @@ F64 = NDArray[np.float64]
 #: [memory; 400 is the usual value, some authors quote 450-500].
 OWEN_KLANFER_RE_DELTA_STAR = 400.0
 
-#: Critical (neutral-stability) Re_theta of Falkner-Skan profiles against Thwaites' lambda.
-#: Critical Re_delta* from the stability charts of Wazzan, Okamura & Smith (1968) [memory]:
-#: beta = -0.1988 (separation): 67; beta = -0.1: 199; beta = 0 (Blasius): 520;
-#: beta = 1 (plane stagnation): 12490; divided by the profiles' H (4.03, 2.80, 2.591, 2.216)
-#: and placed at lambda = 0.45 m / (5 m + 1), m = beta / (2 - beta) (Thwaites' similarity
-#: relation). Columns: lambda, Re_theta,crit.
+#: Critical (neutral-stability) Re_theta of the Falkner-Skan profiles against Thwaites'
+#: lambda.  Computed for this project by solving the Orr-Sommerfeld equation (temporal,
+#: parallel flow; Chebyshev collocation with scipy, ``tests/stability_reference.py``) on
+#: Falkner-Skan profiles from beta = -0.1988 (near separation) to 1 (plane stagnation);
+#: grid-converged to better than 1e-6.  Blasius: Re_delta*,crit = 519.06 (Jordinson 1970
+#: gives 519.4 [memory]).  Each row sits at the lambda that Thwaites' method gives for that
+#: flow, 0.45 m / (5 m + 1), m = beta / (2 - beta), because that is the lambda the march
+#: evaluates.  Columns: lambda, Re_theta,crit.
 GRANVILLE_INSTABILITY_TABLE: F64 = np.array(
     [
-        [-0.0742, 16.6],
-        [-0.0281, 71.1],
-        [0.0, 200.7],
-        [0.075, 5636.0],
+        [-0.07425, 16.75],
+        [-0.06328, 28.49],
+        [-0.04821, 41.84],
+        [-0.03553, 57.64],
+        [-0.02813, 70.71],
+        [-0.01250, 118.06],
+        [0.0, 200.32],
+        [0.01875, 552.08],
+        [0.03214, 1175.07],
+        [0.05000, 2651.58],
+        [0.06136, 3901.47],
+        [0.07500, 5586.34],
     ]
 )
 
@@ -108,17 +118,17 @@ def re_theta_instability_granville_1953(lam: ArrayLike) -> F64:
     Notes
     -----
     Granville (1953) places the instability point with the neutral-stability Reynolds
-    numbers of similar profiles; here they are those of the Falkner-Skan family
-    (Wazzan, Okamura & Smith 1968) [memory], 200.7 for the Blasius profile.  Outside
-    -0.074 <= lambda <= 0.075 the end values are held.
+    numbers of similar profiles; here they are those of the Falkner-Skan family, computed
+    from the Orr-Sommerfeld equation (``GRANVILLE_INSTABILITY_TABLE``), 200.3 for the
+    Blasius profile.  Outside -0.074 <= lambda <= 0.075 the end values are held.
 
     >>> round(float(re_theta_instability_granville_1953(0.0)), 1)
-    200.7
+    200.3
 
     References
     ----------
     Granville, P. S. (1953) David Taylor Model Basin Report 849.
-    Wazzan, A. R., Okamura, T. T. & Smith, A. M. O. (1968) Douglas Report DAC-67086.
+    Orr-Sommerfeld computation of this project (``tests/stability_reference.py``).
     """
     table = GRANVILLE_INSTABILITY_TABLE
     log_re = np.interp(np.asarray(lam, dtype=np.float64), table[:, 0], np.log(table[:, 1]))
@@ -144,7 +154,7 @@ def re_theta_growth_granville_1953(lam_mean: ArrayLike) -> F64:
     -----
     An exponential fit to Granville's low-turbulence curve as reproduced by Cebeci &
     Cousteix; recalled with low confidence [memory].  On a flat plate it gives
-    Re_theta,tr = 200.7 + 821 = 1022, Re_x = 2.3e6 with Thwaites' theta, in line with
+    Re_theta,tr = 200.3 + 821 = 1021, Re_x = 2.3e6 with Thwaites' theta, in line with
     flat-plate transition in quiet tunnels (common practice: 2e6-3e6).  Fitted for
     -0.04 <= lambda_mean <= 0.04; the argument is clipped there.
 
@@ -276,7 +286,8 @@ CRITERIA: dict[str, Criterion] = {
         "lambda, then transition when Re_theta - Re_theta,i reaches 375 + exp(6.1 + 55 "
         "lambda_mean); low free-stream turbulence",
         {"lambda_mean": (-0.04, 0.04)},
-        "Granville (1953) DTMB Report 849; Wazzan, Okamura & Smith (1968)",
+        "Granville (1953) DTMB Report 849; instability from Orr-Sommerfeld solutions of the "
+        "Falkner-Skan profiles",
     ),
     "abu_ghannam_shaw": Criterion(
         "Re_theta reaches 163 + exp(F(lambda)(1 - Tu/6.91)); needs flow.turbulence_intensity",
