@@ -1,4 +1,5 @@
-"""Command line: ``ibl run``, ``ibl demo``, ``ibl bench``, ``ibl serve``.
+"""Command line: ``ibl run``, ``ibl demo``, ``ibl sweep``, ``ibl validate``, ``ibl bench``,
+``ibl serve``.
 
 Contents
 --------
@@ -16,12 +17,15 @@ import math
 import sys
 from importlib import resources
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
 import msgspec
 
 from ibl.analysis import CAUTION, analyze
 from ibl.errors import CaseError
+
+if TYPE_CHECKING:
+    from ibl.figures import Format
 
 __all__ = ["DEMO_CASE", "load_case", "main", "summary"]
 
@@ -43,8 +47,8 @@ def _read_csv(path: Path) -> dict[str, Any]:
         raise CaseError.at("", f"{path}: empty CSV file")
     header = tuple(name.strip().lower() for name in rows[0])
     kind = None
-    for columns, value in _CSV_COLUMNS.items():
-        if set(columns) <= set(header):
+    for names, value in _CSV_COLUMNS.items():
+        if set(names) <= set(header):
             kind = value
             break
     if kind is None:
@@ -170,11 +174,7 @@ def summary(result: dict[str, Any]) -> str:
         lines.append(f"[{side['name']}]  {len(side['s'])} stations, s = 0 to {_fmt(end)}")
         tr = side["transition"]
         if tr:
-            cause = {
-                "criterion": "criterion met",
-                "trip": "trip",
-                "laminar_separation": "at laminar separation (short bubble)",
-            }[tr["cause"]]
+            cause = _CAUSES[tr["cause"]]
             lines.append(
                 f"  transition          {_where(tr)}, {cause}, Re_theta = {_fmt(tr['re_theta'])}"
             )
@@ -215,20 +215,48 @@ def summary(result: dict[str, Any]) -> str:
     return "\n".join(lines)
 
 
-def _add_case_flags(parser: argparse.ArgumentParser) -> None:
-    parser.add_argument("--format", choices=["text", "json"], default="text")
-    parser.add_argument("--reynolds", type=float, help="Re = U_inf L / nu, L the coordinate unit")
+#: Flags that ``ibl sweep`` accepts either as a number or as a range start:stop:count.
+_SWEEPABLE = {
+    "reynolds": "Re = U_inf L / nu, L the coordinate unit",
+    "mach": "free-stream Mach number",
+    "turbulence_intensity": "a fraction, e.g. 0.01",
+    "trip_upper": "trip arc length on the upper side",
+    "trip_lower": "trip arc length on the lower side",
+    "trip": "trip arc length on a single surface",
+}
+
+
+def _add_case_flags(parser: argparse.ArgumentParser, *, sweep: bool = False) -> None:
+    if sweep:
+        parser.add_argument("--format", choices=["text", "csv", "json"], default="text")
+        for name, text in _SWEEPABLE.items():
+            parser.add_argument(
+                "--" + name.replace("_", "-"),
+                metavar="VALUE|START:STOP:COUNT",
+                help=text + ("; a range is spaced logarithmically" if name == "reynolds" else ""),
+            )
+    else:
+        parser.add_argument(
+            "--format",
+            choices=["text", "json", "csv"],
+            default="text",
+            help="text summary, JSON result document, or CSV station table",
+        )
+        parser.add_argument("--reynolds", type=float, help=_SWEEPABLE["reynolds"])
+        parser.add_argument("--mach", type=float)
+        parser.add_argument("--turbulence-intensity", type=float, help="a fraction, e.g. 0.01")
+        parser.add_argument("--trip-upper", type=float, help=_SWEEPABLE["trip_upper"])
+        parser.add_argument("--trip-lower", type=float, help=_SWEEPABLE["trip_lower"])
+        parser.add_argument("--trip", type=float, help=_SWEEPABLE["trip"])
     parser.add_argument("--speed", type=float, help="free-stream speed [m/s]")
     parser.add_argument("--viscosity", type=float, help="kinematic viscosity [m^2/s]")
-    parser.add_argument("--mach", type=float)
-    parser.add_argument("--turbulence-intensity", type=float, help="a fraction, e.g. 0.01")
     parser.add_argument("--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"])
-    parser.add_argument("--trip-upper", type=float, help="trip arc length on the upper side")
-    parser.add_argument("--trip-lower", type=float, help="trip arc length on the lower side")
-    parser.add_argument("--trip", type=float, help="trip arc length on a single surface")
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
     parser.add_argument("--y-plus", type=float, nargs="+", help="first-cell y+ targets")
     parser.add_argument("--smoothing", help="'auto' or a smoothing-spline penalty")
+    parser.add_argument(
+        "--plot", type=Path, metavar="FILE", help="write a figure (.png or .svg) to FILE"
+    )
 
 
 def _parser() -> argparse.ArgumentParser:
@@ -245,11 +273,182 @@ def _parser() -> argparse.ArgumentParser:
     _add_case_flags(run)
     demo = commands.add_parser("demo", help="analyse the built-in demonstration case")
     _add_case_flags(demo)
+    sweep = commands.add_parser(
+        "sweep",
+        help="run a case over a range of one variable (e.g. --reynolds 1e5:1e7:20)",
+        description="Run a case at every value of one range START:STOP:COUNT (logarithmic for "
+        "--reynolds, linear otherwise) and tabulate transition and separation on each side. "
+        "Other flags given as single numbers fix that value. " + CAUTION,
+    )
+    sweep.add_argument("case", type=Path, help="CASE.json or a CSV of taps")
+    _add_case_flags(sweep, sweep=True)
+    sweep.add_argument("--chunk", type=int, help="cases per batch (default: 64 here)")
+    sweep.add_argument(
+        "--scheduler", metavar="ADDRESS", help="dask.distributed scheduler, e.g. tcp://host:8786"
+    )
+    sweep.add_argument("--quiet", action="store_true", help="no progress bar")
+    validate = commands.add_parser(
+        "validate",
+        help="compare with exact solutions and published data",
+        description="Run the reference cases: exact solutions of the boundary-layer equations, "
+        "measurements and published laws; print each comparison with its tolerance and source. "
+        "Exit status 1 if any lies outside its tolerance.",
+    )
+    validate.add_argument("--format", choices=["text", "json"], default="text")
+    validate.add_argument(
+        "--plot", type=Path, metavar="FILE", help="write a figure (.png or .svg) to FILE"
+    )
     bench = commands.add_parser("bench", help="print timing figures of the march")
     bench.add_argument("--repeat", type=int, default=200)
     bench.add_argument("--batch", type=int, default=2000, help="sides in the batched run")
     commands.add_parser("serve", help="run the HTTP service", add_help=False)
     return parser
+
+
+def _report(error: CaseError) -> int:
+    print("ibl: the case cannot be analysed:", file=sys.stderr)
+    for problem in error.problems:
+        print(f"  {problem.pointer or '/'}: {problem.reason}", file=sys.stderr)
+    return 2
+
+
+def _plot_format(path: Path | None) -> Format | None:
+    """The figure format of ``--plot``, checked before any work is done.
+
+    Raises
+    ------
+    ValueError
+        If the file name does not end in .png or .svg.
+    """
+    if path is None:
+        return None
+    from ibl.figures import format_of
+
+    return format_of(path)
+
+
+def _write_figure(path: Path, data: bytes) -> None:
+    path.write_bytes(data)
+    print(f"ibl: figure written to {path}", file=sys.stderr)
+
+
+def _analyse(args: argparse.Namespace) -> int:
+    """``ibl run`` and ``ibl demo``."""
+    try:
+        fmt = _plot_format(args.plot)
+    except ValueError as error:
+        print(f"ibl: {error}", file=sys.stderr)
+        return 2
+    if args.command == "demo":
+        text = resources.files("ibl").joinpath("data", DEMO_CASE).read_text()
+        case = json.loads(text)
+        _apply_flags(case, args)
+    else:
+        if not args.case.exists():
+            print(f"ibl: {args.case}: no such file", file=sys.stderr)
+            return 2
+        case = load_case(args.case, args)
+    result = analyze(case)
+    from ibl.figures import length_unit
+
+    units = length_unit(case)
+    if args.format == "json":
+        sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
+    elif args.format == "csv":
+        from ibl.table import stations_csv
+
+        sys.stdout.write(stations_csv(result, units=units))
+    else:
+        print(summary(result))
+    if args.plot is not None and fmt is not None:
+        from ibl.figures import render
+
+        surface = case.get("surface", {})
+        outline = (surface["x"], surface["y"]) if surface.get("x") and surface.get("y") else None
+        _write_figure(args.plot, render(result, fmt, units=units, outline=outline))
+    return 0
+
+
+def _sweep_range(args: argparse.Namespace) -> tuple[str, list[float]]:
+    """The one swept flag and its values; the other sweepable flags become numbers."""
+    from ibl.sweep import parse_range
+
+    ranges = [n for n in _SWEEPABLE if getattr(args, n) is not None and ":" in getattr(args, n)]
+    if len(ranges) != 1:
+        raise ValueError(
+            "give exactly one range START:STOP:COUNT, e.g. --reynolds 1e5:1e7:20"
+            + (f" (got {len(ranges)})" if ranges else "")
+        )
+    variable = ranges[0]
+    values = parse_range(getattr(args, variable), variable)
+    setattr(args, variable, None)
+    for name in _SWEEPABLE:
+        text = getattr(args, name)
+        if text is not None:
+            try:
+                setattr(args, name, float(text))
+            except ValueError:
+                raise ValueError(f"--{name.replace('_', '-')}: {text!r} is not a number") from None
+    return variable, values
+
+
+def _sweep(args: argparse.Namespace) -> int:
+    """``ibl sweep``."""
+    from ibl.sweep import sweep, sweep_csv, sweep_text
+
+    try:
+        fmt = _plot_format(args.plot)
+        variable, values = _sweep_range(args)
+    except ValueError as error:
+        print(f"ibl: {error}", file=sys.stderr)
+        return 2
+    if not args.case.exists():
+        print(f"ibl: {args.case}: no such file", file=sys.stderr)
+        return 2
+    case = load_case(args.case, args)
+    from ibl.figures import length_unit
+
+    # Coordinates stay in metres when a case given by speed and viscosity is swept in Re.
+    units = length_unit(case)
+    progress = sys.stderr.isatty() and not args.quiet
+    try:
+        result = sweep(
+            case, variable, values, scheduler=args.scheduler, chunk=args.chunk, progress=progress
+        )
+    except ImportError as error:
+        print(f"ibl: --scheduler needs dask.distributed ({error})", file=sys.stderr)
+        return 2
+    if args.format == "json":
+        sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
+    elif args.format == "csv":
+        sys.stdout.write(sweep_csv(result, units=units))
+    else:
+        print(sweep_text(result, units=units))
+    if args.plot is not None and fmt is not None:
+        from ibl.figures import render_sweep
+
+        _write_figure(args.plot, render_sweep(result, fmt, units=units))
+    return 0
+
+
+def _validate(args: argparse.Namespace) -> int:
+    """``ibl validate``."""
+    try:
+        fmt = _plot_format(args.plot)
+    except ValueError as error:
+        print(f"ibl: {error}", file=sys.stderr)
+        return 2
+    from ibl.validation import figure, report_text, validate
+
+    checks = validate()
+    if args.format == "json":
+        doc = {"checks": msgspec.to_builtins(checks), "caution": CAUTION}
+        sys.stdout.write(msgspec.json.encode(doc).decode() + "\n")
+    else:
+        print(report_text(checks))
+    if args.plot is not None and fmt is not None:
+        _write_figure(args.plot, figure(checks, fmt))
+    return 0 if all(check.within for check in checks) else 1
 
 
 def main(argv: list[str] | None = None) -> int:
@@ -264,27 +463,14 @@ def main(argv: list[str] | None = None) -> int:
         from ibl.bench import main as bench
 
         return bench(repeat=args.repeat, batch=args.batch)
+    if args.command == "validate":
+        return _validate(args)
     try:
-        if args.command == "demo":
-            text = resources.files("ibl").joinpath("data", DEMO_CASE).read_text()
-            case = json.loads(text)
-            _apply_flags(case, args)
-        else:
-            if not args.case.exists():
-                print(f"ibl: {args.case}: no such file", file=sys.stderr)
-                return 2
-            case = load_case(args.case, args)
-        result = analyze(case)
+        if args.command == "sweep":
+            return _sweep(args)
+        return _analyse(args)
     except CaseError as error:
-        print("ibl: the case cannot be analysed:", file=sys.stderr)
-        for problem in error.problems:
-            print(f"  {problem.pointer or '/'}: {problem.reason}", file=sys.stderr)
-        return 2
-    if args.format == "json":
-        sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
-    else:
-        print(summary(result))
-    return 0
+        return _report(error)
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,470 @@
+"""Sweeps: one case run at many values of one variable, and where the layer changes.
+
+Contents
+--------
+- ``VARIABLES``: the variables that can be swept, with their labels and spacing.
+- ``parse_range(text, variable)``: ``"start:stop:count"`` to values (logarithmic spacing for
+  the Reynolds number, linear otherwise).
+- ``set_variable(case_doc, variable, value)``: a copy of a case document with one value set.
+- ``sweep(case_doc, variable, values, *, scheduler, chunk, progress)``: the swept cases run
+  through ``ibl.run_batch`` in chunks, locally or on a dask.distributed cluster; returns a
+  ``Sweep``: transition, laminar separation and separation on each side at every value.
+- ``sweep_text(sweep, units)``, ``sweep_csv(sweep, units)``: readable and CSV tables.
+"""
+
+from __future__ import annotations
+
+import copy
+import csv
+import io
+import math
+import sys
+from collections.abc import Iterator, Sequence
+from dataclasses import dataclass
+from typing import TYPE_CHECKING, Any, Literal
+
+import msgspec
+import numpy as np
+
+from ibl.analysis import CAUTION, parse_case, run, run_batch
+from ibl.errors import CaseError
+from ibl.schema import Case, Result
+
+if TYPE_CHECKING:
+    from distributed import Client
+
+__all__ = [
+    "DEFAULT_CHUNK",
+    "VARIABLES",
+    "SidePositions",
+    "Sweep",
+    "SweepPoint",
+    "Variable",
+    "parse_range",
+    "run_chunk",
+    "set_variable",
+    "sweep",
+    "sweep_csv",
+    "sweep_text",
+]
+
+Variable = Literal["reynolds", "turbulence_intensity", "mach", "trip_upper", "trip_lower", "trip"]
+
+#: Cases per call of ``run_batch`` when running locally.
+DEFAULT_CHUNK = 64
+
+
+@dataclass(frozen=True)
+class VariableInfo:
+    """How a swept variable is labelled, spaced and bounded."""
+
+    label: str
+    log: bool
+    low: float
+    high: float
+    high_open: bool = False
+
+
+VARIABLES: dict[str, VariableInfo] = {
+    "reynolds": VariableInfo("Re per unit length [-]", True, 0.0, math.inf, high_open=True),
+    "turbulence_intensity": VariableInfo("turbulence intensity Tu [-]", False, 0.0, 0.2),
+    "mach": VariableInfo("free-stream Mach number [-]", False, 0.0, 1.0, high_open=True),
+    "trip_upper": VariableInfo("trip position on the upper side, s", False, 0.0, math.inf),
+    "trip_lower": VariableInfo("trip position on the lower side, s", False, 0.0, math.inf),
+    "trip": VariableInfo("trip position on the surface, s", False, 0.0, math.inf),
+}
+
+
+class SidePositions(msgspec.Struct, frozen=True, kw_only=True):
+    """Where the layer on one side changes, at one swept value (s from the side's origin)."""
+
+    side: str
+    transition_s: float | None
+    transition_x: float | None
+    transition_cause: str | None
+    laminar_separation_s: float | None
+    laminar_separation_x: float | None
+    bubble: str | None
+    separation_s: float | None
+    separation_x: float | None
+    separation_regime: str | None
+    end_s: float
+
+
+class SweepPoint(msgspec.Struct, frozen=True, kw_only=True):
+    """One swept value: the positions on each side, or why the case could not be run."""
+
+    value: float
+    sides: list[SidePositions]
+    warnings: list[str]
+    error: str | None = None
+
+
+class Sweep(msgspec.Struct, frozen=True, kw_only=True):
+    """A sweep of one variable: the case name, the variable and every point, in order."""
+
+    name: str | None
+    variable: str
+    label: str
+    points: list[SweepPoint]
+    caution: str = CAUTION
+
+
+# ------------------------------------------------------------------------ the variable
+
+
+def parse_range(text: str, variable: str) -> list[float]:
+    """Values from ``"start:stop:count"``: logarithmic for the Reynolds number, else linear.
+
+    >>> parse_range("1e5:1e7:3", "reynolds")
+    [100000.0, 1000000.0, 10000000.0]
+    >>> parse_range("0:0.02:3", "turbulence_intensity")
+    [0.0, 0.01, 0.02]
+
+    Raises
+    ------
+    ValueError
+        If the text is not of that form, the count is below 1 or a value is out of range.
+    """
+    info = _info(variable)
+    parts = text.split(":")
+    if len(parts) != 3:
+        raise ValueError(f"{variable}: {text!r} is not start:stop:count")
+    try:
+        start, stop, count = float(parts[0]), float(parts[1]), int(parts[2])
+    except ValueError:
+        raise ValueError(f"{variable}: {text!r} is not start:stop:count") from None
+    if count < 1:
+        raise ValueError(f"{variable}: the count in {text!r} must be at least 1")
+    if info.log and (start <= 0.0 or stop <= 0.0):
+        raise ValueError(f"{variable}: a logarithmic range needs positive ends, got {text!r}")
+    values = (np.geomspace if info.log else np.linspace)(start, stop, count)
+    out: list[float] = [float(v) for v in values]
+    check_values(variable, out)
+    return out
+
+
+def check_values(variable: str, values: Sequence[float]) -> None:
+    """Raise ValueError if a value lies outside what the case document accepts."""
+    info = _info(variable)
+    for value in values:
+        above = value >= info.high if info.high_open else value > info.high
+        if not math.isfinite(value) or value < info.low or above or (info.log and value <= 0):
+            raise ValueError(f"{variable}: {value:g} is outside the accepted range")
+
+
+def _info(variable: str) -> VariableInfo:
+    if variable not in VARIABLES:
+        raise ValueError(f"cannot sweep {variable!r}; choose one of {', '.join(VARIABLES)}")
+    return VARIABLES[variable]
+
+
+def set_variable(case_doc: dict[str, Any], variable: str, value: float) -> dict[str, Any]:
+    """A deep copy of ``case_doc`` with ``variable`` set to ``value``.
+
+    Setting the Reynolds number removes speed and viscosity, as the ``--reynolds`` flag does.
+    """
+    _info(variable)
+    doc = copy.deepcopy(case_doc)
+    flow = doc.setdefault("flow", {})
+    if variable == "reynolds":
+        flow.pop("speed", None)
+        flow.pop("kinematic_viscosity", None)
+        flow["reynolds"] = value
+    elif variable in ("turbulence_intensity", "mach"):
+        flow[variable] = value
+    else:
+        side = "surface" if variable == "trip" else variable.removeprefix("trip_")
+        doc.setdefault("transition", {}).setdefault("trip", {})[side] = value
+    return doc
+
+
+# ---------------------------------------------------------------------------- running
+
+
+def _event(event: Any, key: str) -> tuple[float | None, float | None, str | None]:
+    if event is None:
+        return None, None, None
+    return float(event.s), event.x, str(getattr(event, key))
+
+
+def _positions(result: Result) -> list[SidePositions]:
+    out = []
+    for side in result.sides:
+        tr = _event(side.transition, "cause")
+        ls = _event(side.laminar_separation, "bubble")
+        sep = _event(side.separation, "regime")
+        out.append(
+            SidePositions(
+                side=side.name,
+                transition_s=tr[0],
+                transition_x=tr[1],
+                transition_cause=tr[2],
+                laminar_separation_s=ls[0],
+                laminar_separation_x=ls[1],
+                bubble=ls[2],
+                separation_s=sep[0],
+                separation_x=sep[1],
+                separation_regime=sep[2],
+                end_s=float(side.s[-1]),
+            )
+        )
+    return out
+
+
+def _error_text(error: CaseError) -> str:
+    return "; ".join(f"{p.pointer or '/'}: {p.reason}" for p in error.problems)
+
+
+def run_chunk(
+    case_doc: dict[str, Any], variable: str, values: Sequence[float]
+) -> list[dict[str, Any]]:
+    """Run ``case_doc`` at each of ``values`` in one ``run_batch``; the points as builtins.
+
+    Top-level so that a dask.distributed worker can import it.
+    """
+    cases: list[Case | CaseError] = []
+    for value in values:
+        try:
+            cases.append(parse_case(set_variable(case_doc, variable, value)))
+        except CaseError as error:
+            cases.append(error)
+    good = [c for c in cases if isinstance(c, Case)]
+    results = iter(run_batch(good) if good else [])
+    points = []
+    for value, case in zip(values, cases, strict=True):
+        outcome: Result | CaseError = case if isinstance(case, CaseError) else next(results)
+        if isinstance(outcome, CaseError):
+            message = _error_text(outcome)
+            points.append(SweepPoint(value=value, sides=[], warnings=[], error=message))
+        else:
+            codes = sorted({w.code for w in outcome.warnings})
+            points.append(SweepPoint(value=value, sides=_positions(outcome), warnings=codes))
+    out: list[dict[str, Any]] = msgspec.to_builtins(points)
+    return out
+
+
+def _chunks(values: Sequence[float], size: int) -> Iterator[tuple[int, list[float]]]:
+    for start in range(0, len(values), size):
+        yield start, list(values[start : start + size])
+
+
+def _progress(total: int, enabled: bool) -> Any:
+    from tqdm import tqdm  # type: ignore[import-untyped,unused-ignore]
+
+    return tqdm(total=total, disable=not enabled, file=sys.stderr, unit="case", leave=False)
+
+
+def _run_local(
+    case_doc: dict[str, Any], variable: str, values: Sequence[float], chunk: int, bar: Any
+) -> list[dict[str, Any]]:
+    points: list[dict[str, Any]] = []
+    for _, part in _chunks(values, chunk):
+        points.extend(run_chunk(case_doc, variable, part))
+        bar.update(len(part))
+    return points
+
+
+def _run_cluster(
+    client: Any,
+    case_doc: dict[str, Any],
+    variable: str,
+    values: Sequence[float],
+    chunk: int,
+    bar: Any,
+) -> list[dict[str, Any]]:
+    from distributed import as_completed as completed
+
+    as_completed: Any = completed
+    doc = client.scatter(case_doc, broadcast=True)
+    parts = list(_chunks(values, chunk))
+    futures = [
+        client.submit(run_chunk, doc, variable, part, pure=False, key=f"ibl-sweep-{start}")
+        for start, part in parts
+    ]
+    starts = {future.key: start for future, (start, _) in zip(futures, parts, strict=True)}
+    slots: list[dict[str, Any] | None] = [None] * len(values)
+    for future in as_completed(futures):
+        part_points = future.result()
+        start = starts[future.key]
+        slots[start : start + len(part_points)] = part_points
+        bar.update(len(part_points))
+    return [p for p in slots if p is not None]
+
+
+def _cluster_chunk(client: Any, count: int) -> int:
+    workers = max(1, len(client.scheduler_info().get("workers", {})))
+    return max(1, min(DEFAULT_CHUNK, math.ceil(count / (2 * workers))))
+
+
+def sweep(
+    case_doc: dict[str, Any],
+    variable: str,
+    values: Sequence[float],
+    *,
+    scheduler: str | Client | None = None,
+    chunk: int | None = None,
+    progress: bool = False,
+) -> Sweep:
+    """Run ``case_doc`` at every value of ``variable`` and collect where the layer changes.
+
+    Parameters
+    ----------
+    case_doc
+        A case document (dict); the swept value replaces the one it holds.
+    variable
+        One of ``VARIABLES``.
+    values
+        The values, run in chunks of ``chunk`` cases per ``ibl.run_batch``.
+    scheduler
+        None to run here; a dask.distributed scheduler address or ``Client`` to submit the
+        chunks to that cluster (its workers need ``ibl`` installed).
+    chunk
+        Cases per chunk: by default 64 here, or enough chunks for two per worker on a cluster.
+    progress
+        Show a tqdm progress bar on stderr.
+
+    Raises
+    ------
+    ValueError
+        For an unknown variable, a value out of range or no values.
+    CaseError
+        If the case cannot be analysed at the first value (the case itself is wrong).
+    """
+    check_values(variable, values)
+    if not values:
+        raise ValueError("a sweep needs at least one value")
+    if chunk is not None and chunk < 1:
+        raise ValueError("chunk must be at least 1")
+    # A case that cannot be analysed at the first value is wrong in itself: say so once.
+    run(parse_case(set_variable(case_doc, variable, values[0])))
+    with _progress(len(values), progress) as bar:
+        if scheduler is None:
+            points = _run_local(case_doc, variable, values, chunk or DEFAULT_CHUNK, bar)
+        else:
+            points = _with_client(scheduler, case_doc, variable, values, chunk, bar)
+    return Sweep(
+        name=case_doc.get("name"),
+        variable=variable,
+        label=VARIABLES[variable].label,
+        points=msgspec.convert(points, list[SweepPoint]),
+    )
+
+
+def _with_client(
+    scheduler: str | Client,
+    case_doc: dict[str, Any],
+    variable: str,
+    values: Sequence[float],
+    chunk: int | None,
+    bar: Any,
+) -> list[dict[str, Any]]:
+    from distributed import Client
+
+    if isinstance(scheduler, Client):
+        size = chunk or _cluster_chunk(scheduler, len(values))
+        return _run_cluster(scheduler, case_doc, variable, values, size, bar)
+    connect: Any = Client
+    with connect(scheduler) as client:
+        size = chunk or _cluster_chunk(client, len(values))
+        return _run_cluster(client, case_doc, variable, values, size, bar)
+
+
+# ------------------------------------------------------------------------------ tables
+
+CSV_COLUMNS = (
+    "value",
+    "side",
+    "transition_s",
+    "transition_x",
+    "transition_cause",
+    "laminar_separation_s",
+    "laminar_separation_x",
+    "bubble",
+    "separation_s",
+    "separation_x",
+    "separation_regime",
+    "end_s",
+    "error",
+)
+
+
+def _cell(value: Any) -> str:
+    if value is None:
+        return ""
+    if isinstance(value, float):
+        return repr(value)
+    return str(value)
+
+
+def sweep_csv(result: Sweep, *, units: str = "coordinate unit") -> str:
+    """The sweep as a long CSV table: one row per value and side (one row for a failed case)."""
+    buffer = io.StringIO()
+    buffer.write(
+        f"# ibl sweep of {result.variable} ({result.label})\n"
+        f"# case: {result.name or '(unnamed)'}\n"
+        f"# s and x in {units}; s from the stagnation point or leading edge of each side; "
+        "empty: the event does not occur\n"
+        f"# CAUTION: {CAUTION}\n"
+    )
+    writer = csv.writer(buffer, lineterminator="\n")
+    writer.writerow((result.variable, *CSV_COLUMNS[1:]))
+    for point in result.points:
+        if point.error is not None:
+            writer.writerow([_cell(point.value)] + [""] * (len(CSV_COLUMNS) - 2) + [point.error])
+            continue
+        for side in point.sides:
+            cells = [getattr(side, c) for c in CSV_COLUMNS[1:-1]]
+            writer.writerow([_cell(point.value), *(_cell(c) for c in cells), ""])
+    return buffer.getvalue()
+
+
+def _where(s: float | None, x: float | None) -> str:
+    if s is None:
+        return "-"
+    return f"{s:.4g}" + (f" ({x:.4g})" if x is not None else "")
+
+
+_CAUSE = {"criterion": "crit", "trip": "trip", "laminar_separation": "bubble"}
+
+
+def _side_cells(side: SidePositions) -> list[str]:
+    transition = _where(side.transition_s, side.transition_x)
+    if side.transition_cause:
+        transition += " " + _CAUSE.get(side.transition_cause, side.transition_cause)
+    separation = _where(side.separation_s, side.separation_x)
+    if side.separation_regime:
+        separation += " " + ("lam" if side.separation_regime == "laminar" else "turb")
+    return [transition, separation]
+
+
+def sweep_text(result: Sweep, *, units: str = "coordinate unit") -> str:
+    """A readable table: transition and separation s (x) on each side at every value."""
+    names = [s.side for p in result.points for s in p.sides]
+    sides = list(dict.fromkeys(names))
+    header = [result.variable] + [f"{n} {e} s (x)" for n in sides for e in ("transition", "sep.")]
+    rows = []
+    for point in result.points:
+        row = [f"{point.value:.4g}"]
+        if point.error is not None:
+            row.append("error: " + point.error)
+        else:
+            by_name = {s.side: s for s in point.sides}
+            for name in sides:
+                row += _side_cells(by_name[name]) if name in by_name else ["-", "-"]
+        rows.append(row)
+    widths = [max(len(r[i]) for r in [header, *rows] if i < len(r)) for i in range(len(header))]
+    lines = [
+        f"Sweep of {result.variable} ({result.label}), case: {result.name or '(unnamed)'}",
+        "",
+        "  ".join(h.ljust(w) for h, w in zip(header, widths, strict=True)),
+    ]
+    lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=False)) for r in rows]
+    lines += [
+        "",
+        f"s: arc length from the stagnation point or leading edge; s and x in {units}. "
+        "Transition by crit(erion), trip or bubble (at a short laminar separation bubble); "
+        "separation lam(inar) or turb(ulent); '-': does not occur.",
+        "CAUTION: " + CAUTION,
+    ]
+    return "\n".join(line.rstrip() for line in lines)

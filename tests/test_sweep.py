@@ -1,0 +1,265 @@
+"""Sweeps: ranges, agreement with single runs, chunking, a dask.distributed cluster, the CLI."""
+
+from __future__ import annotations
+
+import copy
+import csv
+import io
+import json
+import math
+from pathlib import Path
+from typing import Any
+
+import msgspec
+import numpy as np
+import pytest
+
+import ibl
+from ibl.analysis import CAUTION
+from ibl.cli import main
+from ibl.sweep import Sweep, SweepPoint, parse_range, run_chunk, set_variable, sweep, sweep_csv
+
+EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "strut.json"
+STRUT = json.loads(EXAMPLE.read_text())
+RE_VALUES = [float(v) for v in np.geomspace(1e5, 1e7, 7)]
+
+
+def _plate(n: int = 201) -> dict[str, Any]:
+    s = np.linspace(0.0, 1.0, n)
+    return {
+        "surface": {"s": s.tolist()},
+        "pressure": {"edge_velocity": [1.0] * n},
+        "flow": {"reynolds": 2e6, "turbulence_intensity": 0.01},
+        "transition": {"criterion": "abu_ghannam_shaw"},
+    }
+
+
+# --------------------------------------------------------------------------------- ranges
+
+
+def test_reynolds_range_is_logarithmic() -> None:
+    values = parse_range("1e5:1e7:20", "reynolds")
+    assert len(values) == 20
+    assert values[0] == pytest.approx(1e5) and values[-1] == pytest.approx(1e7)
+    ratios = np.array(values[1:]) / np.array(values[:-1])
+    np.testing.assert_allclose(ratios, 100.0 ** (1.0 / 19.0), rtol=1e-12)
+
+
+@pytest.mark.parametrize("variable", ["turbulence_intensity", "mach", "trip_upper", "trip"])
+def test_other_ranges_are_linear(variable: str) -> None:
+    values = parse_range("0:0.1:5", variable)
+    np.testing.assert_allclose(values, [0.0, 0.025, 0.05, 0.075, 0.1], atol=1e-15)
+
+
+@pytest.mark.parametrize(
+    ("text", "variable"),
+    [
+        ("1e5:1e7", "reynolds"),
+        ("0:1e7:3", "reynolds"),
+        ("1e5:1e7:0", "reynolds"),
+        ("a:b:3", "mach"),
+        ("0:1:3", "mach"),
+        ("0:0.5:3", "turbulence_intensity"),
+        ("0:1:3", "speed"),
+    ],
+    ids=["two-parts", "log-zero", "count-zero", "not-numbers", "mach-1", "tu-0.5", "unknown"],
+)
+def test_bad_ranges_raise(text: str, variable: str) -> None:
+    with pytest.raises(ValueError):
+        parse_range(text, variable)
+
+
+def test_set_variable_copies_and_replaces() -> None:
+    doc = copy.deepcopy(STRUT)
+    swept = set_variable(doc, "reynolds", 3e5)
+    assert swept["flow"]["reynolds"] == 3e5
+    assert "speed" not in swept["flow"] and "kinematic_viscosity" not in swept["flow"]
+    assert doc == STRUT
+    assert set_variable(doc, "trip_lower", 0.05)["transition"]["trip"] == {"lower": 0.05}
+    assert set_variable(_plate(), "trip", 0.2)["transition"]["trip"] == {"surface": 0.2}
+
+
+# ------------------------------------------------------------------------- against single
+
+
+def _single(doc: dict[str, Any]) -> dict[str, Any]:
+    return {side["name"]: side for side in ibl.analyze(doc)["sides"]}
+
+
+def _event_s(event: dict[str, Any] | None) -> float | None:
+    return None if event is None else event["s"]
+
+
+def _assert_matches_single_runs(result: Sweep, docs: list[dict[str, Any]]) -> None:
+    assert len(result.points) == len(docs)
+    for point, doc in zip(result.points, docs, strict=True):
+        single = _single(doc)
+        assert point.error is None
+        assert [p.side for p in point.sides] == list(single)
+        for positions in point.sides:
+            side = single[positions.side]
+            assert positions.transition_s == _event_s(side["transition"])
+            assert positions.laminar_separation_s == _event_s(side["laminar_separation"])
+            assert positions.separation_s == _event_s(side["separation"])
+            if side["transition"] is not None:
+                assert positions.transition_x == side["transition"]["x"]
+                assert positions.transition_cause == side["transition"]["cause"]
+            if side["separation"] is not None:
+                assert positions.separation_x == side["separation"]["x"]
+                assert positions.separation_regime == side["separation"]["regime"]
+            assert positions.end_s == side["s"][-1]
+
+
+@pytest.mark.parametrize("chunk", [1, 3, 64], ids=["chunk1", "chunk3", "one-chunk"])
+def test_reynolds_sweep_equals_single_runs(chunk: int) -> None:
+    """Each swept case built here by hand (Reynolds number in place of speed and viscosity)
+    and analysed alone gives the positions of the sweep, whatever the chunking."""
+    result = sweep(STRUT, "reynolds", RE_VALUES, chunk=chunk)
+    docs = []
+    for value in RE_VALUES:
+        doc = copy.deepcopy(STRUT)
+        doc["flow"] = {
+            "reynolds": value,
+            "turbulence_intensity": STRUT["flow"]["turbulence_intensity"],
+        }
+        docs.append(doc)
+    _assert_matches_single_runs(result, docs)
+    assert [p.value for p in result.points] == RE_VALUES
+
+
+def test_turbulence_sweep_equals_single_runs() -> None:
+    values = parse_range("0.005:0.04:6", "turbulence_intensity")
+    result = sweep(_plate(), "turbulence_intensity", values, chunk=4)
+    docs = []
+    for value in values:
+        doc = _plate()
+        doc["flow"]["turbulence_intensity"] = value
+        docs.append(doc)
+    _assert_matches_single_runs(result, docs)
+    transitions = [p.sides[0].transition_s for p in result.points]
+    assert all(t is not None for t in transitions)
+    assert transitions == sorted(transitions, reverse=True), "more Tu, earlier transition"
+
+
+def test_trip_sweep_puts_transition_at_the_trip() -> None:
+    values = parse_range("0.05:0.1:3", "trip_upper")
+    result = sweep(STRUT, "trip_upper", values)
+    for point in result.points:
+        upper = next(p for p in point.sides if p.side == "upper")
+        assert upper.transition_cause == "trip"
+        assert upper.transition_s == pytest.approx(point.value, abs=2e-3)
+
+
+def test_a_bad_case_is_reported_and_the_rest_run() -> None:
+    points = run_chunk(STRUT, "reynolds", [1e6, -1.0, 2e6])
+    assert points[1]["error"] is not None and "/flow/reynolds" in points[1]["error"]
+    assert points[0]["error"] is None and points[2]["error"] is None
+    assert points[0]["sides"] and points[2]["sides"]
+
+
+def test_wrong_case_raises() -> None:
+    doc = copy.deepcopy(STRUT)
+    doc["pressure"]["cp"][3] = 5.0
+    with pytest.raises(ibl.CaseError):
+        sweep(doc, "reynolds", RE_VALUES)
+
+
+# ------------------------------------------------------------------------------ cluster
+
+
+def test_local_cluster_gives_the_local_results() -> None:
+    distributed = pytest.importorskip("distributed")
+    local = sweep(STRUT, "reynolds", RE_VALUES, chunk=2)
+    with (
+        distributed.LocalCluster(
+            n_workers=2, processes=True, threads_per_worker=1, dashboard_address=None
+        ) as cluster,
+        distributed.Client(cluster) as client,
+    ):
+        remote = sweep(STRUT, "reynolds", RE_VALUES, scheduler=client, chunk=2)
+        by_address = sweep(STRUT, "reynolds", RE_VALUES, scheduler=cluster.scheduler_address)
+    assert remote == local
+    assert by_address == local
+
+
+# ---------------------------------------------------------------------------------- CLI
+
+
+def test_cli_sweep_text(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["sweep", str(EXAMPLE), "--reynolds", "1e5:1e7:4"]) == 0
+    out, err = capsys.readouterr()
+    assert CAUTION in out
+    for value in parse_range("1e5:1e7:4", "reynolds"):
+        assert f"{value:.4g}" in out
+    assert "upper transition" in out and "lower sep." in out
+    assert "%|" not in err, "no progress bar when stderr is not a terminal"
+
+
+def test_cli_sweep_csv_and_json_agree(capsys: pytest.CaptureFixture[str]) -> None:
+    args = ["sweep", str(EXAMPLE), "--reynolds", "1e5:1e7:5", "--criterion", "granville"]
+    assert main([*args, "--format", "json"]) == 0
+    doc = json.loads(capsys.readouterr().out)
+    assert doc["caution"] == CAUTION and doc["variable"] == "reynolds"
+    assert main([*args, "--format", "csv"]) == 0
+    text = capsys.readouterr().out
+    rows = list(csv.DictReader(line for line in io.StringIO(text) if not line.startswith("#")))
+    expected = [
+        (point["value"], side["side"], side["transition_s"], side["separation_s"])
+        for point in doc["points"]
+        for side in point["sides"]
+    ]
+    got = [
+        (
+            float(row["reynolds"]),
+            row["side"],
+            float(row["transition_s"]) if row["transition_s"] else None,
+            float(row["separation_s"]) if row["separation_s"] else None,
+        )
+        for row in rows
+    ]
+    assert got == expected
+
+
+def test_cli_sweep_fixed_flags_apply(capsys: pytest.CaptureFixture[str]) -> None:
+    assert main(["sweep", str(EXAMPLE), "--trip-upper", "0:0.1:3", "--reynolds", "3e6"]) == 0
+    single = ibl.analyze(set_variable(set_variable(STRUT, "reynolds", 3e6), "trip_upper", 0.05))
+    upper = next(side for side in single["sides"] if side["name"] == "upper")
+    assert f"{upper['transition']['s']:.4g}" in capsys.readouterr().out
+
+
+def test_cli_sweep_plot(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> None:
+    path = tmp_path / "sweep.png"
+    assert main(["sweep", str(EXAMPLE), "--reynolds", "1e5:1e7:4", "--plot", str(path)]) == 0
+    assert path.read_bytes().startswith(b"\x89PNG")
+    assert str(path) in capsys.readouterr().err
+
+
+@pytest.mark.parametrize(
+    "flags",
+    [[], ["--reynolds", "1e6"], ["--reynolds", "1e5:1e6:3", "--mach", "0:0.3:3"]],
+    ids=["none", "no-range", "two-ranges"],
+)
+def test_cli_sweep_needs_one_range(flags: list[str], capsys: pytest.CaptureFixture[str]):
+    assert main(["sweep", str(EXAMPLE), *flags]) == 2
+    assert "exactly one range" in capsys.readouterr().err
+
+
+def test_sweep_csv_marks_failed_points() -> None:
+    result = Sweep(
+        name=None,
+        variable="reynolds",
+        label="Re",
+        points=msgspec.convert(run_chunk(STRUT, "reynolds", [1e6, -1.0]), list[SweepPoint]),
+    )
+    rows = [line for line in sweep_csv(result).splitlines() if not line.startswith("#")]
+    failed = [row for row in rows[1:] if row.startswith("-1.0,")]
+    assert len(failed) == 1 and "/flow/reynolds" in failed[0]
+    assert not any(math.isnan(float(row.split(",")[0])) for row in rows[1:])
+
+
+def test_progress_bar_goes_to_stderr_only_when_asked(capsys: pytest.CaptureFixture[str]) -> None:
+    sweep(STRUT, "reynolds", RE_VALUES, chunk=2, progress=True)
+    out, err = capsys.readouterr()
+    assert out == "" and f"/{len(RE_VALUES)} [" in err
+    sweep(STRUT, "reynolds", RE_VALUES, chunk=2, progress=False)
+    assert capsys.readouterr() == ("", "")
