@@ -162,14 +162,16 @@ def _regime(turbulent: NDArray[np.bool_]) -> list[Literal["laminar", "turbulent"
     return ["laminar"] * laminar + ["turbulent"] * (n - laminar)
 
 
-def _x_at(side: SideInput, s: float) -> float | None:
-    """x at arc length s along the side's stations (linear), None without a contour."""
-    if side.x is None or not math.isfinite(s):
-        return None
+def _xy_at(side: SideInput, s: float) -> tuple[float | None, float | None]:
+    """x and y at arc length s along the side's stations (linear); None without a contour."""
+    if side.x is None or side.y is None or not math.isfinite(s):
+        return None, None
     i = min(max(int(np.searchsorted(side.s, s)), 1), side.s.size - 1)
     s0, s1 = float(side.s[i - 1]), float(side.s[i])
+    t = min(max((s - s0) / (s1 - s0), 0.0), 1.0)
     x0, x1 = float(side.x[i - 1]), float(side.x[i])
-    return x0 + (x1 - x0) * min(max((s - s0) / (s1 - s0), 0.0), 1.0)
+    y0, y1 = float(side.y[i - 1]), float(side.y[i])
+    return x0 + (x1 - x0) * t, y0 + (y1 - y0) * t
 
 
 def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
@@ -179,7 +181,8 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
     if math.isfinite(state.transition_s):
         tr = TransitionEvent(
             s=state.transition_s + offset,
-            x=_x_at(side, state.transition_s),
+            x=_xy_at(side, state.transition_s)[0],
+            y=_xy_at(side, state.transition_s)[1],
             cause=state.transition_cause,  # type: ignore[arg-type]
             re_theta=state.transition_re_theta,
         )
@@ -187,7 +190,8 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
     if math.isfinite(state.laminar_separation_s):
         lsep = LaminarSeparationEvent(
             s=state.laminar_separation_s + offset,
-            x=_x_at(side, state.laminar_separation_s),
+            x=_xy_at(side, state.laminar_separation_s)[0],
+            y=_xy_at(side, state.laminar_separation_s)[1],
             bubble="short" if state.bubble_short else "long",
             re_delta_star=state.laminar_separation_re_delta_star,
         )
@@ -195,7 +199,8 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
     if math.isfinite(state.separation_s):
         sep = SeparationEvent(
             s=state.separation_s + offset,
-            x=_x_at(side, state.separation_s),
+            x=_xy_at(side, state.separation_s)[0],
+            y=_xy_at(side, state.separation_s)[1],
             regime="turbulent" if state.separation_turbulent else "laminar",
         )
     cf = state.cf
@@ -231,9 +236,10 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
         # The smallest height for every target is where u_tau is largest.
         i = int(np.argmax(np.where(ok, u_tau, -np.inf)))
         x = float(side.x[i]) if side.x is not None else None
+        y = float(side.y[i]) if side.y is not None else None
         heights = mesh.first_cell_height(np.asarray(side.options.y_plus), side.nu, u_tau[i])
         cells = [
-            FirstCell(y_plus=y_plus, height=height, s=float(state.s[i] + side.offset), x=x)
+            FirstCell(y_plus=y_plus, height=height, s=float(state.s[i] + side.offset), x=x, y=y)
             for y_plus, height in zip(side.options.y_plus, heights.tolist(), strict=True)
         ]
     i_thick = int(np.argmax(state.delta99))

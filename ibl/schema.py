@@ -223,6 +223,7 @@ class TransitionEvent(Struct):
 
     s: float
     x: float | None
+    y: float | None
     cause: Literal["criterion", "trip", "laminar_separation"]
     re_theta: float
 
@@ -232,6 +233,7 @@ class LaminarSeparationEvent(Struct):
 
     s: float
     x: float | None
+    y: float | None
     bubble: Literal["short", "long"]
     re_delta_star: float
 
@@ -241,6 +243,7 @@ class SeparationEvent(Struct):
 
     s: float
     x: float | None
+    y: float | None
     regime: Literal["laminar", "turbulent"]
 
 
@@ -251,6 +254,7 @@ class FirstCell(Struct):
     height: Annotated[float, Meta(description="First-cell height [length unit]")]
     s: float
     x: float | None
+    y: float | None
 
 
 class MeshAdvice(Struct):
