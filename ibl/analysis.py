@@ -159,7 +159,8 @@ def _regime(turbulent: NDArray[np.bool_]) -> list[Literal["laminar", "turbulent"
     """Station regimes: laminar up to transition, turbulent after it (as the kernel marks)."""
     n = turbulent.size
     laminar = n - int(np.count_nonzero(turbulent))
-    return ["laminar"] * laminar + ["turbulent"] * (n - laminar)
+    regimes: list[Literal["laminar", "turbulent"]] = ["laminar"] * laminar
+    return regimes + ["turbulent"] * (n - laminar)
 
 
 def _xy_at(side: SideInput, s: float) -> tuple[float | None, float | None]:

@@ -65,8 +65,8 @@ def reference_side(side: SideInput) -> dict[str, float]:
     re_theta = u * np.sqrt(theta2) / nu
     with np.errstate(divide="ignore"):
         margin = re_theta - transition.re_theta_transition_michel_1951(u * fine / nu)
-    lsep = np.argmax(lam[1:] <= side.options.separation_lambda) + 1
-    tr = np.argmax(margin[1:] >= 0.0) + 1
+    lsep = int(np.argmax(lam[1:] <= side.options.separation_lambda)) + 1
+    tr = int(np.argmax(margin[1:] >= 0.0)) + 1
     if lam[lsep] > side.options.separation_lambda:
         lsep = fine.size
     if margin[tr] < 0.0:

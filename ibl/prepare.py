@@ -14,6 +14,7 @@ everything this module changes on the way (clipping, smoothing) becomes a warnin
 
 from __future__ import annotations
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Literal
 
@@ -408,7 +409,7 @@ def _single_side(
     radius: F64 | None,
     nu: float,
     options: SideOptions,
-    trips: dict[str, float],
+    trips: Mapping[Literal["upper", "lower", "surface"], float],
 ) -> SideInput:
     inflow = case.inflow
     p_pointer = "/pressure/cp" if case.pressure.cp is not None else "/pressure/edge_velocity"
@@ -505,7 +506,7 @@ def _split_contour(
     nu: float,
     axisymmetric: bool,
     options: SideOptions,
-    trips: dict[str, float],
+    trips: Mapping[Literal["upper", "lower", "surface"], float],
     p_pointer: str,
     warnings: list[Notice],
     radius_from_y: bool = False,
@@ -559,7 +560,7 @@ def _split_contour(
         )
         slope = float("nan")
     # The stagnation point lies on the segment from point i0 to i0 + 1.
-    i0 = int(min(max(np.searchsorted(arc, s0, side="right") - 1, 0), n - 2))
+    i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
     frac = (s0 - arc[i0]) / (arc[i0 + 1] - arc[i0])
     position = float(i0 + frac)
     if shift:

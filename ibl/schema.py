@@ -62,7 +62,7 @@ CpValue = Annotated[float, Meta(ge=-1e4, le=1e4)]
 SpeedRatio = Annotated[float, Meta(ge=-100.0, le=100.0)]
 
 
-class Surface(Struct):
+class Surface(Struct, frozen=True):
     """Geometry: a contour ``x``/``y`` or one surface given by arc length ``s``."""
 
     x: Annotated[
@@ -79,7 +79,7 @@ class Surface(Struct):
     ] = None
 
 
-class Pressure(Struct):
+class Pressure(Struct, frozen=True):
     """Surface pressure: pressure coefficient or edge velocity, one value per point."""
 
     cp: Annotated[Points | None, Meta(description="Pressure coefficient Cp [-], one per point")] = (
@@ -98,7 +98,7 @@ class Pressure(Struct):
     ] = None
 
 
-class Flow(Struct):
+class Flow(Struct, frozen=True):
     """Free-stream conditions: a Reynolds number per unit length, or speed and viscosity."""
 
     reynolds: Annotated[
@@ -120,7 +120,7 @@ class Flow(Struct):
     mach: Annotated[float, Meta(ge=0.0, lt=1.0, description="Free-stream Mach number [-]")] = 0.0
 
 
-class Body(Struct):
+class Body(Struct, frozen=True):
     """Planar section or body of revolution (axis along x)."""
 
     kind: Literal["planar", "axisymmetric"] = "planar"
@@ -130,7 +130,7 @@ class Body(Struct):
     ] = None
 
 
-class TransitionOptions(Struct):
+class TransitionOptions(Struct, frozen=True):
     """Transition criterion and optional trips."""
 
     criterion: Literal["michel", "granville", "abu_ghannam_shaw", "none"] = "michel"
@@ -144,7 +144,7 @@ class TransitionOptions(Struct):
     ] = None
 
 
-class LaminarOptions(Struct):
+class LaminarOptions(Struct, frozen=True):
     """Options of Thwaites' method."""
 
     separation_lambda: Annotated[
@@ -159,7 +159,7 @@ class LaminarOptions(Struct):
     closure: Literal["cebeci_bradshaw", "white"] = "cebeci_bradshaw"
 
 
-class TurbulentOptions(Struct):
+class TurbulentOptions(Struct, frozen=True):
     """Options of Head's entrainment method."""
 
     initial_shape_factor: Annotated[
@@ -171,7 +171,7 @@ class TurbulentOptions(Struct):
     skin_friction: Literal["ludwieg_tillmann", "white"] = "ludwieg_tillmann"
 
 
-class Inflow(Struct):
+class Inflow(Struct, frozen=True):
     """A measured state at the first station of a single surface, to march from."""
 
     theta: Annotated[
@@ -181,7 +181,7 @@ class Inflow(Struct):
     regime: Literal["laminar", "turbulent"] = "laminar"
 
 
-class MeshOptions(Struct):
+class MeshOptions(Struct, frozen=True):
     """Targets for near-wall mesh advice."""
 
     y_plus: Annotated[
@@ -190,7 +190,7 @@ class MeshOptions(Struct):
     ] = msgspec.field(default_factory=lambda: [1.0, 30.0])
 
 
-class Case(Struct):
+class Case(Struct, frozen=True):
     """One analysis: geometry, pressure, flow and options."""
 
     surface: Surface
@@ -210,7 +210,7 @@ class Case(Struct):
 # ----------------------------------------------------------------------------- result
 
 
-class Stagnation(Struct):
+class Stagnation(Struct, frozen=True):
     """Stagnation point located between input points."""
 
     x: float
@@ -218,7 +218,7 @@ class Stagnation(Struct):
     position: Annotated[float, Meta(description="Fractional index along the input points")]
 
 
-class TransitionEvent(Struct):
+class TransitionEvent(Struct, frozen=True):
     """Onset of turbulent flow."""
 
     s: float
@@ -228,7 +228,7 @@ class TransitionEvent(Struct):
     re_theta: float
 
 
-class LaminarSeparationEvent(Struct):
+class LaminarSeparationEvent(Struct, frozen=True):
     """Laminar separation, with the Owen-Klanfer bubble class."""
 
     s: float
@@ -238,7 +238,7 @@ class LaminarSeparationEvent(Struct):
     re_delta_star: float
 
 
-class SeparationEvent(Struct):
+class SeparationEvent(Struct, frozen=True):
     """Separation that ends the attached boundary layer."""
 
     s: float
@@ -247,7 +247,7 @@ class SeparationEvent(Struct):
     regime: Literal["laminar", "turbulent"]
 
 
-class FirstCell(Struct):
+class FirstCell(Struct, frozen=True):
     """Smallest first-cell height on a side for a y+ target."""
 
     y_plus: float
@@ -257,7 +257,7 @@ class FirstCell(Struct):
     y: float | None
 
 
-class MeshAdvice(Struct):
+class MeshAdvice(Struct, frozen=True):
     """Near-wall mesh figures of one side."""
 
     first_cell: list[FirstCell]
@@ -271,7 +271,7 @@ class MeshAdvice(Struct):
     max_eddy_viscosity_ratio_s: float
 
 
-class Side(Struct):
+class Side(Struct, frozen=True):
     """Station arrays and events of one side, from its start to separation or its end."""
 
     name: Literal["upper", "lower", "surface"]
@@ -298,7 +298,7 @@ class Side(Struct):
     mesh: MeshAdvice
 
 
-class Notice(Struct):
+class Notice(Struct, frozen=True):
     """A warning: a machine-readable code, a message and, where it applies, a JSON pointer."""
 
     code: str
@@ -306,7 +306,7 @@ class Notice(Struct):
     pointer: str | None = None
 
 
-class Result(Struct):
+class Result(Struct, frozen=True):
     """The result document."""
 
     name: str | None
