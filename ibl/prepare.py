@@ -48,8 +48,12 @@ CP_NOISE = 0.05
 MIN_POINTS = 3
 #: Two consecutive contour points closer than this fraction of the contour length repeat.
 REPEAT_TOLERANCE = 1e-10
-#: A contour's smallest Ue/U_inf above this is reported as "no stagnation point in the data".
+#: Ue/U_inf at the stagnation point as the local models extrapolate it from the points:
+#: up to STAGNATION_UE the stagnation region is resolved; up to STAGNATION_COARSE it is a
+#: stagnation point the points do not resolve (coarse taps around a small nose: reported);
+#: above, the data hold no stagnation point and the sides start as from a sharp edge.
 STAGNATION_UE = 0.05
+STAGNATION_COARSE = 0.5
 
 
 @dataclass(frozen=True, slots=True)
@@ -459,13 +463,79 @@ def _single_side(
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _local(arc: F64, q: F64, m: int, closed: bool, i: int, offset: int) -> tuple[float, float]:
+    """Arc length (relative to point i, unwrapped across the seam of a closed contour) and
+    q of the point ``offset`` places from point i; NaN outside an open contour."""
+    j = i + offset
+    if not closed:
+        if j < 0 or j >= m:
+            return np.nan, np.nan
+        return arc[j] - arc[i], q[j]
+    period = arc[m]
+    wraps = (j - (j % m)) // m
+    j = j % m
+    return arc[j] - arc[i] + wraps * period, q[j]
+
+
+@numba.njit(cache=True, error_model="numpy")
+def stagnation_models(
+    arc: F64, q: F64, closed: bool, i: int
+) -> tuple[float, float, float, float, float, float]:
+    """Two local models of a stagnation point next to point i (a local minimum of q).
+
+    Returns (s0, slope, Ue at the vertex) of each model, relative to arc[i]:
+
+    - parabola: q = a^2 (s - s0)^2 + q0 through points i-1, i, i+1: exact for Ue = a |s - s0|
+      where the points resolve the stagnation region;
+    - V: the two secant lines of |Ue| on either side of the interval holding the minimum,
+      extended to where they meet: for coarse taps around a small nose radius.
+
+    NaN where a model has no points or no minimum.
+    """
+    m = q.size - 1 if closed else q.size
+    sm, qm = _local(arc, q, m, closed, i, -1)
+    sp, qp = _local(arc, q, m, closed, i, 1)
+    p_s0 = p_slope = p_ue = np.nan
+    if np.isfinite(sm) and np.isfinite(sp):
+        h0, h1 = -sm, sp
+        d0 = (q[i] - qm) / h0
+        d1 = (qp - q[i]) / h1
+        c2 = (d1 - d0) / (h0 + h1)
+        c1 = d0 + c2 * h0
+        if c2 > 0.0:
+            p_s0 = min(max(-0.5 * c1 / c2, sm), sp)
+            p_slope = np.sqrt(c2)
+            p_ue = np.sqrt(max(q[i] - 0.25 * c1 * c1 / c2, 0.0))
+    v_s0 = v_slope = v_ue = np.nan
+    # The interval [j, j + 1] holding the minimum: towards the smaller neighbour.
+    first = 0 if (np.isfinite(qp) and (not np.isfinite(qm) or qp <= qm)) else -1
+    s_a, q_a = _local(arc, q, m, closed, i, first - 1)
+    s_b, q_b = _local(arc, q, m, closed, i, first)
+    s_c, q_c = _local(arc, q, m, closed, i, first + 1)
+    s_d, q_d = _local(arc, q, m, closed, i, first + 2)
+    if np.isfinite(s_a + s_b + s_c + s_d):
+        u_a, u_b, u_c, u_d = np.sqrt(q_a), np.sqrt(q_b), np.sqrt(q_c), np.sqrt(q_d)
+        left = (u_b - u_a) / (s_b - s_a)
+        right = (u_d - u_c) / (s_d - s_c)
+        if left < 0.0 and right > 0.0:
+            zero_left = s_b - u_b / left
+            zero_right = s_c - u_c / right
+            meet = (u_c - u_b + left * s_b - right * s_c) / (left - right)
+            v_ue = max(u_b + left * (meet - s_b), 0.0)
+            v_s0 = min(max(0.5 * (zero_left + zero_right), s_b), s_c)
+            v_slope = 0.5 * (right - left)
+    return p_s0, p_slope, p_ue, v_s0, v_slope, v_ue
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool, ue_limit: float) -> int:
     """Index of the point next to the front stagnation point.
 
-    Every local minimum of q = (Ue/U_inf)^2 whose parabola through its neighbours
-    reaches Ue <= ``ue_limit`` is a stagnation point; where there are several (the front
-    and rear stagnation points of a potential flow), the most upstream one is the front
-    one: the free stream is along +x.  Without any, the smallest q.
+    Every local minimum of q = (Ue/U_inf)^2 where either local model
+    (``stagnation_models``) reaches Ue <= ``ue_limit`` is a stagnation point; where there
+    are several (the front and rear stagnation points of a potential flow), the most
+    upstream one is the front one: the free stream is along +x.  Without any, the
+    smallest q.
     """
     m = q.size - 1 if closed else q.size
     best = -1
@@ -473,26 +543,17 @@ def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool, ue_limit: fl
     for i in range(m):
         if q[i] < q[smallest]:
             smallest = i
-        if closed:
-            ip, inx = (i - 1) % m, (i + 1) % m
-            h0 = arc[i] - arc[i - 1] if i > 0 else arc[m] - arc[m - 1]
-            h1 = arc[i + 1] - arc[i]
-        else:
-            if i == 0 or i == m - 1:
-                if q[i] <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
-                    best = i
-                continue
-            ip, inx = i - 1, i + 1
-            h0 = arc[i] - arc[i - 1]
-            h1 = arc[i + 1] - arc[i]
-        if q[i] > q[ip] or q[i] > q[inx]:
+        if not closed and (i == 0 or i == m - 1):
+            if q[i] <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
+                best = i
             continue
-        d0 = (q[i] - q[ip]) / h0
-        d1 = (q[inx] - q[i]) / h1
-        c2 = (d1 - d0) / (h0 + h1)
-        c1 = d0 + c2 * h0
-        vertex = q[i] - 0.25 * c1 * c1 / c2 if c2 > 0.0 else q[i]
-        if vertex <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
+        _, qm = _local(arc, q, m, closed, i, -1)
+        _, qp = _local(arc, q, m, closed, i, 1)
+        if q[i] > qm or q[i] > qp:
+            continue
+        _, _, p_ue, _, _, v_ue = stagnation_models(arc, q, closed, i)
+        stagnant = (p_ue <= ue_limit) or (v_ue <= ue_limit)
+        if stagnant and (best < 0 or x[i] < x[best]):
             best = i
     return best if best >= 0 else smallest
 
@@ -515,7 +576,7 @@ def _split_contour(
     n = arc.size
     total = float(arc[-1])
     closed = bool(np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * total)
-    k = int(_front_stagnation_index(arc, x, q, closed, STAGNATION_UE))
+    k = int(_front_stagnation_index(arc, x, q, closed, STAGNATION_COARSE))
     shift = 0
     if closed and k in (0, n - 1):
         # A closed contour listed from its stagnation point: start it half-way round instead.
@@ -526,16 +587,17 @@ def _split_contour(
         arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
         k = int(np.flatnonzero(order == (k % (n - 1)))[0])
     if 0 < k < n - 1:
-        # Near stagnation Ue = a |S - S0|, so q = a^2 (S - S0)^2 + q0: a parabola in S.
-        # Parabola through the three points around the smallest q (divided differences).
-        h0, h1 = arc[k] - arc[k - 1], arc[k + 1] - arc[k]
-        d0, d1 = (q[k] - q[k - 1]) / h0, (q[k + 1] - q[k]) / h1
-        c2 = float((d1 - d0) / (h0 + h1))
-        c1 = float(d0 + c2 * h0)  # slope at arc[k]
-        vertex = arc[k] - 0.5 * c1 / c2 if c2 > 0.0 else 0.0
-        s0 = float(np.clip(vertex, arc[k - 1], arc[k + 1])) if c2 > 0.0 else float(arc[k])
-        slope = float(np.sqrt(c2)) if c2 > 0.0 else float("nan")
-        q_vertex = float(q[k] - 0.25 * c1**2 / c2) if c2 > 0.0 else float(q[k])
+        # Near stagnation Ue = a |S - S0|: the parabola in q where it reaches zero, else the
+        # V of |Ue| (coarse taps around a small nose radius), else the closer of the two.
+        p_s0, p_slope, p_ue, v_s0, v_slope, v_ue = stagnation_models(arc, q, False, k)
+        use_v = not p_ue <= STAGNATION_UE and v_ue <= max(p_ue, STAGNATION_UE)
+        if use_v:
+            s0, slope, ue_vertex = float(arc[k] + v_s0), float(v_slope), float(v_ue)
+        elif np.isfinite(p_s0):
+            s0, slope, ue_vertex = float(arc[k] + p_s0), float(p_slope), float(p_ue)
+        else:
+            s0, slope, ue_vertex = float(arc[k]), float("nan"), float(np.sqrt(q[k]))
+        q_vertex = ue_vertex**2
     else:
         s0 = float(arc[k])
         j = 1 if k == 0 else n - 2
@@ -548,17 +610,28 @@ def _split_contour(
         if moving.size:
             j = int(moving[np.argmin(np.abs(arc[moving] - s0))])
             slope = float(np.sqrt(q[j]) / max(abs(arc[j] - s0), 1e-300))
-    if np.sqrt(max(q_vertex, 0.0)) > STAGNATION_UE:
+    ue_vertex = float(np.sqrt(max(q_vertex, 0.0)))
+    if ue_vertex > STAGNATION_COARSE:
         warnings.append(
             Notice(
                 code="no_stagnation_point",
                 message="the edge velocity does not fall to zero in the data (smallest "
-                f"Ue/U_inf about {np.sqrt(max(q_vertex, 0.0)):.3g}); the sides start there as "
-                "if from a sharp leading edge",
+                f"Ue/U_inf about {ue_vertex:.3g}); the sides start there as if from a sharp "
+                "leading edge",
                 pointer=p_pointer,
             )
         )
         slope = float("nan")
+    elif ue_vertex > STAGNATION_UE:
+        warnings.append(
+            Notice(
+                code="stagnation_point_unresolved",
+                message="the points do not resolve the stagnation region (Ue/U_inf "
+                f"extrapolated to {ue_vertex:.3g} there, not 0): its position and theta near "
+                "it are uncertain; more points near the nose help",
+                pointer=p_pointer,
+            )
+        )
     # The stagnation point lies on the segment from point i0 to i0 + 1.
     i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
     frac = (s0 - arc[i0]) / (arc[i0 + 1] - arc[i0])
