@@ -1,0 +1,278 @@
+"""The HTTP application: routes, wiring and the application factory.
+
+Routes
+------
+- ``POST /v1/analyses``: one case, one result.
+- ``POST /v1/analyses/batch``: many cases, one entry each (result or problem), in order.
+- ``GET /v1/methods``: the catalogue of methods and criteria with their options,
+  defaults, validity ranges and sources.
+- ``GET /health/live``, ``GET /health/ready``: liveness and readiness.
+- ``GET /metrics``: Prometheus text exposition.
+- ``GET /schema/openapi.json``: the OpenAPI 3.1 document.
+
+Handlers stay thin: read the body, hand the CPU-bound work (``service.work``) to
+the runner, answer.  Errors are raised, and answered by one table
+(``service.errors.EXCEPTION_HANDLERS``).
+"""
+
+from __future__ import annotations
+
+import functools
+import logging
+import math
+from dataclasses import dataclass
+from typing import Any
+
+import anyio.to_thread
+from litestar import Controller, Litestar, Request, Response, get, post
+from litestar.datastructures import State
+from litestar.exceptions import InternalServerException
+from litestar.openapi import OpenAPIConfig, ResponseSpec
+from litestar.openapi.spec import Tag
+
+import ibl
+from ibl.schema import Case, Flow, Pressure, Result, Surface
+from service import codec, work
+from service.config import Settings
+from service.errors import (
+    BODY_TOO_LARGE,
+    EXCEPTION_HANDLERS,
+    INCOMPLETE_BODY,
+    INTERNAL_ERROR,
+    INVALID_CASE,
+    INVALID_REQUEST,
+    MALFORMED_JSON,
+    NOT_READY,
+    OVERLOADED,
+    PROBLEM_MEDIA_TYPE,
+    TIME_LIMIT,
+    ProblemError,
+    ProblemKind,
+)
+from service.metrics import CONTENT_TYPE, exposition, mark_worker_stopped, prometheus_config
+from service.openapi import CAUTION, ServiceJsonRenderPlugin
+from service.runner import Runner
+from service.wire import BatchRequest, BatchResponse, Health, Problem
+
+__all__ = ["Runtime", "create_app", "warm_up"]
+
+log = logging.getLogger("service")
+
+JSON = "application/json"
+
+
+def _warm_up_case(points_per_side: int = 60) -> Case:
+    """An elliptic strut, 12 % thick, at zero incidence, with its potential-flow Cp.
+
+    An odd number of points puts one on the leading-edge stagnation point; the flow
+    then goes through both sides, transition and turbulent separation, so every
+    compiled kernel of the library is exercised.
+    """
+    n = 2 * points_per_side - 1
+    ts = [math.pi * (2 * i + 1) / n for i in range(n)]
+    ratio = 0.12
+    speed = [
+        (1 + ratio) * abs(math.sin(t)) / math.sqrt(math.sin(t) ** 2 + (ratio * math.cos(t)) ** 2)
+        for t in ts
+    ]
+    return Case(
+        surface=Surface(
+            x=[0.5 + 0.5 * math.cos(t) for t in ts], y=[0.06 * math.sin(t) for t in ts]
+        ),
+        pressure=Pressure(cp=[1 - u * u for u in speed]),
+        flow=Flow(reynolds=2e6),
+    )
+
+
+def warm_up() -> None:
+    """Analyse a small case once: compiles and caches the library's kernels."""
+    ibl.run(_warm_up_case())
+
+
+@dataclass(slots=True)
+class Runtime:
+    """Per-process state: the settings, the runner and whether the library answered."""
+
+    settings: Settings
+    runner: Runner
+    warmed_up: bool = False
+
+
+def _runtime(request: Request[Any, Any, Any]) -> Runtime:
+    runtime: Runtime = request.app.state.runtime
+    return runtime
+
+
+async def _read_body(request: Request[Any, Any, Any]) -> bytes:
+    try:
+        return await request.body()
+    except InternalServerException:  # the client went away mid-body
+        raise ProblemError(INCOMPLETE_BODY, "The request body ended early.") from None
+
+
+def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
+    """OpenAPI entries for the problems an operation can answer with."""
+    by_status: dict[int, list[str]] = {}
+    for kind in (*kinds, INTERNAL_ERROR):
+        by_status.setdefault(kind.status, []).append(f"{kind.title} (`{kind.type}`)")
+    return {
+        status: ResponseSpec(
+            data_container=Problem,
+            media_type=PROBLEM_MEDIA_TYPE,
+            generate_examples=False,
+            description="; ".join(titles)
+            + (". Sent with a Retry-After header." if status == 503 else "."),
+        )
+        for status, titles in by_status.items()
+    }
+
+
+_BODY_PROBLEMS = (MALFORMED_JSON, BODY_TOO_LARGE, TIME_LIMIT, OVERLOADED)
+
+
+class AnalysesController(Controller):
+    """Analyses of cases."""
+
+    path = "/v1/analyses"
+    tags = ("analyses",)
+
+    @post(
+        "/",
+        status_code=200,
+        operation_id="analyse",
+        summary="Analyse one case",
+        description="Boundary-layer development, transition, separation and near-wall mesh "
+        "advice along each side of one case. Separation, laminar flow to the end and "
+        "laminar separation bubbles are results, not errors.\n\n" + CAUTION,
+        opt={"request_body": Case},
+        responses={
+            200: ResponseSpec(
+                Result, description="The result of the case.", generate_examples=False
+            ),
+            **_problems(*_BODY_PROBLEMS, INVALID_CASE),
+        },
+    )
+    async def analyse(self, request: Request[Any, Any, Any]) -> Response[bytes]:
+        runtime = _runtime(request)
+        body = await _read_body(request)
+        job = functools.partial(work.analyse, body, runtime.settings)
+        return Response(await runtime.runner.run(job), media_type=JSON)
+
+    @post(
+        "/batch",
+        status_code=200,
+        operation_id="analyseBatch",
+        summary="Analyse many cases",
+        description="Each case is validated on its own and the valid ones are analysed "
+        "together. The answer holds one entry per case, in order: its result, or the "
+        "problem with it (pointers start with `/cases/<index>`).\n\n" + CAUTION,
+        opt={"request_body": BatchRequest, "response_body": BatchResponse},
+        response_description="One entry per case, in order.",
+        responses=_problems(*_BODY_PROBLEMS, INVALID_REQUEST),
+    )
+    async def analyse_batch(self, request: Request[Any, Any, Any]) -> Response[bytes]:
+        runtime = _runtime(request)
+        body = await _read_body(request)
+        job = functools.partial(work.analyse_batch, body, runtime.settings)
+        return Response(await runtime.runner.run(job), media_type=JSON)
+
+
+@functools.cache
+def _catalogue() -> dict[str, Any]:
+    import ibl.registry
+
+    document: dict[str, Any] = codec.finite_or_none(ibl.registry.catalogue())
+    return document
+
+
+@get(
+    "/v1/methods",
+    operation_id="listMethods",
+    summary="Methods and criteria",
+    description="Every method and transition criterion with its options, defaults, validity "
+    "ranges and sources. An unbounded end of a range is null.\n\n" + CAUTION,
+    tags=["analyses"],
+    sync_to_thread=False,
+)
+def list_methods() -> dict[str, Any]:
+    return _catalogue()
+
+
+class HealthController(Controller):
+    """Probes for orchestrators."""
+
+    path = "/health"
+    tags = ("health",)
+
+    @get("/live", operation_id="live", summary="Liveness", sync_to_thread=False)
+    def live(self) -> Health:
+        return Health(status="live")
+
+    @get(
+        "/ready",
+        operation_id="ready",
+        summary="Readiness",
+        description="Ready once a start-up analysis succeeded, while the worker is not saturated.",
+        responses=_problems(NOT_READY),
+        sync_to_thread=False,
+    )
+    def ready(self, request: Request[Any, Any, Any]) -> Health:
+        runtime = _runtime(request)
+        if not runtime.warmed_up or runtime.runner.saturated:
+            why = "is saturated" if runtime.warmed_up else "has not completed its start-up analysis"
+            raise ProblemError(NOT_READY, f"This worker {why}.", headers={"Retry-After": "1"})
+        return Health(status="ready")
+
+
+@get(
+    "/metrics",
+    operation_id="metrics",
+    summary="Prometheus metrics",
+    tags=["health"],
+    media_type=CONTENT_TYPE,
+    sync_to_thread=False,
+)
+def metrics() -> bytes:
+    return exposition()
+
+
+async def _warm_up(runtime: Runtime) -> None:
+    try:
+        await anyio.to_thread.run_sync(warm_up)
+    except Exception:
+        log.exception("start-up analysis failed; the worker stays not ready")
+    else:
+        runtime.warmed_up = True
+
+
+def create_app(settings: Settings | None = None) -> Litestar:
+    """The application; ``settings`` default to the ``IBL_*`` environment variables."""
+    settings = Settings.from_env() if settings is None else settings
+
+    async def start(app: Litestar) -> None:
+        app.state.runtime = Runtime(settings=settings, runner=Runner(settings))
+        await _warm_up(app.state.runtime)
+
+    return Litestar(
+        route_handlers=[AnalysesController, list_methods, HealthController, metrics],
+        exception_handlers=EXCEPTION_HANDLERS,  # type: ignore[arg-type]
+        request_max_body_size=settings.max_body_bytes,
+        middleware=[prometheus_config().middleware],
+        openapi_config=OpenAPIConfig(
+            title="ibl",
+            version=ibl.__version__,
+            description="Integral boundary-layer and transition estimates from a surface "
+            "pressure distribution.\n\n" + CAUTION,
+            tags=[
+                Tag(name="analyses", description="Analyses and the methods they use."),
+                Tag(name="health", description="Probes and metrics."),
+            ],
+            path="/schema",
+            render_plugins=[ServiceJsonRenderPlugin()],
+            use_handler_docstrings=False,
+        ),
+        state=State({"settings": settings}),
+        on_startup=[start],
+        on_shutdown=[mark_worker_stopped],
+        debug=False,
+    )

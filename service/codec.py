@@ -1,0 +1,289 @@
+"""Conversion between HTTP bodies and the library's types, in one place.
+
+Contents
+--------
+- ``check_json``: the body must be well-formed JSON (else 400).
+- ``decode_case`` / ``decode_batch``: bodies to ``Case`` objects or raw batch entries,
+  with the service's limits applied.
+- ``sanitise``: keep non-finite numbers out of a ``Result`` (JSON has none; msgspec
+  would write ``null`` where the schema promises a number).
+- ``finite_or_none``: the same for free-form documents (the method catalogue).
+- ``encode``: any wire value to JSON bytes.
+
+How ``sanitise`` repairs a result, each repair adding a ``non_finite`` warning:
+
+1. the station arrays of a side end before the first station with a non-finite value;
+2. another non-finite number becomes ``null`` where the schema allows it, or text
+   (``"nan"``, ``"inf"``, ``"-inf"``) where the schema allows text;
+3. otherwise the smallest enclosing optional member or list entry is left out.
+"""
+
+from __future__ import annotations
+
+import math
+from typing import Any
+
+import msgspec
+import msgspec.inspect as mi
+
+import ibl
+from ibl.errors import msgspec_path_to_pointer
+from ibl.schema import Case, Notice, Result, Side
+from service.config import Settings
+from service.errors import INVALID_REQUEST, MALFORMED_JSON, ProblemError
+from service.wire import BatchEnvelope, FieldError
+
+__all__ = [
+    "check_json",
+    "decode_batch",
+    "decode_case",
+    "encode",
+    "finite_or_none",
+    "sanitise",
+]
+
+_encoder = msgspec.json.Encoder()
+_batch_decoder = msgspec.json.Decoder(BatchEnvelope)
+
+#: Point arrays of a case, by attribute path; ``Settings.max_points`` applies to each.
+_POINT_ARRAYS = (
+    ("surface", "x"),
+    ("surface", "y"),
+    ("surface", "s"),
+    ("pressure", "cp"),
+    ("pressure", "edge_velocity"),
+    ("body", "radius"),
+)
+
+
+def encode(value: Any) -> bytes:
+    """JSON bytes of a wire value."""
+    return _encoder.encode(value)
+
+
+def _malformed(exc: Exception) -> ProblemError:
+    reason = "it is nested too deeply" if isinstance(exc, RecursionError) else str(exc)
+    return ProblemError(MALFORMED_JSON, f"The request body is not valid JSON: {reason}.")
+
+
+def check_json(body: bytes) -> None:
+    """Raise a 400 ``ProblemError`` unless ``body`` is one well-formed JSON value."""
+    try:
+        msgspec.json.decode(body, type=msgspec.Raw)
+    except (msgspec.DecodeError, RecursionError) as exc:
+        raise _malformed(exc) from None
+
+
+def _check_points(case: Case, max_points: int) -> None:
+    problems = []
+    for part, name in _POINT_ARRAYS:
+        values = getattr(getattr(case, part, None), name, None)
+        if values is not None and len(values) > max_points:
+            reason = f"has {len(values)} points; this service accepts at most {max_points}"
+            problems.append(ibl.FieldProblem(f"/{part}/{name}", reason))
+    if problems:
+        raise ibl.CaseError(problems)
+
+
+def decode_case(data: bytes, settings: Settings) -> Case:
+    """A validated ``Case`` from JSON bytes; raises ``ibl.CaseError`` naming each bad field."""
+    case = ibl.parse_case(data)
+    _check_points(case, settings.max_points)
+    return case
+
+
+def decode_batch(body: bytes, settings: Settings) -> list[bytes]:
+    """The raw JSON of each case of a batch body; each is decoded later, on its own."""
+    try:
+        envelope = _batch_decoder.decode(body)
+    except msgspec.ValidationError as exc:
+        check_json(body)  # a malformed body can fail validation before the parser sees the fault
+        message, _, path = str(exc).partition(" - at `")
+        error = FieldError(pointer=msgspec_path_to_pointer(path.rstrip("`")), reason=message)
+        raise ProblemError(INVALID_REQUEST, "The batch is not valid.", [error]) from None
+    except (msgspec.DecodeError, RecursionError) as exc:
+        raise _malformed(exc) from None
+    count = len(envelope.cases)
+    if count > settings.max_batch:
+        reason = f"has {count} cases; this service accepts at most {settings.max_batch}"
+        error = FieldError(pointer="/cases", reason=reason)
+        raise ProblemError(INVALID_REQUEST, "The batch has too many cases.", [error])
+    return [bytes(raw) for raw in envelope.cases]
+
+
+# ----------------------------------------------------------------------- non-finite numbers
+
+
+def _all_finite(value: object) -> bool:
+    """Fast screen: True when no float anywhere in ``value`` is NaN or infinite.
+
+    Lists are homogeneous in the wire types, so the first entry tells their kind.
+    """
+    if isinstance(value, float):
+        return math.isfinite(value)
+    if isinstance(value, list):
+        if not value or isinstance(value[0], str):
+            return True
+        try:  # NaN and inf propagate through a sum
+            return math.isfinite(sum(value))
+        except TypeError:
+            pass
+        try:  # the same without null (and zero) entries
+            return math.isfinite(sum(filter(None, value)))
+        except TypeError:
+            return all(_all_finite(item) for item in value)
+    if isinstance(value, msgspec.Struct):
+        return all(_all_finite(getattr(value, name)) for name in value.__struct_fields__)
+    if isinstance(value, dict):
+        return all(_all_finite(item) for item in value.values())
+    return True
+
+
+class _Unrepairable(Exception):
+    """A non-finite number where neither null nor text is allowed."""
+
+
+def _members(t: mi.Type) -> tuple[mi.Type, ...]:
+    """The alternatives of a type, without their constraints and descriptions."""
+    while isinstance(t, mi.Metadata):
+        t = t.type
+    if isinstance(t, mi.UnionType):
+        return tuple(m for member in t.types for m in _members(member))
+    return (t,)
+
+
+def _nullable(t: mi.Type) -> bool:
+    return any(isinstance(m, mi.NoneType) for m in _members(t))
+
+
+def _escape(token: str) -> str:
+    return token.replace("~", "~0").replace("/", "~1")
+
+
+def _as_text(value: float) -> str:
+    return "nan" if math.isnan(value) else ("inf" if value > 0 else "-inf")
+
+
+class _Repairer:
+    """Walks a value beside its msgspec type, repairing non-finite numbers."""
+
+    def __init__(self) -> None:
+        self.notices: list[Notice] = []
+
+    def note(self, pointer: str, message: str) -> None:
+        self.notices.append(Notice(code="non_finite", message=message, pointer=pointer))
+
+    def repair(self, value: Any, t: mi.Type, pointer: str) -> Any:
+        if isinstance(value, float):
+            if math.isfinite(value):
+                return value
+            if _nullable(t):
+                self.note(pointer, "A non-finite value is reported as null.")
+                return None
+            if any(isinstance(m, mi.StrType) for m in _members(t)):
+                self.note(pointer, "A non-finite value is reported as text.")
+                return _as_text(value)
+            raise _Unrepairable(pointer)
+        if isinstance(value, msgspec.Struct):
+            return self.repair_struct(value, t, pointer)
+        if isinstance(value, list):
+            (item_t,) = [m.item_type for m in _members(t) if isinstance(m, mi.ListType)]
+            return self.repair_list(value, item_t, pointer)
+        if isinstance(value, dict):
+            (dict_t,) = [m for m in _members(t) if isinstance(m, mi.DictType)]
+            return {
+                k: self.repair(v, dict_t.value_type, f"{pointer}/{_escape(k)}")
+                for k, v in value.items()
+            }
+        return value
+
+    def repair_list(self, values: list[Any], item_t: mi.Type, pointer: str) -> list[Any]:
+        out = []
+        for i, item in enumerate(values):
+            try:
+                out.append(self.repair(item, item_t, f"{pointer}/{i}"))
+            except _Unrepairable as exc:
+                if not isinstance(item, msgspec.Struct):
+                    raise
+                self.note(f"{pointer}/{i}", f"Entry left out: non-finite value at {exc}.")
+        return out
+
+    def repair_struct(self, value: msgspec.Struct, t: mi.Type, pointer: str) -> msgspec.Struct:
+        (struct_t,) = [
+            m for m in _members(t) if isinstance(m, mi.StructType) and m.cls is type(value)
+        ]
+        if isinstance(value, Side):
+            value = self.truncate_side(value, struct_t, pointer)
+        changes: dict[str, Any] = {}
+        for field in struct_t.fields:
+            old = getattr(value, field.name)
+            where = f"{pointer}/{field.encode_name}"
+            try:
+                new = self.repair(old, field.type, where)
+            except _Unrepairable as exc:
+                if not _nullable(field.type):
+                    raise
+                self.note(where, f"Member reported as null: non-finite value at {exc}.")
+                new = None
+            if new is not old:
+                changes[field.name] = new
+        return msgspec.structs.replace(value, **changes) if changes else value
+
+    def truncate_side(self, side: Side, side_t: mi.StructType, pointer: str) -> Side:
+        """End a side's station arrays before the first station with a non-finite value.
+
+        Arrays whose entries may be null are left to the general rule (null).
+        """
+        count = len(side.s)
+        arrays = {
+            f.name: getattr(side, f.name)
+            for f in side_t.fields
+            if isinstance(getattr(side, f.name), list) and len(getattr(side, f.name)) == count
+        }
+        strict = {
+            f.name
+            for f in side_t.fields
+            for m in _members(f.type)
+            if isinstance(m, mi.ListType) and not _nullable(m.item_type)
+        }
+        bad = [
+            (i, name)
+            for name, values in arrays.items()
+            if name in strict
+            for i, v in enumerate(values)
+            if isinstance(v, float) and not math.isfinite(v)
+        ]
+        if not bad:
+            return side
+        stop, name = min(bad)
+        self.note(
+            f"{pointer}/{name}/{stop}",
+            f"Stations from index {stop} on are left out: non-finite values.",
+        )
+        return msgspec.structs.replace(side, **{n: v[:stop] for n, v in arrays.items()})
+
+
+_RESULT_TYPE = mi.type_info(Result)
+
+
+def sanitise(result: Result) -> Result:
+    """``result`` without NaN or infinite numbers, each repair noted in its warnings."""
+    if _all_finite(result):
+        return result
+    repairer = _Repairer()
+    try:
+        repaired: Result = repairer.repair(result, _RESULT_TYPE, "")
+    except _Unrepairable as exc:  # pragma: no cover - Result has no such member today
+        raise ValueError(f"non-finite value at {exc} cannot be repaired") from None
+    return msgspec.structs.replace(repaired, warnings=[*repaired.warnings, *repairer.notices])
+
+
+def finite_or_none(value: Any) -> Any:
+    """A JSON-ready document with every non-finite float replaced by ``None``."""
+    if isinstance(value, float):
+        return value if math.isfinite(value) else None
+    if isinstance(value, (list, tuple)):
+        return [finite_or_none(v) for v in value]
+    if isinstance(value, dict):
+        return {k: finite_or_none(v) for k, v in value.items()}
+    return value

@@ -1,0 +1,148 @@
+"""The OpenAPI 3.1 document: generated from the application, committed under ``openapi/``.
+
+Litestar generates the paths, operations and response schemas from the routes.
+The analysis endpoints read their bodies themselves (so that a bad case in a
+batch fails alone), so their request bodies are added here from the wire type
+each route names in ``opt["request_body"]``, with the schema msgspec itself
+derives for that type: exactly what the decoder accepts, unknown members
+included (``additionalProperties: false``).
+
+Regenerate the committed copy with ``python -m service.openapi``; ``--check``
+exits non-zero when it is stale.
+"""
+
+from __future__ import annotations
+
+import argparse
+import copy
+import json
+import sys
+from pathlib import Path
+from typing import TYPE_CHECKING, Any
+
+import msgspec
+from litestar.openapi.plugins import JsonRenderPlugin
+
+if TYPE_CHECKING:
+    from litestar import Litestar, Request
+
+__all__ = ["CAUTION", "COMMITTED", "ServiceJsonRenderPlugin", "document", "main", "to_text"]
+
+#: Where the committed copy lives.
+COMMITTED = Path(__file__).resolve().parents[1] / "openapi" / "openapi.json"
+
+CAUTION = (
+    "**Caution.** The results are early-design estimates from integral boundary-layer "
+    "methods and empirical transition criteria. Confirm them by testing or by "
+    "higher-fidelity analysis before relying on them. Where safety, certification or "
+    "regulation is involved, local codes and licensed professional practice take "
+    "precedence over these figures."
+)
+
+_REF = "#/components/schemas/{name}"
+_RETRY_AFTER = {
+    "description": "Seconds to wait before retrying.",
+    "schema": {"type": "integer", "minimum": 1},
+}
+
+
+def _batch_response_schema() -> dict[str, Any]:
+    """``BatchResponse``: its entries are a union that msgspec cannot describe by itself."""
+    from service.wire import BatchResponse
+
+    entry = {"oneOf": [{"$ref": _REF.format(name=n)} for n in ("Result", "Problem")]}
+    return {
+        "title": "BatchResponse",
+        "description": BatchResponse.__doc__,
+        "type": "object",
+        "properties": {"results": {"type": "array", "items": entry}},
+        "required": ["results"],
+        "additionalProperties": False,
+    }
+
+
+def _opt_types(app: Litestar, key: str) -> dict[str, type[Any]]:
+    """Operation id -> the wire type a route names in ``opt[key]``."""
+    found: dict[str, type[Any]] = {}
+    for route in app.routes:
+        for handler in getattr(route, "route_handlers", ()):
+            if key in handler.opt and isinstance(handler.operation_id, str):
+                found[handler.operation_id] = handler.opt[key]
+    return found
+
+
+def document(app: Litestar) -> dict[str, Any]:
+    """The complete OpenAPI document of ``app``."""
+    doc = copy.deepcopy(app.openapi_schema.to_schema())
+    bodies = _opt_types(app, "request_body")
+    answers = _opt_types(app, "response_body")
+    schemas: dict[str, Any] = doc.setdefault("components", {}).setdefault("schemas", {})
+    _, extra = msgspec.json.schema_components(
+        sorted(set(bodies.values()), key=str), ref_template=_REF
+    )
+    extra["BatchResponse"] = _batch_response_schema()
+    for name, schema in extra.items():
+        if name in schemas:
+            raise RuntimeError(f"two component schemas are named {name!r}")
+        schemas[name] = schema
+    for path_item in doc["paths"].values():
+        for operation in path_item.values():
+            body_type = bodies.get(operation.get("operationId", ""))
+            if body_type is not None:
+                ref = {"$ref": _REF.format(name=body_type.__name__)}
+                operation["requestBody"] = {
+                    "required": True,
+                    "content": {"application/json": {"schema": ref}},
+                }
+            answer_type = answers.get(operation.get("operationId", ""))
+            if answer_type is not None:
+                ref = {"$ref": _REF.format(name=answer_type.__name__)}
+                operation["responses"]["200"]["content"] = {"application/json": {"schema": ref}}
+            for status, response in operation.get("responses", {}).items():
+                if status == "503":
+                    response["headers"] = {"Retry-After": _RETRY_AFTER}
+    return doc
+
+
+def to_text(doc: dict[str, Any]) -> str:
+    """The canonical text of a document: sorted keys, two-space indent, final newline."""
+    return json.dumps(doc, indent=2, sort_keys=True, ensure_ascii=False) + "\n"
+
+
+class ServiceJsonRenderPlugin(JsonRenderPlugin):
+    """Serves ``document(app)`` at ``/schema/openapi.json``."""
+
+    def render(self, request: Request[Any, Any, Any], openapi_schema: dict[str, Any]) -> bytes:
+        state = request.app.state
+        if "openapi_json" not in state:
+            state["openapi_json"] = to_text(document(request.app)).encode()
+        cached: bytes = state["openapi_json"]
+        return cached
+
+
+def main(argv: list[str] | None = None) -> int:
+    """Write the committed document, or with ``--check`` report whether it is current."""
+    parser = argparse.ArgumentParser(prog="python -m service.openapi", description=__doc__)
+    parser.add_argument("--check", action="store_true", help="fail if the file is stale")
+    parser.add_argument("--output", type=Path, default=COMMITTED, help="default: %(default)s")
+    args = parser.parse_args(argv)
+
+    from service.app import create_app
+    from service.config import Settings
+
+    text = to_text(document(create_app(Settings())))
+    output: Path = args.output
+    if args.check:
+        current = output.read_text(encoding="utf-8") if output.exists() else ""
+        if current != text:
+            print(f"{output} is stale; run `python -m service.openapi`", file=sys.stderr)
+            return 1
+        return 0
+    output.parent.mkdir(parents=True, exist_ok=True)
+    output.write_text(text, encoding="utf-8")
+    print(f"wrote {output}")
+    return 0
+
+
+if __name__ == "__main__":
+    raise SystemExit(main())

@@ -1,0 +1,86 @@
+"""Wire types of the HTTP API that the library does not define.
+
+The analysis itself travels as the library's own ``ibl.schema.Case`` and
+``ibl.schema.Result``; this module adds the envelopes around them (batch request
+and response), RFC 9457 problem details and the health answer.  All share one
+base: unknown fields are errors, instances are immutable.
+"""
+
+from __future__ import annotations
+
+from typing import Annotated, Literal
+
+import msgspec
+from msgspec import Meta
+
+from ibl.schema import Case, Result
+
+__all__ = [
+    "BatchEnvelope",
+    "BatchRequest",
+    "BatchResponse",
+    "FieldError",
+    "Health",
+    "Problem",
+    "Wire",
+]
+
+
+class Wire(msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True):
+    """Common base of the service's own wire types."""
+
+
+Pointer = Annotated[
+    str,
+    Meta(
+        description="JSON pointer (RFC 6901) into the request body; an empty string is the "
+        "whole body"
+    ),
+]
+
+
+class FieldError(Wire, frozen=True):
+    """One offending member of the request body."""
+
+    pointer: Pointer
+    reason: Annotated[str, Meta(description="What is wrong with it, and what is accepted")]
+
+
+class Problem(Wire, frozen=True):
+    """RFC 9457 problem details, with one entry in ``errors`` per offending field."""
+
+    type: Annotated[str, Meta(description="URI identifying the kind of problem")]
+    title: Annotated[str, Meta(description="Short summary of the kind of problem")]
+    status: Annotated[int, Meta(ge=400, le=599, description="HTTP status code")]
+    detail: Annotated[str, Meta(description="Explanation of this occurrence")]
+    errors: list[FieldError] = msgspec.field(default_factory=list)
+
+
+class BatchRequest(Wire, frozen=True):
+    """Several cases analysed together; the answer keeps their order."""
+
+    cases: Annotated[
+        list[Case],
+        Meta(
+            description="The cases. The server's limit on their number is set by "
+            "IBL_MAX_BATCH (1000 unless configured otherwise)."
+        ),
+    ]
+
+
+class BatchEnvelope(Wire, frozen=True):
+    """How a batch is decoded: each case stays raw JSON so that it can fail alone."""
+
+    cases: list[msgspec.Raw]
+
+
+class BatchResponse(Wire, frozen=True):
+    """One entry per case, in request order: a result, or the problem with that case."""
+
+    results: list[Result | Problem]
+
+
+class Health(Wire, frozen=True):
+    """Liveness or readiness."""
+
+    status: Literal["live", "ready"]

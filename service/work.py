@@ -1,0 +1,49 @@
+"""The work of each analysis endpoint, from request body to response body.
+
+These functions are synchronous and CPU-bound: handlers run them in a worker
+thread through ``service.runner.Runner``.  They raise ``ibl.CaseError`` or
+``service.errors.ProblemError`` for the exception table to answer.
+"""
+
+from __future__ import annotations
+
+import ibl
+from ibl.schema import Case, Result
+from service import codec
+from service.config import Settings
+from service.errors import problem_from_case_error
+from service.wire import BatchResponse, Problem
+
+__all__ = ["analyse", "analyse_batch"]
+
+
+def analyse(body: bytes, settings: Settings) -> bytes:
+    """One case in, one result out."""
+    codec.check_json(body)
+    case = codec.decode_case(body, settings)
+    return codec.encode(codec.sanitise(ibl.run(case)))
+
+
+def analyse_batch(body: bytes, settings: Settings) -> bytes:
+    """Many cases in, one entry per case out; a bad case fails alone.
+
+    Every case is decoded on its own; the valid ones are marched together by one
+    ``ibl.run_batch`` call.
+    """
+    raw_cases = codec.decode_batch(body, settings)
+    entries: list[Result | Problem | None] = [None] * len(raw_cases)
+    valid: list[tuple[int, Case]] = []
+    for index, raw in enumerate(raw_cases):
+        try:
+            valid.append((index, codec.decode_case(raw, settings)))
+        except ibl.CaseError as error:
+            entries[index] = problem_from_case_error(error, f"/cases/{index}")
+    outcomes = ibl.run_batch([case for _, case in valid]) if valid else []
+    for (index, _), outcome in zip(valid, outcomes, strict=True):
+        entries[index] = (
+            problem_from_case_error(outcome, f"/cases/{index}")
+            if isinstance(outcome, ibl.CaseError)
+            else codec.sanitise(outcome)
+        )
+    results = [entry for entry in entries if entry is not None]
+    return codec.encode(BatchResponse(results=results))

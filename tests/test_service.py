@@ -1,0 +1,693 @@
+"""The HTTP service: every endpoint, every problem shape and every limit."""
+
+from __future__ import annotations
+
+import json
+import math
+import os
+import re
+import socket
+import subprocess
+import sys
+import time
+from collections.abc import Iterator
+from pathlib import Path
+from typing import Any
+
+import anyio
+import httpx
+import msgspec
+import pytest
+from litestar.testing import TestClient
+
+import ibl
+from ibl.schema import Result
+from service import openapi
+from service.app import create_app
+from service.config import Settings
+from service.errors import OVERLOADED, ProblemError
+from service.runner import Runner
+from service.serve import build_parser
+from service.serve import main as serve_main
+from service.wire import Problem
+
+PROBLEM_JSON = "application/problem+json"
+
+
+# ----------------------------------------------------------------------- case documents
+
+
+def strut(points_per_side: int = 60, name: str = "strut") -> dict[str, Any]:
+    """A closed contour: an elliptic strut, 12 % thick, with its potential-flow Cp.
+
+    On the ellipse (a cos t, b sin t) the surface speed is
+    U (1 + b/a) |sin t| / sqrt(sin^2 t + (b/a)^2 cos^2 t); an odd number of points
+    puts one on the leading-edge stagnation point.
+    """
+    a, b = 0.5, 0.06
+    n = 2 * points_per_side - 1
+    ts = [math.pi * (2 * i + 1) / n for i in range(n)]
+    ratio = b / a
+    speed = [
+        (1 + ratio) * abs(math.sin(t)) / math.sqrt(math.sin(t) ** 2 + (ratio * math.cos(t)) ** 2)
+        for t in ts
+    ]
+    return {
+        "name": name,
+        "surface": {"x": [a + a * math.cos(t) for t in ts], "y": [b * math.sin(t) for t in ts]},
+        "pressure": {"cp": [1 - u * u for u in speed]},
+        "flow": {"reynolds": 2.0e6},
+    }
+
+
+def plate(points: int = 40) -> dict[str, Any]:
+    """One surface given by arc length: a flat plate at zero pressure gradient."""
+    return {
+        "surface": {"s": [(i + 1) / points for i in range(points)]},
+        "pressure": {"edge_velocity": [1.0] * points},
+        "flow": {"reynolds": 1.0e6},
+    }
+
+
+@pytest.fixture
+def make_client() -> Iterator[Any]:
+    """Clients of fresh applications, with chosen settings; closed at the end."""
+    clients: list[TestClient[Any]] = []
+
+    def make(**settings: Any) -> TestClient[Any]:
+        client = TestClient(create_app(Settings(**settings)), raise_server_exceptions=False)
+        client.__enter__()
+        clients.append(client)
+        return client
+
+    yield make
+    for client in clients:
+        client.__exit__(None, None, None)
+
+
+@pytest.fixture
+def client(make_client: Any) -> TestClient[Any]:
+    made: TestClient[Any] = make_client()
+    return made
+
+
+def post_json(client: TestClient[Any], path: str, doc: Any) -> Any:
+    return client.post(path, content=json.dumps(doc), headers={"content-type": "application/json"})
+
+
+def problem_of(response: Any, status: int) -> Problem:
+    """Check the RFC 9457 shape and return the problem."""
+    assert response.status_code == status, response.text
+    assert response.headers["content-type"].startswith(PROBLEM_JSON)
+    problem = msgspec.json.decode(response.content, type=Problem)
+    assert problem.status == status
+    assert problem.type and problem.title and problem.detail
+    assert "Traceback" not in response.text
+    return problem
+
+
+def pointers(problem: Problem) -> list[str]:
+    return [e.pointer for e in problem.errors]
+
+
+def with_number(doc: dict[str, Any], path: tuple[str, str, int], literal: str) -> bytes:
+    """``doc`` as JSON with one number replaced by a literal JSON cannot carry in Python."""
+    part, name, index = path
+    marker = 123456.789
+    doc = json.loads(json.dumps(doc))
+    doc[part][name][index] = marker
+    return json.dumps(doc).replace(repr(marker), literal, 1).encode()
+
+
+# ------------------------------------------------------------------------ happy paths
+
+
+def test_analyse_returns_the_library_result(client: TestClient[Any]) -> None:
+    case = strut()
+    response = post_json(client, "/v1/analyses", case)
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"].startswith("application/json")
+    result = msgspec.json.decode(response.content, type=Result)
+    assert result.name == "strut"
+    assert result.sides and result.caution
+    expected = msgspec.to_builtins(ibl.run(ibl.parse_case(case)))
+    assert response.json() == json.loads(json.dumps(expected))
+
+
+def test_analyse_single_surface(client: TestClient[Any]) -> None:
+    response = post_json(client, "/v1/analyses", plate())
+    assert response.status_code == 200, response.text
+    msgspec.json.decode(response.content, type=Result)
+
+
+def test_batch_keeps_order_and_a_bad_case_fails_alone(client: TestClient[Any]) -> None:
+    bad = strut(name="bad")
+    bad["pressure"]["cp"][17] = "high"
+    cases = [strut(name="first"), bad, plate() | {"name": "third"}]
+    response = post_json(client, "/v1/analyses/batch", {"cases": cases})
+    assert response.status_code == 200, response.text
+    first, middle, third = response.json()["results"]
+    assert first["name"] == "first" and third["name"] == "third"
+    problem = msgspec.convert(middle, Problem)
+    assert problem.status == 422
+    assert pointers(problem) == ["/cases/1/pressure/cp/17"]
+    single = post_json(client, "/v1/analyses", cases[0]).json()
+    assert first == single
+
+
+def test_batch_cross_field_problem_fails_alone(client: TestClient[Any]) -> None:
+    uneven = plate()
+    uneven["pressure"]["edge_velocity"] = uneven["pressure"]["edge_velocity"][:-5]
+    response = post_json(client, "/v1/analyses/batch", {"cases": [plate(), uneven]})
+    assert response.status_code == 200, response.text
+    good, bad = response.json()["results"]
+    msgspec.convert(good, Result)
+    problem = msgspec.convert(bad, Problem)
+    assert problem.status == 422
+    assert problem.errors and all(p.startswith("/cases/1") for p in pointers(problem))
+
+
+def test_batch_of_none(client: TestClient[Any]) -> None:
+    response = post_json(client, "/v1/analyses/batch", {"cases": []})
+    assert response.status_code == 200
+    assert response.json() == {"results": []}
+
+
+def test_methods_catalogue(client: TestClient[Any]) -> None:
+    import ibl.registry
+
+    response = client.get("/v1/methods")
+    assert response.status_code == 200
+    body = response.json()
+    assert body and isinstance(body, dict)
+    text = json.dumps(ibl.registry.catalogue(), allow_nan=True)
+    assert body == json.loads(text, parse_constant=lambda _: None)  # unbounded ends as null
+
+
+def test_health(client: TestClient[Any]) -> None:
+    assert client.get("/health/live").json() == {"status": "live"}
+    assert client.get("/health/ready").json() == {"status": "ready"}
+
+
+def test_not_ready_when_the_start_up_analysis_fails(
+    make_client: Any, monkeypatch: pytest.MonkeyPatch
+) -> None:
+    def broken(case: Any) -> Any:
+        raise RuntimeError("no")
+
+    monkeypatch.setattr(ibl, "run", broken)
+    client = make_client()
+    assert client.get("/health/live").status_code == 200
+    response = client.get("/health/ready")
+    problem_of(response, 503)
+    assert response.headers["retry-after"] == "1"
+
+
+def test_metrics_count_requests_by_route(client: TestClient[Any]) -> None:
+    post_json(client, "/v1/analyses", plate())
+    client.get("/health/live")
+    response = client.get("/metrics")
+    assert response.status_code == 200
+    assert response.headers["content-type"].startswith("text/plain")
+    lines = [line for line in response.text.splitlines() if line.startswith("ibl_requests_total{")]
+    assert any('path="/v1/analyses"' in line and 'status_code="200"' in line for line in lines)
+    assert any('path="/health/live"' in line for line in lines)
+
+
+# --------------------------------------------------------------------------- OpenAPI
+
+
+def test_openapi_served_equals_committed(client: TestClient[Any]) -> None:
+    served = client.get("/schema/openapi.json")
+    assert served.status_code == 200
+    committed = json.loads(openapi.COMMITTED.read_text(encoding="utf-8"))
+    assert served.json() == committed, "stale openapi/openapi.json: run python -m service.openapi"
+
+
+def test_openapi_document_is_complete(client: TestClient[Any]) -> None:
+    doc = client.get("/schema/openapi.json").json()
+    assert doc["openapi"].startswith("3.1")
+    assert "Caution" in doc["info"]["description"]
+    ops = {op["operationId"]: op for item in doc["paths"].values() for op in item.values()}
+    assert set(ops) >= {"analyse", "analyseBatch", "listMethods", "live", "ready", "metrics"}
+    for op_id, body in (("analyse", "Case"), ("analyseBatch", "BatchRequest")):
+        op = ops[op_id]
+        schema = op["requestBody"]["content"]["application/json"]["schema"]
+        assert schema == {"$ref": f"#/components/schemas/{body}"}
+        assert {"200", "400", "413", "422", "503"} <= set(op["responses"])
+        assert "Retry-After" in op["responses"]["503"]["headers"]
+        assert "Caution" in op["description"]
+    schemas = doc["components"]["schemas"]
+    assert schemas["Case"]["additionalProperties"] is False
+    refs = set(_refs(doc))
+    assert refs and all(ref.removeprefix("#/components/schemas/") in schemas for ref in refs)
+
+
+def _refs(node: Any) -> Iterator[str]:
+    if isinstance(node, dict):
+        for key, value in node.items():
+            if key == "$ref":
+                yield value
+            else:
+                yield from _refs(value)
+    elif isinstance(node, list):
+        for value in node:
+            yield from _refs(value)
+
+
+def test_openapi_check_command_detects_drift(tmp_path: Path) -> None:
+    target = tmp_path / "openapi.json"
+    assert openapi.main(["--output", str(target)]) == 0
+    assert openapi.main(["--check", "--output", str(target)]) == 0
+    target.write_text(target.read_text().replace('"analyse"', '"analyze"', 1))
+    assert openapi.main(["--check", "--output", str(target)]) == 1
+
+
+# --------------------------------------------------------------------------- problems
+
+
+@pytest.mark.parametrize(
+    "body",
+    [b"", b"{", b'{"surface": }', b"[1,]", b"NaN", b'{"a": Infinity}', b"\xff\xfe{}", b"[" * 5000],
+    ids=[
+        "empty",
+        "truncated",
+        "missing value",
+        "trailing comma",
+        "nan",
+        "infinity",
+        "bad utf-8",
+        "deep",
+    ],
+)
+@pytest.mark.parametrize("path", ["/v1/analyses", "/v1/analyses/batch"])
+def test_malformed_json_is_400(client: TestClient[Any], path: str, body: bytes) -> None:
+    problem = problem_of(client.post(path, content=body), 400)
+    assert problem.type.endswith("malformed-json")
+
+
+def test_invalid_case_names_the_field(client: TestClient[Any]) -> None:
+    case = strut()
+    case["pressure"]["cp"][17] = "high"
+    problem = problem_of(post_json(client, "/v1/analyses", case), 422)
+    assert problem.type.endswith("invalid-case")
+    assert pointers(problem) == ["/pressure/cp/17"]
+    assert problem.errors[0].reason
+
+
+@pytest.mark.parametrize(
+    ("edit", "pointer"),
+    [
+        (lambda c: c["transition"].update(criterion="no-such-criterion"), "/transition/criterion"),
+        (lambda c: c["turbulent"].update(skin_friction="no-such-law"), "/turbulent/skin_friction"),
+        (lambda c: c["flow"].update(reynolds=-1.0), "/flow/reynolds"),
+        (lambda c: c["flow"].update(mach=1.5), "/flow/mach"),
+    ],
+    ids=["criterion", "skin friction law", "negative reynolds", "supersonic"],
+)
+def test_bad_option_names_the_field(client: TestClient[Any], edit: Any, pointer: str) -> None:
+    case = strut() | {"transition": {}, "turbulent": {}}
+    edit(case)
+    assert pointer in pointers(problem_of(post_json(client, "/v1/analyses", case), 422))
+
+
+def test_unknown_member_is_422(client: TestClient[Any]) -> None:
+    case = strut()
+    case["flow"]["viscosity_of_honey"] = 1.0
+    problem = problem_of(post_json(client, "/v1/analyses", case), 422)
+    assert problem.errors
+    assert any(
+        "viscosity_of_honey" in e.reason or "viscosity_of_honey" in e.pointer
+        for e in problem.errors
+    )
+
+
+@pytest.mark.parametrize("literal", ["1e400", "-1e400", "1" * 400])
+def test_non_finite_number_is_422_with_pointer(client: TestClient[Any], literal: str) -> None:
+    body = with_number(strut(), ("pressure", "cp", 5), literal)
+    problem = problem_of(client.post("/v1/analyses", content=body), 422)
+    assert pointers(problem) == ["/pressure/cp/5"]
+
+
+def test_non_finite_number_in_a_batch_fails_alone(client: TestClient[Any]) -> None:
+    text = with_number(strut(), ("pressure", "cp", 5), "1e999").decode()
+    body = f'{{"cases": [{json.dumps(plate())}, {text}, {json.dumps(plate())}]}}'
+    response = client.post("/v1/analyses/batch", content=body)
+    assert response.status_code == 200, response.text
+    first, middle, last = response.json()["results"]
+    assert pointers(msgspec.convert(middle, Problem)) == ["/cases/1/pressure/cp/5"]
+    assert first == last and "sides" in first
+
+
+@pytest.mark.parametrize(
+    ("doc", "pointer"),
+    [
+        ([], ""),
+        ({}, ""),
+        ({"cases": None}, "/cases"),
+        ({"cases": [], "extra": 1}, ""),
+    ],
+    ids=["array", "no cases", "null cases", "unknown member"],
+)
+def test_bad_batch_envelope_is_422(client: TestClient[Any], doc: Any, pointer: str) -> None:
+    problem = problem_of(post_json(client, "/v1/analyses/batch", doc), 422)
+    assert problem.type.endswith("invalid-request")
+    assert pointers(problem) == [pointer]
+
+
+def test_not_a_case_entry_in_a_batch_fails_alone(client: TestClient[Any]) -> None:
+    response = post_json(client, "/v1/analyses/batch", {"cases": [plate(), 7, None]})
+    assert response.status_code == 200
+    results = response.json()["results"]
+    assert "sides" in results[0]
+    for index in (1, 2):
+        problem = msgspec.convert(results[index], Problem)
+        assert problem.status == 422 and pointers(problem) == [f"/cases/{index}"]
+
+
+def test_unknown_path_and_method(client: TestClient[Any]) -> None:
+    problem = problem_of(client.get("/v1/nothing-here"), 404)
+    assert problem.type == "about:blank"
+    response = client.get("/v1/analyses")
+    problem_of(response, 405)
+    assert "POST" in response.headers["allow"]
+
+
+def test_unexpected_error_is_500_without_details(
+    client: TestClient[Any], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    def broken(case: Any) -> Any:
+        raise RuntimeError("secret internals")
+
+    monkeypatch.setattr(ibl, "run", broken)
+    response = post_json(client, "/v1/analyses", plate())
+    problem = problem_of(response, 500)
+    assert "secret" not in response.text
+    assert problem.type.endswith("internal-error")
+
+
+WEIRD_BODIES = [
+    b"null",
+    b"true",
+    b"0",
+    b'"case"',
+    b"[]",
+    b"1e999",
+    b"-0",
+    b'{"surface": null, "pressure": null, "flow": null}',
+    b'{"surface": {}, "pressure": {}, "flow": {}}',
+    b'{"surface": {"s": []}, "pressure": {"cp": []}, "flow": {}}',
+    b'{"surface": {"x": [0, 1, 2], "y": [0, 0, 0]}, "pressure": {"cp": [2, 2, 2]}, "flow": {}}',
+    b'{"surface": {"s": [0, 0, 0]}, "pressure": {"edge_velocity": [0, 0, 0]}, '
+    b'"flow": {"reynolds": 1}}',
+    b'{"surface": {"s": [3, 2, 1]}, "pressure": {"edge_velocity": [1, 1, 1]}, '
+    b'"flow": {"reynolds": 1e300}}',
+    b'{"surface": {"s": [1e-300, 2e-300, 3e-300]}, "pressure": {"edge_velocity": '
+    b'[1e300, -1e300, 1e300]}, "flow": {"speed": 1e-300, "kinematic_viscosity": 1e300}}',
+    b'{"surface": ' + b"[" * 3000 + b"]" * 3000 + b"}",
+    b'{"name": "\\ud800", "surface": {}, "pressure": {}, "flow": {}}',
+    b'{"flow": {}, "flow": {}}',
+    b"\xef\xbb\xbf{}",
+    b'{"cases": [' + b"{}," * 50 + b"{}]}",
+    b'{"cases": [{"surface": {"s": "abc"}}], "cases": []}',
+    b'{"cases": [' + b"[" * 3000 + b"]" * 3000 + b"]}",
+    '{"name": "\u00e9\u4e2d\U0001f600"}'.encode(),
+    b"\x00\x01\x02",
+]
+
+
+@pytest.mark.parametrize("body", WEIRD_BODIES, ids=range(len(WEIRD_BODIES)))
+@pytest.mark.parametrize("where", ["single", "batch", "batch entry"])
+def test_weird_input_is_never_a_server_error(
+    client: TestClient[Any], where: str, body: bytes
+) -> None:
+    path = "/v1/analyses" if where == "single" else "/v1/analyses/batch"
+    if where == "batch entry":
+        body = b'{"cases": [' + body + b"]}"
+    response = client.post(path, content=body, headers={"content-type": "application/json"})
+    assert response.status_code < 500, response.text
+    if response.status_code >= 400:
+        problem_of(response, response.status_code)
+    elif where == "batch entry":
+        (entry,) = response.json()["results"]
+        if "status" in entry:
+            assert msgspec.convert(entry, Problem).status == 422
+
+
+# ----------------------------------------------------------------------------- limits
+
+
+def test_body_limit_with_content_length(make_client: Any) -> None:
+    client = make_client(max_body_bytes=2_000)
+    problem = problem_of(post_json(client, "/v1/analyses", strut()), 413)
+    assert problem.type.endswith("body-too-large") and "2000" in problem.detail
+    assert post_json(client, "/v1/analyses", plate(5)).status_code == 200
+
+
+def test_body_limit_when_streamed(make_client: Any) -> None:
+    client = make_client(max_body_bytes=2_000)
+
+    def chunks() -> Iterator[bytes]:
+        body = json.dumps({"cases": [strut()]}).encode()
+        for start in range(0, len(body), 500):
+            yield body[start : start + 500]
+
+    problem_of(client.post("/v1/analyses/batch", content=chunks()), 413)
+
+
+def test_points_limit(make_client: Any) -> None:
+    client = make_client(max_points=50)
+    problem = problem_of(post_json(client, "/v1/analyses", strut(points_per_side=30)), 422)
+    assert set(pointers(problem)) == {"/surface/x", "/surface/y", "/pressure/cp"}
+    assert "50" in problem.errors[0].reason
+    assert post_json(client, "/v1/analyses", strut(points_per_side=25)).status_code == 200
+    batch = post_json(client, "/v1/analyses/batch", {"cases": [plate(), strut(30)]}).json()
+    assert "sides" in batch["results"][0]
+    assert "/cases/1/surface/x" in pointers(msgspec.convert(batch["results"][1], Problem))
+
+
+def test_batch_limit(make_client: Any) -> None:
+    client = make_client(max_batch=2)
+    assert post_json(client, "/v1/analyses/batch", {"cases": [plate()] * 2}).status_code == 200
+    problem = problem_of(post_json(client, "/v1/analyses/batch", {"cases": [plate()] * 3}), 422)
+    assert pointers(problem) == ["/cases"]
+
+
+@pytest.mark.parametrize("path", ["/v1/analyses", "/v1/analyses/batch"])
+def test_time_limit_is_503_with_retry_after(
+    make_client: Any, monkeypatch: pytest.MonkeyPatch, path: str
+) -> None:
+    client = make_client(time_limit_s=0.05)
+
+    def slow(case: Any) -> Any:
+        time.sleep(0.5)
+        return None
+
+    monkeypatch.setattr(ibl, "run", slow)
+    monkeypatch.setattr(ibl, "run_batch", slow)
+    doc = plate() if path == "/v1/analyses" else {"cases": [plate()]}
+    response = post_json(client, path, doc)
+    problem = problem_of(response, 503)
+    assert problem.type.endswith("time-limit")
+    assert response.headers["retry-after"] == "1"
+
+
+def test_overload_is_refused_promptly() -> None:
+    async def scenario() -> ProblemError:
+        runner = Runner(Settings(compute_threads=1, max_queue=0))
+        release = anyio.Event()
+        started = anyio.Event()
+
+        async def occupy() -> None:
+            async with runner.limiter:
+                started.set()
+                await release.wait()
+
+        async with anyio.create_task_group() as tg:
+            tg.start_soon(occupy)
+            await started.wait()
+            assert runner.saturated
+            try:
+                await runner.run(lambda: 1)
+            except ProblemError as exc:
+                refused = exc
+            else:
+                raise AssertionError("a saturated runner accepted work")
+            release.set()
+        assert not runner.saturated
+        assert await runner.run(lambda: 2) == 2
+        return refused
+
+    refused = anyio.run(scenario)
+    assert refused.problem.type == OVERLOADED.type and refused.problem.status == 503
+    assert refused.headers["Retry-After"] == "1"
+
+
+# ------------------------------------------------------------------ non-finite results
+
+
+def _real_result() -> Result:
+    result = ibl.run(ibl.parse_case(strut()))
+    assert len(result.sides) == 2 and all(side.transition for side in result.sides)
+    assert all(len(side.mesh.first_cell) >= 2 for side in result.sides)
+    return result
+
+
+def test_non_finite_results_are_repaired_and_noted(
+    client: TestClient[Any], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    nan, inf = math.nan, math.inf
+    good = _real_result()
+    upper, lower = good.sides
+    theta = [*upper.theta]
+    theta[2] = nan
+    cf = [*upper.cf]
+    cf[1] = inf
+    assert upper.transition is not None
+    broken_upper = msgspec.structs.replace(
+        upper,
+        theta=theta,
+        cf=cf,
+        transition=msgspec.structs.replace(upper.transition, x=inf),
+    )
+    broken_lower = msgspec.structs.replace(
+        lower, mesh=msgspec.structs.replace(lower.mesh, max_thickness=inf)
+    )
+    cells = [*lower.mesh.first_cell]
+    cells[0] = msgspec.structs.replace(cells[0], height=nan)
+    lower_cells = msgspec.structs.replace(
+        lower, mesh=msgspec.structs.replace(lower.mesh, first_cell=cells)
+    )
+    result = msgspec.structs.replace(
+        good,
+        sides=[broken_upper, broken_lower, lower_cells],
+        options={**good.options, "probe": nan},
+    )
+    monkeypatch.setattr(ibl, "run", lambda case: result)
+    response = post_json(client, "/v1/analyses", plate())
+    assert response.status_code == 200, response.text
+    repaired = msgspec.json.decode(response.content, type=Result)
+    first, third = repaired.sides
+    assert first.theta == upper.theta[:2] and len(first.s) == len(first.regime) == 2
+    assert first.cf == [upper.cf[0], None]
+    assert first.transition is not None and first.transition.x is None
+    assert third.mesh.first_cell == lower.mesh.first_cell[1:]
+    assert repaired.options["probe"] == "nan"
+    noted = {w.pointer for w in repaired.warnings if w.code == "non_finite"}
+    assert noted == {
+        "/sides/0/theta/2",
+        "/sides/0/cf/1",
+        "/sides/0/transition/x",
+        "/sides/1",
+        "/sides/2/mesh/first_cell/0",
+        "/options/probe",
+    }
+    assert repaired.warnings[: len(good.warnings)] == good.warnings
+
+
+def test_finite_results_pass_unchanged(
+    client: TestClient[Any], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    result = _real_result()
+    monkeypatch.setattr(ibl, "run", lambda case: result)
+    response = post_json(client, "/v1/analyses", plate())
+    assert response.content == msgspec.json.encode(result)
+
+
+# ------------------------------------------------------------------ configuration, serve
+
+
+def test_settings_from_environment() -> None:
+    settings = Settings.from_env(
+        {
+            "IBL_MAX_BODY_BYTES": "1000",
+            "IBL_MAX_POINTS": "500",
+            "IBL_MAX_BATCH": "7",
+            "IBL_TIME_LIMIT_S": "2.5",
+            "IBL_COMPUTE_THREADS": "3",
+            "IBL_MAX_QUEUE": "",
+        }
+    )
+    assert settings == Settings(
+        max_body_bytes=1000, max_points=500, max_batch=7, time_limit_s=2.5, compute_threads=3
+    )
+
+
+@pytest.mark.parametrize(
+    ("var", "value"),
+    [
+        ("IBL_MAX_BATCH", "many"),
+        ("IBL_MAX_BATCH", "0"),
+        ("IBL_TIME_LIMIT_S", "-1"),
+        ("IBL_TIME_LIMIT_S", "nan"),
+        ("IBL_MAX_POINTS", "10000000"),
+    ],
+)
+def test_bad_setting_names_the_variable(var: str, value: str) -> None:
+    with pytest.raises(ValueError, match=var):
+        Settings.from_env({var: value})
+
+
+def test_serve_refuses_bad_limits(monkeypatch: pytest.MonkeyPatch, capsys: Any) -> None:
+    monkeypatch.setenv("IBL_MAX_BODY_BYTES", "lots")
+    assert serve_main(["--port", "1"]) == 2
+    assert "IBL_MAX_BODY_BYTES" in capsys.readouterr().err
+
+
+def test_serve_options_fall_back_to_environment() -> None:
+    args = build_parser({"IBL_HOST": "0.0.0.0", "IBL_PORT": "9001", "IBL_WORKERS": "3"}).parse_args(
+        []
+    )
+    assert (args.host, args.port, args.workers) == ("0.0.0.0", 9001, 3)
+    args = build_parser({"IBL_PORT": "9001"}).parse_args(["--port", "9002", "--workers", "1"])
+    assert (args.host, args.port, args.workers) == ("127.0.0.1", 9002, 1)
+    with pytest.raises(SystemExit):
+        build_parser({}).parse_args(["--workers", "0"])
+
+
+def _free_port() -> int:
+    with socket.socket() as sock:
+        sock.bind(("127.0.0.1", 0))
+        port: int = sock.getsockname()[1]
+        return port
+
+
+def test_serve_merges_metrics_of_its_workers(tmp_path: Path) -> None:
+    """Two worker processes answer scrapes alike: their samples are merged through files."""
+    port = _free_port()
+    base = f"http://127.0.0.1:{port}"
+    folder = tmp_path / "metrics"
+    env = dict(os.environ, PROMETHEUS_MULTIPROC_DIR=str(folder), IBL_MAX_BATCH="5")
+    command = [sys.executable, "-m", "service.serve", "--host", "127.0.0.1", "--port", str(port)]
+    log = tmp_path / "server.log"
+    with log.open("wb") as sink:
+        server = subprocess.Popen(
+            [*command, "--workers", "2"],
+            cwd=Path(__file__).resolve().parents[1],
+            env=env,
+            stdout=sink,
+            stderr=subprocess.STDOUT,
+        )
+    try:
+        for _ in range(600):  # start-up, bounded: at most a minute
+            try:
+                if httpx.get(f"{base}/health/ready", timeout=1).status_code == 200:
+                    break
+            except httpx.HTTPError:
+                pass
+            assert server.poll() is None, log.read_text()
+            time.sleep(0.1)
+        else:
+            raise AssertionError("the server did not become ready")
+        for _ in range(20):  # a new connection each time, so both workers answer some
+            assert httpx.get(f"{base}/health/live").status_code == 200
+        pattern = re.compile(r'^ibl_requests_total\{[^}]*path="/health/live"[^}]*\} (\S+)$', re.M)
+        counts = set()
+        for _ in range(10):
+            scrape = httpx.get(f"{base}/metrics").text
+            counts.add(float(pattern.findall(scrape)[0]))
+        assert counts == {20.0}
+        assert len(list(folder.glob("counter_*.db"))) == 2
+    finally:
+        server.terminate()
+        assert server.wait(timeout=30) == 0, log.read_text()
