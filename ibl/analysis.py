@@ -182,8 +182,8 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
     if math.isfinite(state.transition_s):
         tr = TransitionEvent(
             s=state.transition_s + offset,
-            x=_xy_at(side, state.transition_s)[0],
-            y=_xy_at(side, state.transition_s)[1],
+            x=(xy := _xy_at(side, state.transition_s))[0],
+            y=xy[1],
             cause=state.transition_cause,  # type: ignore[arg-type]
             re_theta=state.transition_re_theta,
         )
@@ -191,8 +191,8 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
     if math.isfinite(state.laminar_separation_s):
         lsep = LaminarSeparationEvent(
             s=state.laminar_separation_s + offset,
-            x=_xy_at(side, state.laminar_separation_s)[0],
-            y=_xy_at(side, state.laminar_separation_s)[1],
+            x=(xy := _xy_at(side, state.laminar_separation_s))[0],
+            y=xy[1],
             bubble="short" if state.bubble_short else "long",
             re_delta_star=state.laminar_separation_re_delta_star,
         )
@@ -200,8 +200,8 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
     if math.isfinite(state.separation_s):
         sep = SeparationEvent(
             s=state.separation_s + offset,
-            x=_xy_at(side, state.separation_s)[0],
-            y=_xy_at(side, state.separation_s)[1],
+            x=(xy := _xy_at(side, state.separation_s))[0],
+            y=xy[1],
             regime="turbulent" if state.separation_turbulent else "laminar",
         )
     cf = state.cf
@@ -230,29 +230,29 @@ def _side(side: SideInput, state: SideState) -> tuple[Side, SideState]:
 
 
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
-    ok = np.isfinite(state.cf) & (state.cf > 0.0) & (state.ue > 0.0)
     cells = []
-    if ok.any():
-        u_tau = mesh.friction_velocity(np.where(ok, state.ue, 1.0), np.where(ok, state.cf, 1.0))
-        # The smallest height for every target is where u_tau is largest.
-        i = int(np.argmax(np.where(ok, u_tau, -np.inf)))
+    if math.isfinite(state.max_u_tau):
+        # The smallest first cell for every y+ target is where u_tau is largest.
+        i = state.max_u_tau_index
+        s_i = float(state.s[i]) + side.offset
         x = float(side.x[i]) if side.x is not None else None
         y = float(side.y[i]) if side.y is not None else None
-        heights = mesh.first_cell_height(np.asarray(side.options.y_plus), side.nu, u_tau[i])
         cells = [
-            FirstCell(y_plus=y_plus, height=height, s=float(state.s[i] + side.offset), x=x, y=y)
-            for y_plus, height in zip(side.options.y_plus, heights.tolist(), strict=True)
+            FirstCell(y_plus=y_plus, height=float(height), s=s_i, x=x, y=y)
+            for y_plus, height in zip(
+                side.options.y_plus,
+                mesh.first_cell_height(np.array(side.options.y_plus), side.nu, state.max_u_tau),
+                strict=True,
+            )
         ]
-    i_thick = int(np.argmax(state.delta99))
-    ratio = mesh.eddy_viscosity_ratio_clauser(state.re_theta * state.shape_factor)
-    ratio = np.where(state.turbulent, ratio, 0.0)
-    i_ratio = int(np.argmax(ratio))
+    i_thick = state.max_delta99_index
+    i_ratio = state.max_eddy_viscosity_ratio_index
     return MeshAdvice(
         first_cell=cells,
         max_thickness=float(state.delta99[i_thick]),
-        max_thickness_s=float(state.s[i_thick] + side.offset),
-        max_eddy_viscosity_ratio=float(ratio[i_ratio]),
-        max_eddy_viscosity_ratio_s=float(state.s[i_ratio] + side.offset),
+        max_thickness_s=float(state.s[i_thick]) + side.offset,
+        max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
+        max_eddy_viscosity_ratio_s=float(state.s[i_ratio]) + side.offset,
     )
 
 

@@ -30,6 +30,7 @@ __all__ = [
     "CAUSE_CRITERION",
     "CAUSE_LAMINAR_SEPARATION",
     "CAUSE_TRIP",
+    "CLAUSER",
     "CLOSURE_CODES",
     "CRITERION_CODES",
     "N_EVENT_FIELDS",
@@ -44,7 +45,7 @@ __all__ = [
 F64 = NDArray[np.float64]
 
 #: Rows of the ``stations`` output and columns of the ``events`` output of ``march_sides``.
-N_STATION_FIELDS, N_EVENT_FIELDS = 7, 16
+N_STATION_FIELDS, N_EVENT_FIELDS = 7, 22
 CRITERION_CODES = {"none": 0, "michel": 1, "granville": 2, "abu_ghannam_shaw": 3}
 CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
 START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
@@ -68,6 +69,8 @@ MAX_STEPS = 20_000
 #: How a turbulent march ended: normally (attached or separated), out of steps, or on a
 #: state the equations cannot continue from (rough input data).
 STOP_NONE, STOP_BUDGET, STOP_INVALID = 0, 1, 2
+#: Clauser's outer eddy-viscosity constant (twin of ``ibl.mesh.CLAUSER_CONSTANT``).
+CLAUSER = 0.0168
 #: Laminar delta99/theta of the Blasius layer, 4.91/0.664 (common practice).
 LAMINAR_DELTA99_RATIO = 4.91 / 0.664
 
@@ -582,7 +585,9 @@ def march_sides(
         laminar separation s, its Re_delta*, short-bubble flag, separation s,
         separation-is-turbulent flag, largest laminar lambda, smallest and largest
         turbulent Re_theta, Re_s at transition, mean lambda at transition, stop code of
-        the turbulent march, and where it stopped (NaN unless the code is not STOP_NONE).
+        the turbulent march, and where it stopped (NaN unless the code is not STOP_NONE),
+        then mesh figures: largest u_tau/U_inf (NaN if none) and its station, largest delta99
+        and its station, largest nu_t/nu and its station.
     step_scale : multiplies every step limit of the turbulent march (1 by default;
         smaller for convergence checks).
     Positions are NaN when an event does not happen.  Returns the turbulent step count.
@@ -902,4 +907,26 @@ def march_sides(
         ev[13] = lam_mean_tr
         ev[14] = stop
         ev[15] = stopped
+        # Mesh figures: the largest friction velocity (smallest first cell), the largest
+        # delta99, the largest outer eddy viscosity (Clauser: 0.0168 Re_delta*, turbulent).
+        i_tau, i_d99, i_nut = -1, 0, -1
+        tau_max, nut_max = 0.0, 0.0
+        for i in range(keep):
+            cf = out[2, i]
+            if np.isfinite(cf) and cf > 0.0 and uk[i] > 0.0:
+                u_tau = uk[i] * np.sqrt(0.5 * cf)
+                if u_tau > tau_max:
+                    tau_max, i_tau = u_tau, i
+            if out[4, i] > out[4, i_d99]:
+                i_d99 = i
+            if out[5, i] > 0.5:
+                nut = CLAUSER * out[3, i] * out[1, i]
+                if nut > nut_max:
+                    nut_max, i_nut = nut, i
+        ev[16] = tau_max if i_tau >= 0 else np.nan
+        ev[17] = i_tau
+        ev[18] = out[4, i_d99]
+        ev[19] = i_d99
+        ev[20] = nut_max
+        ev[21] = max(i_nut, 0)
     return steps

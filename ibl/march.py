@@ -70,6 +70,11 @@ class SideState:
     lambda_mean_at_transition: float
     stop: str  # "" when the turbulent march ended normally
     stopped_s: float
+    max_u_tau: float  # largest u_tau / U_inf (NaN when Cf is nowhere defined)
+    max_u_tau_index: int
+    max_delta99_index: int
+    max_eddy_viscosity_ratio: float
+    max_eddy_viscosity_ratio_index: int
 
 
 def _stack(
@@ -147,6 +152,11 @@ def march(sides: list[SideInput]) -> list[SideState]:
                 lambda_mean_at_transition=ev[13],
                 stop=_STOP[int(ev[14])],
                 stopped_s=ev[15],
+                max_u_tau=ev[16],
+                max_u_tau_index=int(ev[17]),
+                max_delta99_index=int(ev[19]),
+                max_eddy_viscosity_ratio=ev[20],
+                max_eddy_viscosity_ratio_index=int(ev[21]),
             )
         )
     return states

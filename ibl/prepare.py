@@ -547,8 +547,8 @@ def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool, ue_limit: fl
             if q[i] <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
                 best = i
             continue
-        _, qm = _local(arc, q, m, closed, i, -1)
-        _, qp = _local(arc, q, m, closed, i, 1)
+        qm = q[i - 1] if i > 0 else q[m - 1]
+        qp = q[i + 1] if i < m - 1 or not closed else q[0]
         if q[i] > qm or q[i] > qp:
             continue
         _, _, p_ue, _, _, v_ue = stagnation_models(arc, q, closed, i)
@@ -654,9 +654,11 @@ def _split_contour(
         slice(first_after, n),
     )
     sizes = (max(last_before + 1, 0), n - first_after)
-    mean_y = [
-        float(y[b].mean()) if size else -np.inf for b, size in zip(branches, sizes, strict=True)
-    ]
+    before, after = max(last_before + 1, 0), first_after
+    mean_y = (
+        float(y[:before].sum()) / before if before else -np.inf,
+        float(y[after:].sum()) / (n - after) if after < n else -np.inf,
+    )
     upper_first = mean_y[0] >= mean_y[1]
     start: Literal["stagnation", "sharp"] = "sharp" if np.isnan(slope) else "stagnation"
     ue = np.sqrt(q)

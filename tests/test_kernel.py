@@ -114,3 +114,9 @@ def test_turbulent_march_is_converged(doc):
     turb = (st[:, 5] > 0.5) & (st_ref[:, 5] > 0.5)
     np.testing.assert_allclose(st[:, 0][turb], st_ref[:, 0][turb], rtol=5e-3)
     np.testing.assert_allclose(st[:, 1][turb], st_ref[:, 1][turb], rtol=5e-3)
+
+
+def test_mesh_constants_agree():
+    from ibl import mesh
+
+    assert kernel.CLAUSER == mesh.CLAUSER_CONSTANT
