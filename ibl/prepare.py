@@ -190,6 +190,35 @@ def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F
     return array
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _arc_length(x: F64, y: F64, tolerance: float) -> tuple[F64, int]:
+    """Arc length along a contour (chords), and the first point that repeats the one
+    before it (closer than ``tolerance`` times the contour length), or -1."""
+    n = x.size
+    arc = np.empty(n)
+    arc[0] = 0.0
+    for i in range(1, n):
+        arc[i] = arc[i - 1] + np.hypot(x[i] - x[i - 1], y[i] - y[i - 1])
+    limit = tolerance * arc[n - 1]
+    for i in range(1, n):
+        if arc[i] - arc[i - 1] <= limit:
+            return arc, i
+    return arc, -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _cp_excess(cp: F64, cp_max: float, noise: float) -> tuple[int, int]:
+    """The first Cp above its stagnation value by more than ``noise`` (or -1), and how many
+    exceed it at all."""
+    count = 0
+    for i in range(cp.size):
+        if cp[i] > cp_max + noise:
+            return i, count
+        if cp[i] > cp_max:
+            count += 1
+    return -1, count
+
+
 def _check_length(
     array: F64 | None, n: int, pointer: str, what: str, problems: list[FieldProblem]
 ) -> None:
@@ -322,13 +351,10 @@ def prepare(case: Case) -> Prepared:
     warnings: list[Notice] = []
     # Arc length along the input.
     if contour:
-        segment = np.hypot(np.diff(x), np.diff(y))
-        total = float(segment.sum())
-        repeated = np.flatnonzero(segment <= REPEAT_TOLERANCE * max(total, 1e-300))
-        if total <= 0.0 or repeated.size:
-            i = int(repeated[0]) + 1 if repeated.size else 1
+        arc, repeated = _arc_length(x, y, REPEAT_TOLERANCE)
+        if repeated > 0:
+            i = repeated
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
-        arc = np.concatenate(([0.0], np.cumsum(segment)))
     else:
         step = np.diff(s_in)
         bad = np.flatnonzero(step <= 0.0)
@@ -343,15 +369,14 @@ def prepare(case: Case) -> Prepared:
     mach = flow.mach
     if pressure.cp is not None:
         cp_max = stagnation_cp(mach)
-        over = np.flatnonzero(p_values > cp_max + CP_NOISE)
-        if over.size:
-            i = int(over[0])
+        over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
+        if over >= 0:
+            i = over
             raise CaseError.at(
                 f"/pressure/cp/{i}",
                 f"Cp = {p_values[i]:.4g} exceeds the stagnation value {cp_max:.4g} at "
                 f"M = {mach:g} by more than measurement noise ({CP_NOISE:g})",
             )
-        clipped = int(np.count_nonzero(p_values > cp_max))
         if clipped:
             warnings.append(
                 Notice(
@@ -361,7 +386,10 @@ def prepare(case: Case) -> Prepared:
                     pointer="/pressure/cp",
                 )
             )
-        q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
+        if mach > 0.0:
+            q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
+        else:
+            q = np.maximum(1.0 - p_values, 0.0)  # Bernoulli: (Ue/U_inf)^2 = 1 - Cp
     else:
         q = p_values**2
     if mach > 0.0:
@@ -379,7 +407,7 @@ def prepare(case: Case) -> Prepared:
         q, notice = _smooth(q, arc, pressure.smoothing)
         q = np.maximum(q, 0.0)
         warnings.append(notice)
-    if not np.any(q > 0.0):
+    if not q.max() > 0.0:
         raise CaseError.at(p_pointer, "the edge velocity is zero everywhere")
 
     nu = 1.0 / flow.reynolds if flow.reynolds is not None else 0.0
