@@ -237,13 +237,10 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
         s_i = float(state.s[i]) + side.offset
         x = float(side.x[i]) if side.x is not None else None
         y = float(side.y[i]) if side.y is not None else None
+        heights = mesh.first_cell_height(side.options.y_plus, side.nu, state.max_u_tau)
         cells = [
-            FirstCell(y_plus=y_plus, height=float(height), s=s_i, x=x, y=y)
-            for y_plus, height in zip(
-                side.options.y_plus,
-                mesh.first_cell_height(np.array(side.options.y_plus), side.nu, state.max_u_tau),
-                strict=True,
-            )
+            FirstCell(y_plus=y_plus, height=height, s=s_i, x=x, y=y)
+            for y_plus, height in zip(side.options.y_plus, heights.tolist(), strict=True)
         ]
     i_thick = state.max_delta99_index
     i_ratio = state.max_eddy_viscosity_ratio_index
