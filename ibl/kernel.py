@@ -425,24 +425,20 @@ def _head(
 
 @numba.njit(cache=True, error_model="numpy")
 def _laminar_at(
-    sk: F64,
-    uk: F64,
-    due: F64,
-    rk: F64,
-    dr: F64,
-    integral: F64,
-    n: int,
+    layer: tuple[F64, F64, F64, F64, F64, F64],
+    params: tuple[int, float, float, float, bool],
     at: float,
-    c0: float,
-    start_theta2: float,
-    nu: float,
-    axisym: bool,
 ) -> tuple[float, float, float, float]:
     """theta^2, lambda, Re_theta and Ue at any arc length, between stations included.
 
     Thwaites' integral up to the station before ``at`` is completed by four-point Gauss
-    quadrature of the Hermite interpolants over the rest of the interval.
+    quadrature of the Hermite interpolants over the rest of the interval.  ``layer`` holds
+    the side's s, Ue, Ue', r, r' and the cumulative integral at the stations; ``params``
+    its station count, start term theta0^2 r0^2 Ue0^6, start theta^2, nu and whether it
+    is axisymmetric.
     """
+    sk, uk, due, rk, dr, integral = layer
+    n, c0, start_theta2, nu, axisym = params
     j = 0
     while j < n - 2 and sk[j + 1] < at:
         j += 1
@@ -499,27 +495,20 @@ def _refine(
     kind: int,
     lo: float,
     hi: float,
-    sk: F64,
-    uk: F64,
-    due: F64,
-    rk: F64,
-    dr: F64,
-    integral: F64,
-    n: int,
-    c0: float,
-    start_theta2: float,
-    nu: float,
-    axisym: bool,
+    layer: tuple[F64, F64, F64, F64, F64, F64],
+    params: tuple[int, float, float, float, bool],
     lam_sep: float,
     tu: float,
 ) -> float:
     """Where an event's margin crosses zero between ``lo`` (before) and ``hi`` (after),
     by the Illinois variant of regula falsi on the interpolated laminar state, so that the
     position does not depend on how far apart the stations are."""
+    sk = layer[0]
+    n, nu = params[0], params[3]
     origin = sk[0]
-    th, lam, re, u = _laminar_at(sk, uk, due, rk, dr, integral, n, lo, c0, start_theta2, nu, axisym)
+    th, lam, re, u = _laminar_at(layer, params, lo)
     g_lo = _margin(kind, th, lam, re, u, lo - origin, nu, lam_sep, tu)
-    th, lam, re, u = _laminar_at(sk, uk, due, rk, dr, integral, n, hi, c0, start_theta2, nu, axisym)
+    th, lam, re, u = _laminar_at(layer, params, hi)
     g_hi = _margin(kind, th, lam, re, u, hi - origin, nu, lam_sep, tu)
     if not g_hi >= 0.0:
         return hi
@@ -536,9 +525,7 @@ def _refine(
                 mid = 0.5 * (lo + hi)
         else:
             mid = 0.5 * (lo + hi)
-        th, lam, re, u = _laminar_at(
-            sk, uk, due, rk, dr, integral, n, mid, c0, start_theta2, nu, axisym
-        )
+        th, lam, re, u = _laminar_at(layer, params, mid)
         g = _margin(kind, th, lam, re, u, mid - origin, nu, lam_sep, tu)
         if g >= 0.0:
             hi, g_hi = mid, g
@@ -675,31 +662,14 @@ def march_sides(
 
         # Laminar separation: lambda falls to the separation value.
         c0 = start_theta2 * start_weight
+        layer = (sk, uk, due, rk, dr, integral)
+        params = (n, c0, start_theta2, nu, axisym)
         lsep = np.inf
         lsep_re_dstar = np.nan
         for i in range(1, n):
             if lam[i] <= lam_sep:
-                lsep = _refine(
-                    0,
-                    sk[i - 1],
-                    sk[i],
-                    sk,
-                    uk,
-                    due,
-                    rk,
-                    dr,
-                    integral,
-                    n,
-                    c0,
-                    start_theta2,
-                    nu,
-                    axisym,
-                    lam_sep,
-                    tu,
-                )
-                _, _, re_sep, _ = _laminar_at(
-                    sk, uk, due, rk, dr, integral, n, lsep, c0, start_theta2, nu, axisym
-                )
+                lsep = _refine(0, sk[i - 1], sk[i], layer, params, lam_sep, tu)
+                _, _, re_sep, _ = _laminar_at(layer, params, lsep)
                 lsep_re_dstar = re_sep * shape_factor(closure, lam_sep)
                 break
 
@@ -718,27 +688,8 @@ def march_sides(
                 lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
                 g[i] = re_lam[i] - granville_instability(lc)
                 if g[i] >= 0.0:
-                    s_i = _refine(
-                        2,
-                        sk[i - 1],
-                        sk[i],
-                        sk,
-                        uk,
-                        due,
-                        rk,
-                        dr,
-                        integral,
-                        n,
-                        c0,
-                        start_theta2,
-                        nu,
-                        axisym,
-                        lam_sep,
-                        tu,
-                    )
-                    _, _, re_i, _ = _laminar_at(
-                        sk, uk, due, rk, dr, integral, n, s_i, c0, start_theta2, nu, axisym
-                    )
+                    s_i = _refine(2, sk[i - 1], sk[i], layer, params, lam_sep, tu)
+                    _, _, re_i, _ = _laminar_at(layer, params, s_i)
                     run_i = _interp(sk, running, n, s_i)
                     break
             if np.isfinite(s_i):
@@ -766,24 +717,7 @@ def march_sides(
                     lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
                     gi = re_lam[i] - abu_ghannam_shaw(lc, tu)
                 if gi >= 0.0:
-                    crit = _refine(
-                        criterion,
-                        sk[i - 1],
-                        sk[i],
-                        sk,
-                        uk,
-                        due,
-                        rk,
-                        dr,
-                        integral,
-                        n,
-                        c0,
-                        start_theta2,
-                        nu,
-                        axisym,
-                        lam_sep,
-                        tu,
-                    )
+                    crit = _refine(criterion, sk[i - 1], sk[i], layer, params, lam_sep, tu)
                     break
                 g_prev = gi
 
@@ -818,9 +752,7 @@ def march_sides(
                 start = tr
                 if start_kind != START_INFLOW:
                     start = max(tr, sk[0] + START_OFFSET * length)
-                th2_start, _, _, _ = _laminar_at(
-                    sk, uk, due, rk, dr, integral, n, start, c0, start_theta2, nu, axisym
-                )
+                th2_start, _, _, _ = _laminar_at(layer, params, start)
                 th0 = np.sqrt(th2_start)
                 hh0 = h_init
             separation, taken, stop = _head(
@@ -891,9 +823,7 @@ def march_sides(
         ev[3] = np.nan
         ev[12] = np.nan
         if np.isfinite(tr):
-            _, _, ev[3], u_tr = _laminar_at(
-                sk, uk, due, rk, dr, integral, n, tr, c0, start_theta2, nu, axisym
-            )
+            _, _, ev[3], u_tr = _laminar_at(layer, params, tr)
             ev[12] = u_tr * (tr - sk[0]) / nu
         shown = lsep_first and np.isfinite(lsep)
         ev[4] = lsep if shown else np.nan
