@@ -49,9 +49,16 @@ MAX_POINTS = 20_000
 
 
 class Struct(
-    msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True, omit_defaults=False
+    msgspec.Struct,
+    forbid_unknown_fields=True,
+    frozen=True,
+    kw_only=True,
+    omit_defaults=False,
+    gc=False,
 ):
-    """Common base: unknown fields are errors, instances are immutable."""
+    """Common base: unknown fields are errors, instances are immutable, and (holding only
+    numbers, strings and lists of them, never cycles) they stay out of the cyclic garbage
+    collector, which otherwise rescans large batches of results."""
 
 
 #: Largest magnitude of a coordinate, arc length or radius [length unit].
