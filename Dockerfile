@@ -63,7 +63,10 @@ RUN --mount=type=bind,target=/ctx \
         typing-extensions==4.16.0 \
         uvicorn==0.54.0 \
         uvloop==0.23.0
-COPY . /src
+# Only what the package needs: a wheelhouse in the build context stays out of /src.
+COPY pyproject.toml README.md /src/
+COPY ibl /src/ibl
+COPY service /src/service
 # The project itself, without resolving anything beyond the pins above.
 RUN /opt/venv/bin/pip install --no-deps --no-build-isolation /src \
  && /opt/venv/bin/pip check
@@ -80,8 +83,9 @@ ENV PATH=/opt/venv/bin:$PATH \
     IBL_PORT=8000
 USER 10001:10001
 WORKDIR /home/ibl
-# Compile the library's kernels once now, so that workers start in seconds.
-RUN python -c "import service.app as app; app.warm_up()"
+# Compile the library's kernels once now, so that workers start in seconds, and build
+# matplotlib's font cache, so that the first figure does not wait for it.
+RUN python -c "import service.app as app; app.warm_up(); import matplotlib.font_manager"
 EXPOSE 8000
 HEALTHCHECK --interval=30s --timeout=5s --start-period=60s --retries=3 \
     CMD ["python", "-c", "import os, urllib.request as u; u.urlopen('http://127.0.0.1:' + os.environ.get('IBL_PORT', '8000') + '/health/live', timeout=4)"]

@@ -4,6 +4,7 @@ Routes
 ------
 - ``POST /v1/analyses``: one case, one result.
 - ``POST /v1/analyses/batch``: many cases, one entry each (result or problem), in order.
+- ``POST /v1/analyses/figure``: one case, the figure of its result (SVG or PNG, by ``Accept``).
 - ``GET /v1/methods``: the catalogue of methods and criteria with their options,
   defaults, validity ranges and sources.
 - ``GET /health/live``, ``GET /health/ready``: liveness and readiness.
@@ -42,6 +43,7 @@ from service.errors import (
     INVALID_CASE,
     INVALID_REQUEST,
     MALFORMED_JSON,
+    NOT_ACCEPTABLE,
     NOT_READY,
     OVERLOADED,
     PROBLEM_MEDIA_TYPE,
@@ -129,6 +131,16 @@ def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
 
 _BODY_PROBLEMS = (MALFORMED_JSON, BODY_TOO_LARGE, TIME_LIMIT, OVERLOADED)
 
+#: The 200 answers of the figure endpoint, by media type (added to the OpenAPI document).
+_FIGURE_CONTENT = {
+    codec.FIGURE_MEDIA_TYPES["svg"]: {
+        "schema": {"type": "string", "description": "An SVG document (text kept as text)."}
+    },
+    codec.FIGURE_MEDIA_TYPES["png"]: {
+        "schema": {"type": "string", "contentMediaType": "image/png", "description": "A PNG image."}
+    },
+}
+
 
 class AnalysesController(Controller):
     """Analyses of cases."""
@@ -175,6 +187,33 @@ class AnalysesController(Controller):
         body = await _read_body(request)
         job = functools.partial(work.analyse_batch, body, runtime.settings)
         return Response(await runtime.runner.run(job), media_type=JSON)
+
+    @post(
+        "/figure",
+        status_code=200,
+        operation_id="analyseFigure",
+        summary="Figure of one case",
+        description="The figure of one case's result: for each side, momentum thickness, "
+        "shape factor and skin friction against arc length with transition and separation "
+        "marked, and the contour (or a line along the surface) with the laminar and turbulent "
+        "stretches. The `Accept` header chooses SVG (`image/svg+xml`, the default, also for "
+        "`*/*` or no header) or PNG (`image/png`); anything else is answered with 406. "
+        "Lengths are labelled in metres when the case gives speed and viscosity, otherwise "
+        "in the unit of the coordinates.\n\n" + CAUTION,
+        opt={"request_body": Case, "response_content": _FIGURE_CONTENT},
+        response_description="The figure, in the format the Accept header asks for.",
+        responses=_problems(*_BODY_PROBLEMS, INVALID_CASE, NOT_ACCEPTABLE),
+    )
+    async def figure(self, request: Request[Any, Any, Any]) -> Response[bytes]:
+        runtime = _runtime(request)
+        fmt = codec.figure_format(", ".join(request.headers.getall("accept", [])) or None)
+        body = await _read_body(request)
+        job = functools.partial(work.figure, body, runtime.settings, fmt)
+        return Response(
+            await runtime.runner.run(job),
+            media_type=codec.FIGURE_MEDIA_TYPES[fmt],
+            headers={"Vary": "Accept"},
+        )
 
 
 @functools.cache
@@ -253,6 +292,11 @@ def create_app(settings: Settings | None = None) -> Litestar:
         app.state.runtime = Runtime(settings=settings, runner=Runner(settings))
         await _warm_up(app.state.runtime)
 
+    def stop(app: Litestar) -> None:
+        runtime: Runtime | None = app.state.get("runtime")
+        if runtime is not None:
+            runtime.runner.close()
+
     return Litestar(
         route_handlers=[AnalysesController, list_methods, HealthController, metrics],
         exception_handlers=EXCEPTION_HANDLERS,  # type: ignore[arg-type]
@@ -273,6 +317,6 @@ def create_app(settings: Settings | None = None) -> Litestar:
         ),
         state=State({"settings": settings}),
         on_startup=[start],
-        on_shutdown=[mark_worker_stopped],
+        on_shutdown=[stop, mark_worker_stopped],
         debug=False,
     )

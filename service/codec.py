@@ -9,6 +9,7 @@ Contents
   would write ``null`` where the schema promises a number).
 - ``finite_or_none``: the same for free-form documents (the method catalogue).
 - ``encode``: any wire value to JSON bytes.
+- ``figure_format``: the figure format (SVG or PNG) an ``Accept`` header asks for (else 406).
 
 How ``sanitise`` repairs a result, each repair adding a ``non_finite`` warning:
 
@@ -21,7 +22,7 @@ How ``sanitise`` repairs a result, each repair adding a ``non_finite`` warning:
 from __future__ import annotations
 
 import math
-from typing import Any
+from typing import Any, Literal
 
 import msgspec
 import msgspec.inspect as mi
@@ -30,14 +31,18 @@ import ibl
 from ibl.errors import msgspec_path_to_pointer
 from ibl.schema import Case, Notice, Result, Side
 from service.config import Settings
-from service.errors import INVALID_REQUEST, MALFORMED_JSON, ProblemError
+from service.errors import INVALID_REQUEST, MALFORMED_JSON, NOT_ACCEPTABLE, ProblemError
 from service.wire import BatchEnvelope, FieldError
 
 __all__ = [
+    "FIGURE_MEDIA_TYPES",
+    "POINT_ARRAYS",
+    "FigureFormat",
     "check_json",
     "decode_batch",
     "decode_case",
     "encode",
+    "figure_format",
     "finite_or_none",
     "sanitise",
 ]
@@ -46,7 +51,7 @@ _encoder = msgspec.json.Encoder()
 _batch_decoder = msgspec.json.Decoder(BatchEnvelope)
 
 #: Point arrays of a case, by attribute path; ``Settings.max_points`` applies to each.
-_POINT_ARRAYS = (
+POINT_ARRAYS = (
     ("surface", "x"),
     ("surface", "y"),
     ("surface", "s"),
@@ -76,7 +81,7 @@ def check_json(body: bytes) -> None:
 
 def _check_points(case: Case, max_points: int) -> None:
     problems = []
-    for part, name in _POINT_ARRAYS:
+    for part, name in POINT_ARRAYS:
         values = getattr(getattr(case, part, None), name, None)
         if values is not None and len(values) > max_points:
             reason = f"has {len(values)} points; this service accepts at most {max_points}"
@@ -109,6 +114,79 @@ def decode_batch(body: bytes, settings: Settings) -> list[bytes]:
         error = FieldError(pointer="/cases", reason=reason)
         raise ProblemError(INVALID_REQUEST, "The batch has too many cases.", [error])
     return [bytes(raw) for raw in envelope.cases]
+
+
+# -------------------------------------------------------------------- content negotiation
+
+FigureFormat = Literal["svg", "png"]
+
+#: Media type of each figure format, in the server's order of preference.
+FIGURE_MEDIA_TYPES: dict[FigureFormat, str] = {"svg": "image/svg+xml", "png": "image/png"}
+
+
+def _media_ranges(accept: str) -> list[tuple[str, str, float]]:
+    """``(type, subtype, q)`` of each well-formed media range of an ``Accept`` value."""
+    ranges = []
+    for item in accept.split(","):
+        media, *params = (part.strip() for part in item.split(";"))
+        main, slash, sub = media.lower().partition("/")
+        if not (slash and main and sub) or (main == "*" and sub != "*"):
+            continue
+        q = 1.0
+        for param in params:
+            name, _, value = param.partition("=")
+            if name.strip().lower() == "q":
+                try:
+                    q = float(value.strip())
+                except ValueError:
+                    q = -1.0
+        if 0.0 <= q <= 1.0:
+            ranges.append((main, sub, q))
+    return ranges
+
+
+def _quality(media_type: str, ranges: list[tuple[str, str, float]]) -> float:
+    """The weight the most specific matching range gives ``media_type`` (0 if none does)."""
+    main, _, sub = media_type.partition("/")
+    best_specificity, quality = 0, 0.0
+    for r_main, r_sub, q in ranges:
+        if (r_main, r_sub) == (main, sub):
+            specificity = 3
+        elif (r_main, r_sub) == (main, "*"):
+            specificity = 2
+        elif (r_main, r_sub) == ("*", "*"):
+            specificity = 1
+        else:
+            continue
+        if specificity > best_specificity:
+            best_specificity, quality = specificity, q
+    return quality
+
+
+def figure_format(accept: str | None) -> FigureFormat:
+    """The figure format an ``Accept`` header value asks for.
+
+    Each format takes the weight of the most specific media range matching its media type
+    (RFC 9110, section 12.5.1); the heaviest above zero wins, SVG on a tie. No header, or an
+    empty one, accepts anything: SVG.
+
+    Raises
+    ------
+    ProblemError
+        406, when neither ``image/svg+xml`` nor ``image/png`` is acceptable.
+    """
+    if accept is None or not accept.strip():
+        return "svg"
+    ranges = _media_ranges(accept)
+    weights = {fmt: _quality(media, ranges) for fmt, media in FIGURE_MEDIA_TYPES.items()}
+    best = max(weights, key=lambda fmt: weights[fmt])  # first of the best: SVG on a tie
+    if weights[best] <= 0.0:
+        offered = " or ".join(FIGURE_MEDIA_TYPES.values())
+        raise ProblemError(
+            NOT_ACCEPTABLE,
+            f"The figure is available as {offered}; the Accept header allows neither.",
+        )
+    return best
 
 
 # ----------------------------------------------------------------------- non-finite numbers

@@ -14,6 +14,7 @@ answered with a plain 500 problem.
 
 from __future__ import annotations
 
+import itertools
 import logging
 from collections.abc import Callable, Iterable, Mapping
 from dataclasses import dataclass
@@ -25,7 +26,7 @@ from litestar import Request, Response
 from litestar.exceptions import HTTPException
 
 from ibl import CaseError
-from service.wire import FieldError, Problem
+from service.wire import MAX_DETAIL, MAX_ERRORS, MAX_POINTER, MAX_REASON, FieldError, Problem
 
 __all__ = [
     "BODY_TOO_LARGE",
@@ -35,12 +36,14 @@ __all__ = [
     "INVALID_CASE",
     "INVALID_REQUEST",
     "MALFORMED_JSON",
+    "NOT_ACCEPTABLE",
     "NOT_READY",
     "OVERLOADED",
     "PROBLEM_MEDIA_TYPE",
     "TIME_LIMIT",
     "ProblemError",
     "ProblemKind",
+    "bounded_problem",
     "problem_from_case_error",
     "problem_response",
 ]
@@ -49,6 +52,24 @@ PROBLEM_MEDIA_TYPE = "application/problem+json"
 
 log = logging.getLogger("service")
 _encode = msgspec.json.Encoder().encode
+
+
+def _cut(text: str, limit: int) -> str:
+    return text if len(text) <= limit else text[: limit - 1] + "\u2026"
+
+
+def bounded_problem(
+    uri: str, title: str, status: int, detail: str, errors: Iterable[FieldError] = ()
+) -> Problem:
+    """A ``Problem`` within the documented bounds: text that echoes the request (a member
+    name, an enum value) is cut, and at most ``MAX_ERRORS`` entries are kept."""
+    kept = [
+        FieldError(pointer=_cut(e.pointer, MAX_POINTER), reason=_cut(e.reason, MAX_REASON))
+        for e in itertools.islice(errors, MAX_ERRORS)
+    ]
+    return Problem(
+        type=uri, title=title, status=status, detail=_cut(detail, MAX_DETAIL), errors=kept
+    )
 
 
 @dataclass(frozen=True, slots=True)
@@ -66,15 +87,14 @@ class ProblemKind:
 
     def problem(self, detail: str, errors: Iterable[FieldError] = ()) -> Problem:
         """A problem of this kind."""
-        return Problem(
-            type=self.type, title=self.title, status=self.status, detail=detail, errors=list(errors)
-        )
+        return bounded_problem(self.type, self.title, self.status, detail, errors)
 
 
 MALFORMED_JSON = ProblemKind("malformed-json", 400, "Malformed JSON")
 INCOMPLETE_BODY = ProblemKind("incomplete-body", 400, "Incomplete request body")
 INVALID_CASE = ProblemKind("invalid-case", 422, "Invalid case")
 INVALID_REQUEST = ProblemKind("invalid-request", 422, "Invalid request")
+NOT_ACCEPTABLE = ProblemKind("not-acceptable", 406, "Not acceptable")
 BODY_TOO_LARGE = ProblemKind("body-too-large", 413, "Request body too large")
 TIME_LIMIT = ProblemKind("time-limit", 503, "Time limit exceeded")
 OVERLOADED = ProblemKind("overloaded", 503, "Service overloaded")
@@ -102,7 +122,8 @@ def problem_from_case_error(error: CaseError, prefix: str = "") -> Problem:
     errors = [FieldError(pointer=prefix + p.pointer, reason=p.reason) for p in error.problems]
     where = f"The case at {prefix}" if prefix else "The case"
     plural = "" if len(errors) == 1 else "s"
-    detail = f"{where} is invalid: {len(errors)} problem{plural}, listed in `errors`."
+    listed = "listed" if len(errors) <= MAX_ERRORS else f"the first {MAX_ERRORS} listed"
+    detail = f"{where} is invalid: {len(errors)} problem{plural}, {listed} in `errors`."
     return INVALID_CASE.problem(detail, errors)
 
 
@@ -129,7 +150,7 @@ def _on_http(request: Request[Any, Any, Any], exc: HTTPException) -> Response[by
     status = exc.status_code
     if status == BODY_TOO_LARGE.status:
         limit = request.app.state.settings.max_body_bytes
-        problem = BODY_TOO_LARGE.problem(f"The request body is larger than {limit} bytes.")
+        answer = BODY_TOO_LARGE.problem(f"The request body is larger than {limit} bytes.")
     elif status >= 500:
         return _on_unexpected(request, exc)
     else:
@@ -138,9 +159,9 @@ def _on_http(request: Request[Any, Any, Any], exc: HTTPException) -> Response[by
         except ValueError:
             phrase = "Error"
         detail = exc.detail if exc.detail and exc.detail != phrase else f"{phrase}."
-        problem = Problem(type="about:blank", title=phrase, status=status, detail=detail)
+        answer = bounded_problem("about:blank", phrase, status, detail)
     headers = {k: v for k, v in (exc.headers or {}).items() if k.lower() == "allow"}
-    return problem_response(problem, headers)
+    return problem_response(answer, headers)
 
 
 def _on_unexpected(request: Request[Any, Any, Any], exc: Exception) -> Response[bytes]:

@@ -17,6 +17,7 @@ import argparse
 import copy
 import json
 import sys
+import typing
 from pathlib import Path
 from typing import TYPE_CHECKING, Any
 
@@ -25,6 +26,8 @@ from litestar.openapi.plugins import JsonRenderPlugin
 
 if TYPE_CHECKING:
     from litestar import Litestar, Request
+
+    from service.config import Settings
 
 __all__ = ["CAUTION", "COMMITTED", "ServiceJsonRenderPlugin", "document", "main", "to_text"]
 
@@ -61,9 +64,9 @@ def _batch_response_schema() -> dict[str, Any]:
     }
 
 
-def _opt_types(app: Litestar, key: str) -> dict[str, type[Any]]:
-    """Operation id -> the wire type a route names in ``opt[key]``."""
-    found: dict[str, type[Any]] = {}
+def _opt_values(app: Litestar, key: str) -> dict[str, Any]:
+    """Operation id -> what a route names in ``opt[key]`` (a wire type, or response content)."""
+    found: dict[str, Any] = {}
     for route in app.routes:
         for handler in getattr(route, "route_handlers", ()):
             if key in handler.opt and isinstance(handler.operation_id, str):
@@ -71,11 +74,27 @@ def _opt_types(app: Litestar, key: str) -> dict[str, type[Any]]:
     return found
 
 
+def _apply_limits(schemas: dict[str, Any], settings: Settings) -> None:
+    """State the server's own limits: cases per batch, and points per surface when
+    ``IBL_MAX_POINTS`` is below the library's limit."""
+    from ibl.schema import Case
+    from service.codec import POINT_ARRAYS
+
+    schemas["BatchRequest"]["properties"]["cases"]["maxItems"] = settings.max_batch
+    parts = typing.get_type_hints(Case)
+    for part, name in POINT_ARRAYS:
+        component = schemas[parts[part].__name__]
+        for option in component["properties"][name].get("anyOf", []):
+            if option.get("type") == "array":
+                option["maxItems"] = min(option["maxItems"], settings.max_points)
+
+
 def document(app: Litestar) -> dict[str, Any]:
-    """The complete OpenAPI document of ``app``."""
+    """The complete OpenAPI document of ``app``, with the limits of its settings."""
     doc = copy.deepcopy(app.openapi_schema.to_schema())
-    bodies = _opt_types(app, "request_body")
-    answers = _opt_types(app, "response_body")
+    bodies = _opt_values(app, "request_body")
+    answers = _opt_values(app, "response_body")
+    contents = _opt_values(app, "response_content")
     schemas: dict[str, Any] = doc.setdefault("components", {}).setdefault("schemas", {})
     _, extra = msgspec.json.schema_components(
         sorted(set(bodies.values()), key=str), ref_template=_REF
@@ -85,6 +104,9 @@ def document(app: Litestar) -> dict[str, Any]:
         if name in schemas:
             raise RuntimeError(f"two component schemas are named {name!r}")
         schemas[name] = schema
+    settings = app.state.get("settings")
+    if settings is not None:
+        _apply_limits(schemas, settings)
     for path_item in doc["paths"].values():
         for operation in path_item.values():
             body_type = bodies.get(operation.get("operationId", ""))
@@ -98,6 +120,9 @@ def document(app: Litestar) -> dict[str, Any]:
             if answer_type is not None:
                 ref = {"$ref": _REF.format(name=answer_type.__name__)}
                 operation["responses"]["200"]["content"] = {"application/json": {"schema": ref}}
+            content = contents.get(operation.get("operationId", ""))
+            if content is not None:
+                operation["responses"]["200"]["content"] = copy.deepcopy(content)
             for status, response in operation.get("responses", {}).items():
                 if status == "503":
                     response["headers"] = {"Retry-After": _RETRY_AFTER}

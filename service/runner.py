@@ -1,21 +1,32 @@
 """Runs CPU-heavy work off the event loop, within the time and queue limits.
 
-One ``Runner`` per application: a capacity limiter bounds the analyses running at
-once in this worker, a queue bound turns excess load into a prompt 503, and a
-time limit turns a long request into a 503 with ``Retry-After``.  A timed-out
-analysis cannot be interrupted inside its thread; it finishes in the background
-while still holding its slot, so a worker flooded with slow cases sheds load
-instead of piling it up.
+One ``Runner`` per application owns a pool of ``compute_threads`` threads.  Every
+analysis is admitted or refused the moment it arrives: when the analyses running
+and waiting already fill the threads and the queue (``max_queue``), the request
+is answered at once with 503 and ``Retry-After``.  Admission is counted without
+yielding to the event loop, so a burst of simultaneous requests cannot slip past
+the bound together.
+
+The time limit covers waiting and running.  A timed-out analysis that has not
+started is dropped; one that has started cannot be interrupted inside its
+thread, so it finishes in the background while still holding its thread and its
+place in the count: a worker flooded with slow cases sheds load instead of
+piling up threads.
+
+The runner awaits its threads through ``asyncio``; the service runs on uvloop,
+and the test client on anyio's asyncio backend.
 """
 
 from __future__ import annotations
 
+import asyncio
 import math
+import threading
 from collections.abc import Callable
-from typing import TypeVar
+from concurrent.futures import Future, ThreadPoolExecutor
+from typing import Any, TypeVar
 
 import anyio
-import anyio.to_thread
 
 from service.config import Settings
 from service.errors import OVERLOADED, TIME_LIMIT, ProblemError
@@ -33,35 +44,58 @@ class Runner:
 
     def __init__(self, settings: Settings) -> None:
         self.settings = settings
-        self.limiter = anyio.CapacityLimiter(settings.compute_threads)
+        self.capacity = settings.compute_threads + settings.max_queue
+        self._pool = ThreadPoolExecutor(settings.compute_threads, thread_name_prefix="ibl-compute")
+        self._lock = threading.Lock()
+        self._pending = 0  # admitted and not finished: running (abandoned or not) or waiting
+
+    @property
+    def pending(self) -> int:
+        """Analyses admitted and not yet finished, timed-out ones still running included."""
+        return self._pending
 
     @property
     def saturated(self) -> bool:
         """True when a new analysis would be refused."""
-        limiter = self.limiter
-        return (
-            limiter.available_tokens == 0
-            and limiter.statistics().tasks_waiting >= self.settings.max_queue
-        )
+        return self._pending >= self.capacity
+
+    def _finished(self, _: Future[Any] | None = None) -> None:
+        with self._lock:
+            self._pending -= 1
 
     async def run(self, fn: Callable[[], T]) -> T:
-        """``fn()`` in a worker thread; ``ProblemError`` (503) when over a limit."""
-        if self.saturated:
+        """``fn()`` in a pool thread; ``ProblemError`` (503) when over a limit."""
+        with self._lock:
+            if self._pending >= self.capacity:
+                admitted = False
+            else:
+                admitted = True
+                self._pending += 1
+        if not admitted:
             raise ProblemError(
                 OVERLOADED,
                 "Too many analyses are running or waiting; retry shortly.",
                 headers={"Retry-After": str(OVERLOAD_RETRY_AFTER_S)},
             )
+        try:
+            future = self._pool.submit(fn)
+        except RuntimeError:  # the pool is closed: the worker is stopping
+            self._finished()
+            raise
+        future.add_done_callback(self._finished)
         limit = self.settings.time_limit_s
         try:
             with anyio.fail_after(limit):
-                return await anyio.to_thread.run_sync(
-                    fn, limiter=self.limiter, abandon_on_cancel=True
-                )
+                return await asyncio.wrap_future(future)
         except TimeoutError:
+            future.cancel()  # dropped if it has not started; else it runs to its end
             raise ProblemError(
                 TIME_LIMIT,
                 f"The analysis did not finish within {limit:g} s; retry later, or send "
                 "fewer cases or points per request.",
                 headers={"Retry-After": str(max(1, math.ceil(limit)))},
             ) from None
+
+    def close(self) -> None:
+        """Drop waiting analyses; running ones finish on their own."""
+        self._pool.shutdown(wait=False, cancel_futures=True)

@@ -16,6 +16,10 @@ from msgspec import Meta
 from ibl.schema import Case, Result
 
 __all__ = [
+    "MAX_DETAIL",
+    "MAX_ERRORS",
+    "MAX_POINTER",
+    "MAX_REASON",
     "BatchEnvelope",
     "BatchRequest",
     "BatchResponse",
@@ -26,6 +30,13 @@ __all__ = [
 ]
 
 
+#: Bounds of a problem's text and entries; longer text is cut (``service.errors.problem``).
+MAX_POINTER = 1000
+MAX_REASON = 500
+MAX_DETAIL = 1000
+MAX_ERRORS = 100
+
+
 class Wire(msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True):
     """Common base of the service's own wire types."""
 
@@ -33,8 +44,9 @@ class Wire(msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True
 Pointer = Annotated[
     str,
     Meta(
+        max_length=MAX_POINTER,
         description="JSON pointer (RFC 6901) into the request body; an empty string is the "
-        "whole body"
+        "whole body",
     ),
 ]
 
@@ -43,17 +55,27 @@ class FieldError(Wire, frozen=True):
     """One offending member of the request body."""
 
     pointer: Pointer
-    reason: Annotated[str, Meta(description="What is wrong with it, and what is accepted")]
+    reason: Annotated[
+        str, Meta(max_length=MAX_REASON, description="What is wrong with it, and what is accepted")
+    ]
 
 
 class Problem(Wire, frozen=True):
     """RFC 9457 problem details, with one entry in ``errors`` per offending field."""
 
-    type: Annotated[str, Meta(description="URI identifying the kind of problem")]
-    title: Annotated[str, Meta(description="Short summary of the kind of problem")]
+    type: Annotated[str, Meta(max_length=200, description="URI identifying the kind of problem")]
+    title: Annotated[str, Meta(max_length=200, description="Short summary of the kind of problem")]
     status: Annotated[int, Meta(ge=400, le=599, description="HTTP status code")]
-    detail: Annotated[str, Meta(description="Explanation of this occurrence")]
-    errors: list[FieldError] = msgspec.field(default_factory=list)
+    detail: Annotated[
+        str, Meta(max_length=MAX_DETAIL, description="Explanation of this occurrence")
+    ]
+    errors: Annotated[
+        list[FieldError],
+        Meta(
+            max_length=MAX_ERRORS,
+            description=f"The offending members, at most {MAX_ERRORS} (the detail gives the count)",
+        ),
+    ] = msgspec.field(default_factory=list)
 
 
 class BatchRequest(Wire, frozen=True):

@@ -7,6 +7,10 @@ thread through ``service.runner.Runner``.  They raise ``ibl.CaseError`` or
 
 from __future__ import annotations
 
+import threading
+
+import msgspec
+
 import ibl
 from ibl.schema import Case, Result
 from service import codec
@@ -14,7 +18,11 @@ from service.config import Settings
 from service.errors import problem_from_case_error
 from service.wire import BatchResponse, Problem
 
-__all__ = ["analyse", "analyse_batch"]
+__all__ = ["analyse", "analyse_batch", "figure"]
+
+#: Figures are drawn one at a time per process: matplotlib is not thread-safe (its
+#: configuration is global state), and drawing holds the interpreter lock anyway.
+_DRAWING = threading.Lock()
 
 
 def analyse(body: bytes, settings: Settings) -> bytes:
@@ -47,3 +55,21 @@ def analyse_batch(body: bytes, settings: Settings) -> bytes:
         )
     results = [entry for entry in entries if entry is not None]
     return codec.encode(BatchResponse(results=results))
+
+
+def figure(body: bytes, settings: Settings, fmt: codec.FigureFormat) -> bytes:
+    """One case in, the figure of its result out (SVG or PNG bytes).
+
+    The same figure as ``ibl run --plot``: lengths labelled in metres when the case gives
+    speed and viscosity, and a contour drawn whole beneath its analysed stations.
+    """
+    codec.check_json(body)
+    case = codec.decode_case(body, settings)
+    result = codec.sanitise(ibl.run(case))
+    from ibl.figures import length_unit, render  # matplotlib: loaded on first use only
+
+    units = length_unit({"flow": msgspec.to_builtins(case.flow)})
+    surface = case.surface
+    outline = (surface.x, surface.y) if surface.x and surface.y else None
+    with _DRAWING:
+        return render(result, fmt, units=units, outline=outline)

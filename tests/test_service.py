@@ -7,9 +7,12 @@ import math
 import os
 import re
 import socket
+import struct
 import subprocess
 import sys
+import threading
 import time
+import xml.etree.ElementTree as ET
 from collections.abc import Iterator
 from pathlib import Path
 from typing import Any
@@ -22,10 +25,10 @@ from litestar.testing import TestClient
 
 import ibl
 from ibl.schema import Result
-from service import openapi
+from service import codec, openapi
 from service.app import create_app
 from service.config import Settings
-from service.errors import OVERLOADED, ProblemError
+from service.errors import NOT_ACCEPTABLE, OVERLOADED, TIME_LIMIT, ProblemError
 from service.runner import Runner
 from service.serve import build_parser
 from service.serve import main as serve_main
@@ -229,14 +232,29 @@ def test_openapi_document_is_complete(client: TestClient[Any]) -> None:
     assert doc["openapi"].startswith("3.1")
     assert "Caution" in doc["info"]["description"]
     ops = {op["operationId"]: op for item in doc["paths"].values() for op in item.values()}
-    assert set(ops) >= {"analyse", "analyseBatch", "listMethods", "live", "ready", "metrics"}
-    for op_id, body in (("analyse", "Case"), ("analyseBatch", "BatchRequest")):
+    assert set(ops) >= {
+        "analyse",
+        "analyseBatch",
+        "analyseFigure",
+        "listMethods",
+        "live",
+        "ready",
+        "metrics",
+    }
+    for op_id, body in (
+        ("analyse", "Case"),
+        ("analyseBatch", "BatchRequest"),
+        ("analyseFigure", "Case"),
+    ):
         op = ops[op_id]
         schema = op["requestBody"]["content"]["application/json"]["schema"]
         assert schema == {"$ref": f"#/components/schemas/{body}"}
         assert {"200", "400", "413", "422", "503"} <= set(op["responses"])
         assert "Retry-After" in op["responses"]["503"]["headers"]
         assert "Caution" in op["description"]
+    figure = ops["analyseFigure"]["responses"]
+    assert set(figure["200"]["content"]) == {"image/svg+xml", "image/png"}
+    assert "application/problem+json" in figure["406"]["content"]
     schemas = doc["components"]["schemas"]
     assert schemas["Case"]["additionalProperties"] is False
     refs = set(_refs(doc))
@@ -434,6 +452,165 @@ def test_weird_input_is_never_a_server_error(
             assert msgspec.convert(entry, Problem).status == 422
 
 
+# ---------------------------------------------------------------------------- figures
+
+FIGURE = "/v1/analyses/figure"
+PNG_MAGIC = b"\x89PNG\r\n\x1a\n"
+SVG_ROOT = "{http://www.w3.org/2000/svg}svg"
+
+
+def post_figure(client: TestClient[Any], doc: Any, accept: str | None = None) -> Any:
+    headers = {"content-type": "application/json"}
+    if accept is not None:
+        headers["accept"] = accept
+    return client.post(FIGURE, content=json.dumps(doc), headers=headers)
+
+
+def svg_text(response: Any) -> str:
+    """The SVG document of a figure answer, checked: content type, size, root element."""
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"].startswith("image/svg+xml")
+    assert response.headers["vary"] == "Accept"
+    assert len(response.content) > 20_000  # axes, curves and text: a real figure
+    root = ET.fromstring(response.content)
+    assert root.tag == SVG_ROOT
+    return response.text
+
+
+def png_size(response: Any) -> tuple[int, int]:
+    """Width and height of a PNG figure answer, checked: content type, magic, header chunk."""
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"] == "image/png"
+    body = response.content
+    assert body[:8] == PNG_MAGIC and body[12:16] == b"IHDR"
+    assert body[-12:] == b"\x00\x00\x00\x00IEND\xaeB`\x82"  # the image is complete
+    assert len(body) > 20_000
+    width, height = struct.unpack(">II", body[16:24])
+    return width, height
+
+
+@pytest.mark.parametrize("accept", [None, "*/*", "text/html, image/*"])
+def test_figure_is_svg_by_default(client: TestClient[Any], accept: str | None) -> None:
+    text = svg_text(post_figure(client, strut(), accept))
+    assert "upper side" in text and "lower side" in text  # text is kept as text
+    assert "CAUTION" in text
+
+
+def test_figure_as_png(client: TestClient[Any]) -> None:
+    width, height = png_size(post_figure(client, strut(), "image/png"))
+    assert width > 600 and height > 400
+
+
+def test_figure_of_a_single_surface(client: TestClient[Any]) -> None:
+    text = svg_text(post_figure(client, plate()))
+    assert ">surface<" in text and "upper side" not in text
+
+
+def test_figure_length_unit_follows_the_case(client: TestClient[Any]) -> None:
+    assert "[coordinate unit]" in svg_text(post_figure(client, strut()))
+    si = strut() | {"flow": {"speed": 20.0, "kinematic_viscosity": 1.5e-5}}
+    text = svg_text(post_figure(client, si))
+    assert "x [m]" in text and "coordinate unit" not in text
+
+
+@pytest.mark.parametrize(
+    ("accept", "fmt"),
+    [
+        (None, "svg"),
+        ("", "svg"),
+        ("*/*", "svg"),
+        ("image/png", "png"),
+        ("IMAGE/PNG", "png"),
+        ("image/png, image/svg+xml", "svg"),
+        ("image/svg+xml;q=0.5, image/png", "png"),
+        ("image/*;q=0.2, image/png;q=0.3", "png"),
+        ("image/png;q=0, */*", "svg"),
+        ("image/svg+xml;q=0, image/*", "png"),
+        ("text/html, application/json;q=0.9, image/png;q=0.1", "png"),
+        ("nonsense, image/png", "png"),
+        ("image/png;q=high, image/svg+xml;q=0.1", "svg"),
+    ],
+)
+def test_figure_format_negotiation(accept: str | None, fmt: str) -> None:
+    assert codec.figure_format(accept) == fmt
+
+
+@pytest.mark.parametrize(
+    "accept",
+    [
+        "application/json",
+        "text/html, application/xhtml+xml",
+        "image/jpeg",
+        "image/*;q=0",
+        "image/svg+xml;q=0, image/png;q=0.000",
+        "*/*;q=0",
+        "nonsense",
+        "*/png",
+    ],
+)
+def test_figure_format_not_acceptable(accept: str) -> None:
+    with pytest.raises(ProblemError) as raised:
+        codec.figure_format(accept)
+    assert raised.value.problem.type == NOT_ACCEPTABLE.type
+
+
+def test_figure_unsupported_accept_is_406(client: TestClient[Any]) -> None:
+    response = post_figure(client, strut(), "application/json")
+    problem = problem_of(response, 406)
+    assert problem.type.endswith("not-acceptable")
+    assert "image/svg+xml" in problem.detail and "image/png" in problem.detail
+
+
+def test_figure_invalid_case_is_422_in_either_format(client: TestClient[Any]) -> None:
+    case = strut()
+    case["pressure"]["cp"][17] = "high"
+    for accept in ("image/png", "image/svg+xml"):
+        problem = problem_of(post_figure(client, case, accept), 422)
+        assert problem.type.endswith("invalid-case")
+        assert pointers(problem) == ["/pressure/cp/17"]
+
+
+@pytest.mark.parametrize(
+    ("doc", "pointer"),
+    [
+        ({"surface": {"s": [0.1, 0.2, 0.3]}, "flow": {"reynolds": 1e6}}, ""),
+        (strut() | {"flow": {"reynolds": -1.0}}, "/flow/reynolds"),
+        (strut() | {"mesh": {"y_plus": []}}, "/mesh/y_plus"),
+    ],
+    ids=["missing pressure", "negative reynolds", "empty y_plus"],
+)
+def test_figure_invalid_case_is_422_with_pointer(
+    client: TestClient[Any], doc: Any, pointer: str
+) -> None:
+    problem = problem_of(post_figure(client, doc, "image/png"), 422)
+    assert pointer in pointers(problem)
+
+
+@pytest.mark.parametrize("body", [b"", b"{", b"\xff"])
+def test_figure_malformed_json_is_400(client: TestClient[Any], body: bytes) -> None:
+    problem_of(client.post(FIGURE, content=body, headers={"accept": "image/png"}), 400)
+
+
+def test_figure_points_limit(make_client: Any) -> None:
+    client = make_client(max_points=50)
+    problem = problem_of(post_figure(client, strut(points_per_side=30)), 422)
+    assert "/surface/x" in pointers(problem)
+
+
+def test_figure_unexpected_error_is_500_without_details(
+    client: TestClient[Any], monkeypatch: pytest.MonkeyPatch
+) -> None:
+    import ibl.figures
+
+    def broken(*args: Any, **kwargs: Any) -> bytes:
+        raise RuntimeError("secret drawing internals")
+
+    monkeypatch.setattr(ibl.figures, "render", broken)
+    response = post_figure(client, strut(), "image/png")
+    problem_of(response, 500)
+    assert "secret" not in response.text
+
+
 # ----------------------------------------------------------------------------- limits
 
 
@@ -473,7 +650,7 @@ def test_batch_limit(make_client: Any) -> None:
     assert pointers(problem) == ["/cases"]
 
 
-@pytest.mark.parametrize("path", ["/v1/analyses", "/v1/analyses/batch"])
+@pytest.mark.parametrize("path", ["/v1/analyses", "/v1/analyses/batch", FIGURE])
 def test_time_limit_is_503_with_retry_after(
     make_client: Any, monkeypatch: pytest.MonkeyPatch, path: str
 ) -> None:
@@ -485,27 +662,29 @@ def test_time_limit_is_503_with_retry_after(
 
     monkeypatch.setattr(ibl, "run", slow)
     monkeypatch.setattr(ibl, "run_batch", slow)
-    doc = plate() if path == "/v1/analyses" else {"cases": [plate()]}
+    doc = {"cases": [plate()]} if path.endswith("/batch") else plate()
     response = post_json(client, path, doc)
     problem = problem_of(response, 503)
     assert problem.type.endswith("time-limit")
     assert response.headers["retry-after"] == "1"
 
 
+async def _settle(runner: Runner, pending: int) -> None:
+    """Wait (bounded: ten seconds) until ``runner`` counts ``pending`` analyses."""
+    for _ in range(1000):
+        if runner.pending == pending:
+            return
+        await anyio.sleep(0.01)
+    raise AssertionError(f"{runner.pending} analyses pending, not {pending}")
+
+
 def test_overload_is_refused_promptly() -> None:
     async def scenario() -> ProblemError:
         runner = Runner(Settings(compute_threads=1, max_queue=0))
-        release = anyio.Event()
-        started = anyio.Event()
-
-        async def occupy() -> None:
-            async with runner.limiter:
-                started.set()
-                await release.wait()
-
+        gate = threading.Event()
         async with anyio.create_task_group() as tg:
-            tg.start_soon(occupy)
-            await started.wait()
+            tg.start_soon(runner.run, lambda: gate.wait(30))
+            await _settle(runner, 1)
             assert runner.saturated
             try:
                 await runner.run(lambda: 1)
@@ -513,14 +692,101 @@ def test_overload_is_refused_promptly() -> None:
                 refused = exc
             else:
                 raise AssertionError("a saturated runner accepted work")
-            release.set()
+            gate.set()
+        await _settle(runner, 0)
         assert not runner.saturated
         assert await runner.run(lambda: 2) == 2
+        runner.close()
         return refused
 
     refused = anyio.run(scenario)
     assert refused.problem.type == OVERLOADED.type and refused.problem.status == 503
     assert refused.headers["Retry-After"] == "1"
+
+
+def test_a_burst_cannot_slip_past_the_queue_bound() -> None:
+    """Six analyses arrive in the same turn of the event loop: one runs, one waits, four
+    are refused, although none had started when the others were admitted."""
+
+    async def scenario() -> list[object]:
+        runner = Runner(Settings(compute_threads=1, max_queue=1))
+        gate = threading.Event()
+        outcomes: list[object] = []
+
+        async def one(value: int) -> None:
+            try:
+                outcomes.append(await runner.run(lambda: gate.wait(30) and value))
+            except ProblemError as exc:
+                outcomes.append(exc.problem.type)
+
+        async with anyio.create_task_group() as tg:
+            for value in range(6):
+                tg.start_soon(one, value)
+            for _ in range(1000):  # bounded: ten seconds
+                if len(outcomes) == 4:
+                    break
+                await anyio.sleep(0.01)
+            assert runner.saturated and runner.pending == 2
+            gate.set()
+        runner.close()
+        return outcomes
+
+    outcomes = anyio.run(scenario)
+    assert outcomes[:4] == [OVERLOADED.type] * 4
+    assert sorted(outcomes[4:]) == [0, 1]  # type: ignore[type-var]
+
+
+def test_a_timed_out_analysis_keeps_its_thread_until_it_ends() -> None:
+    async def scenario() -> None:
+        runner = Runner(Settings(compute_threads=1, max_queue=0, time_limit_s=0.05))
+        gate = threading.Event()
+        try:
+            await runner.run(lambda: gate.wait(30))
+        except ProblemError as exc:
+            assert exc.problem.type == TIME_LIMIT.type
+        else:
+            raise AssertionError("the time limit did not apply")
+        assert runner.saturated  # still running in the background
+        try:
+            await runner.run(lambda: 1)
+        except ProblemError as exc:
+            assert exc.problem.type == OVERLOADED.type
+        else:
+            raise AssertionError("a runner whose thread is busy accepted work")
+        gate.set()
+        await _settle(runner, 0)
+        assert await runner.run(lambda: 2) == 2
+        runner.close()
+
+    anyio.run(scenario)
+
+
+def test_a_timed_out_analysis_that_never_started_is_dropped() -> None:
+    async def scenario() -> list[str]:
+        runner = Runner(Settings(compute_threads=1, max_queue=1, time_limit_s=0.2))
+        gate = threading.Event()
+        ran: list[str] = []
+
+        async def occupy() -> None:
+            try:
+                await runner.run(lambda: gate.wait(30))
+            except ProblemError:  # its own time limit; it keeps running
+                pass
+
+        async with anyio.create_task_group() as tg:
+            tg.start_soon(occupy)
+            await _settle(runner, 1)
+            try:
+                await runner.run(lambda: ran.append("waiting one"))
+            except ProblemError as exc:
+                assert exc.problem.type == TIME_LIMIT.type
+            assert runner.pending == 1  # its place in the queue is free at once
+            gate.set()
+        await _settle(runner, 0)
+        runner.close()
+        return ran
+
+    assert anyio.run(scenario) == []
 
 
 # ------------------------------------------------------------------ non-finite results
