@@ -21,6 +21,7 @@ from __future__ import annotations
 import functools
 import logging
 import math
+from collections.abc import Callable
 from dataclasses import dataclass
 from typing import Any
 
@@ -112,6 +113,18 @@ async def _read_body(request: Request[Any, Any, Any]) -> bytes:
         raise ProblemError(INCOMPLETE_BODY, "The request body ended early.") from None
 
 
+async def _client_gone(request: Request[Any, Any, Any]) -> None:
+    """Return once the client has disconnected (the body has been read by then)."""
+    while (await request.receive())["type"] != "http.disconnect":
+        pass
+
+
+async def _run(request: Request[Any, Any, Any], job: Callable[[], bytes]) -> bytes:
+    """``job`` off the event loop, within the limits; dropped if the client goes first."""
+    runner = _runtime(request).runner
+    return await runner.run(job, functools.partial(_client_gone, request))
+
+
 def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
     """OpenAPI entries for the problems an operation can answer with."""
     by_status: dict[int, list[str]] = {}
@@ -168,7 +181,7 @@ class AnalysesController(Controller):
         runtime = _runtime(request)
         body = await _read_body(request)
         job = functools.partial(work.analyse, body, runtime.settings)
-        return Response(await runtime.runner.run(job), media_type=JSON)
+        return Response(await _run(request, job), media_type=JSON)
 
     @post(
         "/batch",
@@ -186,7 +199,7 @@ class AnalysesController(Controller):
         runtime = _runtime(request)
         body = await _read_body(request)
         job = functools.partial(work.analyse_batch, body, runtime.settings)
-        return Response(await runtime.runner.run(job), media_type=JSON)
+        return Response(await _run(request, job), media_type=JSON)
 
     @post(
         "/figure",
@@ -210,7 +223,7 @@ class AnalysesController(Controller):
         body = await _read_body(request)
         job = functools.partial(work.figure, body, runtime.settings, fmt)
         return Response(
-            await runtime.runner.run(job),
+            await _run(request, job),
             media_type=codec.FIGURE_MEDIA_TYPES[fmt],
             headers={"Vary": "Accept"},
         )

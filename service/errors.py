@@ -30,6 +30,7 @@ from service.wire import MAX_DETAIL, MAX_ERRORS, MAX_POINTER, MAX_REASON, FieldE
 
 __all__ = [
     "BODY_TOO_LARGE",
+    "CLIENT_CLOSED",
     "EXCEPTION_HANDLERS",
     "INCOMPLETE_BODY",
     "INTERNAL_ERROR",
@@ -100,6 +101,8 @@ TIME_LIMIT = ProblemKind("time-limit", 503, "Time limit exceeded")
 OVERLOADED = ProblemKind("overloaded", 503, "Service overloaded")
 NOT_READY = ProblemKind("not-ready", 503, "Not ready")
 INTERNAL_ERROR = ProblemKind("internal-error", 500, "Internal error")
+#: Never delivered (the client has gone); the status is what metrics record for it.
+CLIENT_CLOSED = ProblemKind("client-closed", 499, "Client closed the request")
 
 
 class ProblemError(Exception):

@@ -7,10 +7,10 @@ is answered at once with 503 and ``Retry-After``.  Admission is counted without
 yielding to the event loop, so a burst of simultaneous requests cannot slip past
 the bound together.
 
-The time limit covers waiting and running.  A timed-out analysis that has not
-started is dropped; one that has started cannot be interrupted inside its
-thread, so it finishes in the background while still holding its thread and its
-place in the count: a worker flooded with slow cases sheds load instead of
+The time limit covers waiting and running.  An analysis that timed out, or whose
+client has gone away, is dropped if it has not started; one that has started cannot be
+interrupted inside its thread, so it finishes in the background while still holding its
+thread and its place in the count: a worker flooded with slow cases sheds load instead of
 piling up threads.
 
 The runner awaits its threads through ``asyncio``; the service runs on uvloop,
@@ -22,14 +22,14 @@ from __future__ import annotations
 import asyncio
 import math
 import threading
-from collections.abc import Callable
+from collections.abc import Awaitable, Callable
 from concurrent.futures import Future, ThreadPoolExecutor
 from typing import Any, TypeVar
 
 import anyio
 
 from service.config import Settings
-from service.errors import OVERLOADED, TIME_LIMIT, ProblemError
+from service.errors import CLIENT_CLOSED, OVERLOADED, TIME_LIMIT, ProblemError
 
 __all__ = ["Runner"]
 
@@ -63,8 +63,15 @@ class Runner:
         with self._lock:
             self._pending -= 1
 
-    async def run(self, fn: Callable[[], T]) -> T:
-        """``fn()`` in a pool thread; ``ProblemError`` (503) when over a limit."""
+    async def run(
+        self, fn: Callable[[], T], gone: Callable[[], Awaitable[object]] | None = None
+    ) -> T:
+        """``fn()`` in a pool thread; ``ProblemError`` (503) when over a limit.
+
+        ``gone``, when given, returns once the client has gone away: the analysis is then
+        dropped if it has not started (``ProblemError``, ``CLIENT_CLOSED``), so that a
+        worker behind on its queue does not spend itself on answers nobody will read.
+        """
         with self._lock:
             if self._pending >= self.capacity:
                 admitted = False
@@ -86,16 +93,34 @@ class Runner:
         limit = self.settings.time_limit_s
         try:
             with anyio.fail_after(limit):
-                return await asyncio.wrap_future(future)
+                return await _first(asyncio.wrap_future(future), gone)
         except TimeoutError:
-            future.cancel()  # dropped if it has not started; else it runs to its end
             raise ProblemError(
                 TIME_LIMIT,
                 f"The analysis did not finish within {limit:g} s; retry later, or send "
                 "fewer cases or points per request.",
                 headers={"Retry-After": str(max(1, math.ceil(limit)))},
             ) from None
+        finally:
+            future.cancel()  # no effect once it has started: it then runs to its end
 
     def close(self) -> None:
         """Drop waiting analyses; running ones finish on their own."""
         self._pool.shutdown(wait=False, cancel_futures=True)
+
+
+async def _first(answer: asyncio.Future[T], gone: Callable[[], Awaitable[object]] | None) -> T:
+    """The answer, unless ``gone`` returns first: then the answer is cancelled (which drops
+    the analysis if it has not started) and ``ProblemError`` (``CLIENT_CLOSED``) raised."""
+    if gone is None:
+        return await answer
+    watcher = asyncio.ensure_future(gone())
+    both: set[asyncio.Future[Any]] = {answer, watcher}
+    try:
+        await asyncio.wait(both, return_when=asyncio.FIRST_COMPLETED)
+        if answer.done():
+            return answer.result()
+        raise ProblemError(CLIENT_CLOSED, "The client closed the connection first.")
+    finally:
+        watcher.cancel()
+        answer.cancel()  # no effect once done; drops the analysis if it has not started

@@ -271,6 +271,50 @@ def test_a_saturated_worker_stays_live_but_not_ready(tmp_path: Path) -> None:
         assert held.status_code == 200
 
 
+def test_a_waiting_analysis_whose_client_left_is_dropped(tmp_path: Path) -> None:
+    """One analysis at a time, one waiting: the waiting one's client disconnects, so its
+    place is freed at once and it is never analysed."""
+    with serving(tmp_path, workers=1, IBL_COMPUTE_THREADS="1", IBL_MAX_QUEUE="1") as server:
+        body = json.dumps(plate("hold:0:left")).encode()
+        host, port = server.base.removeprefix("http://").split(":")
+        request = (
+            f"POST /v1/analyses HTTP/1.1\r\nHost: {host}\r\nContent-Type: application/json\r\n"
+            f"Content-Length: {len(body)}\r\n\r\n"
+        ).encode() + body
+
+        def ready() -> int:
+            return httpx.get(f"{server.base}/health/ready", timeout=10).status_code
+
+        async def scenario() -> httpx.Response:
+            async with httpx.AsyncClient(base_url=server.base, timeout=60) as client:
+                first = asyncio.ensure_future(
+                    client.post("/v1/analyses", json=plate("hold:4:first"))
+                )
+                await asyncio.to_thread(server.wait_for_marker, "first")
+                with socket.create_connection((host, int(port)), timeout=10) as sock:
+                    sock.sendall(request)
+                    for _ in range(200):  # until it waits: the worker is then saturated
+                        if await asyncio.to_thread(ready) == 503:
+                            break
+                        await asyncio.sleep(0.05)
+                    else:
+                        raise AssertionError("the second analysis was never queued")
+                # Disconnected: its place frees while the first analysis still runs.
+                for _ in range(200):
+                    if await asyncio.to_thread(ready) == 200:
+                        break
+                    await asyncio.sleep(0.05)
+                else:
+                    raise AssertionError("the place of the departed client was not freed")
+                assert not first.done()
+                return await first
+
+        assert asyncio.run(scenario()).status_code == 200
+        # Had it not been dropped, it would have run as soon as the first one ended.
+        assert httpx.post(f"{server.base}/v1/analyses", json=plate(), timeout=60).is_success
+        assert not (server.markers / "left").exists()
+
+
 # ------------------------------------------------------------------------ time limit
 
 

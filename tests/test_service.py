@@ -28,7 +28,13 @@ from ibl.schema import Result
 from service import codec, openapi
 from service.app import create_app
 from service.config import Settings
-from service.errors import NOT_ACCEPTABLE, OVERLOADED, TIME_LIMIT, ProblemError
+from service.errors import (
+    CLIENT_CLOSED,
+    NOT_ACCEPTABLE,
+    OVERLOADED,
+    TIME_LIMIT,
+    ProblemError,
+)
 from service.runner import Runner
 from service.serve import build_parser
 from service.serve import main as serve_main
@@ -787,6 +793,39 @@ def test_a_timed_out_analysis_that_never_started_is_dropped() -> None:
         return ran
 
     assert anyio.run(scenario) == []
+
+
+def test_an_analysis_whose_client_is_gone_is_dropped() -> None:
+    async def scenario() -> tuple[ProblemError, list[str]]:
+        runner = Runner(Settings(compute_threads=1, max_queue=1))
+        gate = threading.Event()
+        left = anyio.Event()
+        ran: list[str] = []
+
+        async def gone() -> None:
+            await left.wait()
+
+        async with anyio.create_task_group() as tg:
+            tg.start_soon(runner.run, lambda: gate.wait(30))
+            await _settle(runner, 1)
+            left.set()  # the client of the next analysis leaves while it waits
+            try:
+                await runner.run(lambda: ran.append("waiting one"), gone)
+            except ProblemError as exc:
+                dropped = exc
+            else:
+                raise AssertionError("an analysis for a client that left was answered")
+            assert runner.pending == 1  # its place is free at once
+            gate.set()
+        await _settle(runner, 0)
+        assert await runner.run(lambda: "still answers", gone=lambda: anyio.sleep(30)) == (
+            "still answers"
+        )
+        runner.close()
+        return dropped, ran
+
+    dropped, ran = anyio.run(scenario)
+    assert dropped.problem.type == CLIENT_CLOSED.type and ran == []
 
 
 # ------------------------------------------------------------------ non-finite results

@@ -50,7 +50,7 @@ runc_state_existed=false
 # Lazily unmount everything mounted below a folder (deepest first), then remove the folder;
 # --one-file-system keeps rm out of anything that could not be unmounted.
 remove_tree() {
-    grep -o " $1[^ ]*" /proc/mounts | sort -r | while read -r mount; do
+    { grep -o " $1[^ ]*" /proc/mounts || true; } | sort -r | while read -r mount; do
         umount -l "$mount" 2>/dev/null
     done
     rm -rf --one-file-system "$1"

@@ -119,7 +119,8 @@ class Server:
 
 
 def cpu_seconds(pids: list[int]) -> tuple[float, float]:
-    """Busy CPU seconds of the whole machine, and of the given processes."""
+    """Busy CPU seconds of the whole machine (time taken by the hypervisor included), and of
+    the given processes."""
     times = psutil.cpu_times()
     busy = sum(times) - times.idle - getattr(times, "iowait", 0.0)
     own = 0.0
@@ -445,7 +446,7 @@ async def soak(
         print(
             f"  t={elapsed:6.1f} s  {sample['rps']:6.0f} req/s  p50 {sample['p50_ms']:7.2f} ms  "
             f"p99 {sample['p99_ms']:8.2f} ms  errors {load.errors}  RSS MB {rss}  "
-            f"other processes {others:.2f} CPUs",
+            f"others {others:.2f} CPUs",
             flush=True,
         )
     wall = driver.result()
@@ -607,7 +608,8 @@ def run(server: Server, folder: Path, args: argparse.Namespace) -> int:
         )
     other = [sample["other_cpu_cores"] for sample in samples]
     print(
-        f"  other processes on this machine: {statistics.fmean(other):.2f} CPUs on average, "
+        f"  CPU taken by other processes or the hypervisor: {statistics.fmean(other):.2f} CPUs "
+        "on average, "
         f"{max(other):.2f} at most (over {args.report:g} s)"
     )
     print(
@@ -622,8 +624,8 @@ def run(server: Server, folder: Path, args: argparse.Namespace) -> int:
     passed = all(checks.values())
     if not passed and max(other) > 0.2:
         print(
-            "  note: other processes took CPU during the run; if the errors are timeouts and "
-            "503s, the rate was above what the server could keep with what was left"
+            "  note: CPU was taken from the server during the run; if the errors are timeouts "
+            "and 503s, the rate was above what it could keep with what was left"
         )
     print("soak:", "PASS" if passed else "FAIL")
     return 0 if passed else 1
