@@ -139,11 +139,11 @@ _UNITS = {"us": 1e-3, "ms": 1.0, "s": 1e3}
 
 
 def run_wrk(url: str, body_file: Path, connections: int, seconds: int) -> dict[str, float]:
+    """One bounded wrk run: throughput, p50/p99, non-2xx answers and socket errors."""
     script = body_file.with_suffix(".lua")
     script.write_text(
-        'local f = io.open("' + str(body_file) + '", "rb")\n'
-        "wrk.body = f:read('*a')\nf:close()\nwrk.method = 'POST'\n"
-        "wrk.headers['Content-Type'] = 'application/json'\n"
+        f'local f = io.open("{body_file}", "rb")\nwrk.body = f:read("*a")\nf:close()\n'
+        'wrk.method = "POST"\nwrk.headers["Content-Type"] = "application/json"\n'
     )
     threads = min(2, connections)
     command = ["wrk", f"-t{threads}", f"-c{connections}", f"-d{seconds}s", "--latency"]
@@ -155,14 +155,17 @@ def run_wrk(url: str, body_file: Path, connections: int, seconds: int) -> dict[s
         timeout=seconds + 30,
     ).stdout
     figures: dict[str, float] = {}
+    rps = re.search(r"Requests/sec:\s+([\d.]+)", out)
+    figures["rps"] = float(rps.group(1)) if rps else 0.0
     for pct in ("50", "99"):
         match = re.search(rf"^\s+{pct}(?:\.0+)?%\s+([\d.]+)(us|ms|s)\s*$", out, re.M)
-        if match:
-            figures[f"p{pct}_ms"] = float(match.group(1)) * _UNITS[match.group(2)]
-    rps = re.search(r"Requests/sec:\s+([\d.]+)", out)
-    figures["rps"] = float(rps.group(1)) if rps else float("nan")
-    errors = re.search(r"Non-2xx or 3xx responses:\s+(\d+)", out)
-    figures["non_2xx"] = float(errors.group(1)) if errors else 0.0
+        figures[f"p{pct}_ms"] = float(match.group(1)) * _UNITS[match.group(2)] if match else 0.0
+    non_2xx = re.search(r"Non-2xx or 3xx responses:\s+(\d+)", out)
+    figures["non_2xx"] = float(non_2xx.group(1)) if non_2xx else 0.0
+    sockets = re.search(
+        r"Socket errors: connect (\d+), read (\d+), write (\d+), timeout (\d+)", out
+    )
+    figures["socket_errors"] = float(sum(map(int, sockets.groups()))) if sockets else 0.0
     return figures
 
 

@@ -53,7 +53,7 @@ import psutil
 
 ROOT = Path(__file__).resolve().parents[2]
 sys.path.insert(0, str(ROOT / "tests" / "bench"))
-from bench_http import free_port, strut_case  # noqa: E402
+from bench_http import free_port, run_wrk, strut_case  # noqa: E402
 
 HOST = "127.0.0.1"
 PATH = "/v1/analyses"
@@ -145,38 +145,10 @@ def rss_mb(pids: list[int]) -> dict[int, float]:
 
 # ------------------------------------------------------------------------------- wrk
 
-_UNITS = {"us": 1e-3, "ms": 1.0, "s": 1e3}
-
 
 def wrk(url: str, body: Path, connections: int, seconds: int) -> dict[str, float]:
-    """One bounded wrk run: throughput, p50/p99 and errors."""
-    script = body.with_suffix(".lua")
-    script.write_text(
-        f'local f = io.open("{body}", "rb")\nwrk.body = f:read("*a")\nf:close()\n'
-        'wrk.method = "POST"\nwrk.headers["Content-Type"] = "application/json"\n'
-    )
-    threads = min(2, connections)
-    command = ["wrk", f"-t{threads}", f"-c{connections}", f"-d{seconds}s", "--latency"]
-    out = subprocess.run(
-        [*command, "-s", str(script), url],
-        capture_output=True,
-        text=True,
-        check=True,
-        timeout=seconds + 30,
-    ).stdout
-    figures: dict[str, float] = {"connections": connections}
-    rps = re.search(r"Requests/sec:\s+([\d.]+)", out)
-    figures["rps"] = float(rps.group(1)) if rps else 0.0
-    for pct in ("50", "99"):
-        match = re.search(rf"^\s+{pct}(?:\.0+)?%\s+([\d.]+)(us|ms|s)\s*$", out, re.M)
-        figures[f"p{pct}_ms"] = float(match.group(1)) * _UNITS[match.group(2)] if match else 0.0
-    non_2xx = re.search(r"Non-2xx or 3xx responses:\s+(\d+)", out)
-    figures["non_2xx"] = float(non_2xx.group(1)) if non_2xx else 0.0
-    sockets = re.search(
-        r"Socket errors: connect (\d+), read (\d+), write (\d+), timeout (\d+)", out
-    )
-    figures["socket_errors"] = float(sum(map(int, sockets.groups()))) if sockets else 0.0
-    return figures
+    """One bounded wrk run (``bench_http.run_wrk``), labelled with its connection count."""
+    return {"connections": connections, **run_wrk(url, body, connections, seconds)}
 
 
 # ------------------------------------------------------------------ open-loop generator
