@@ -240,17 +240,6 @@ def _limit(s: F64, f: F64, n: int, d: F64) -> None:
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _crossing(s: F64, g0: float, g1: float, i: int) -> float:
-    """Position between stations i-1 and i where g crosses zero (linear in g)."""
-    if i == 0:
-        return s[0]
-    frac = 1.0
-    if np.isfinite(g0) and g0 != g1:
-        frac = min(max(g0 / (g0 - g1), 0.0), 1.0)
-    return s[i - 1] + frac * (s[i] - s[i - 1])
-
-
-@numba.njit(cache=True, error_model="numpy")
 def _interp(s: F64, v: F64, n: int, at: float) -> float:
     """Linear interpolation of v(s) at one position inside [s[0], s[n-1]]."""
     if at <= s[0]:
@@ -590,7 +579,6 @@ def march_sides(
     lam = np.empty(n_max)
     h_lam = np.empty(n_max)
     re_lam = np.empty(n_max)
-    g = np.empty(n_max)
     running = np.empty(n_max)
     theta_t = np.empty(n_max)
     h_t = np.empty(n_max)
@@ -686,8 +674,7 @@ def march_sides(
             s_i = np.inf
             for i in range(1, n):
                 lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
-                g[i] = re_lam[i] - granville_instability(lc)
-                if g[i] >= 0.0:
+                if re_lam[i] >= granville_instability(lc):
                     s_i = _refine(2, sk[i - 1], sk[i], layer, params, lam_sep, tu)
                     _, _, re_i, _ = _laminar_at(layer, params, s_i)
                     run_i = _interp(sk, running, n, s_i)
@@ -709,7 +696,6 @@ def march_sides(
                     g_prev = gi
                     s_prev = sk[i]
         elif criterion != 0:
-            g_prev = -np.inf
             for i in range(1, n):
                 if criterion == 1:
                     gi = re_lam[i] - michel(uk[i] * (sk[i] - sk[0]) / nu)
@@ -719,7 +705,6 @@ def march_sides(
                 if gi >= 0.0:
                     crit = _refine(criterion, sk[i - 1], sk[i], layer, params, lam_sep, tu)
                     break
-                g_prev = gi
 
         natural = min(crit, trip)
         if natural > sk[n - 1]:

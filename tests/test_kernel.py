@@ -120,3 +120,22 @@ def test_mesh_constants_agree():
     from ibl import mesh
 
     assert kernel.CLAUSER == mesh.CLAUSER_CONSTANT
+
+
+def test_mesh_figures_agree_with_their_definitions():
+    # The kernel computes delta99, u_tau and nu_t/nu in its station loop; they must equal
+    # the documented functions in ibl.mesh applied to the reported stations.
+    from ibl import mesh
+
+    for side in ibl.analyze(ellipse_case(150))["sides"]:
+        theta, h = np.array(side["theta"]), np.array(side["shape_factor"])
+        turb = np.array(side["regime"]) == "turbulent"
+        np.testing.assert_allclose(
+            np.array(side["delta99"])[turb], mesh.delta99_power_law(theta, h)[turb], rtol=1e-12
+        )
+        ratio = mesh.eddy_viscosity_ratio_clauser(np.array(side["re_theta"]) * h)
+        assert side["mesh"]["max_eddy_viscosity_ratio"] == pytest.approx(ratio[turb].max())
+        cf = np.array([np.nan if v is None else v for v in side["cf"]])
+        u_tau = mesh.friction_velocity(np.array(side["edge_velocity"]), cf)
+        i = int(np.nanargmax(u_tau))
+        assert side["mesh"]["first_cell"][0]["s"] == side["s"][i]
