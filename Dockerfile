@@ -45,6 +45,7 @@ RUN --mount=type=bind,target=/ctx \
         multipart==2.0.1 \
         numba==0.68.1 \
         numpy==2.4.6 \
+        orjson==3.13.0 \
         packaging==26.2 \
         pillow==13.0.0 \
         polyfactory==3.5.0 \

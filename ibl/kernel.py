@@ -45,7 +45,7 @@ __all__ = [
 F64 = NDArray[np.float64]
 
 #: Rows of the ``stations`` output and columns of the ``events`` output of ``march_sides``.
-N_STATION_FIELDS, N_EVENT_FIELDS = 7, 22
+N_STATION_FIELDS, N_EVENT_FIELDS = 7, 23
 CRITERION_CODES = {"none": 0, "michel": 1, "granville": 2, "abu_ghannam_shaw": 3}
 CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
 START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
@@ -532,7 +532,7 @@ def _refine(
 # ----------------------------------------------------------------------------- the march
 
 
-@numba.njit(cache=True, error_model="numpy")
+@numba.njit(cache=True, error_model="numpy", nogil=True)
 def march_sides(
     s: F64,
     ue: F64,
@@ -557,7 +557,7 @@ def march_sides(
         unused.
     stations : (sides, 7, n) output: theta, H, cf (NaN where undefined), Re_theta,
         delta99, turbulent flag (0/1), lambda.
-    events : (sides, 16) output: kept station count, transition s, cause, Re_theta,
+    events : (sides, N_EVENT_FIELDS) output: kept station count, transition s, cause, Re_theta,
         laminar separation s, its Re_delta*, short-bubble flag, separation s,
         separation-is-turbulent flag, largest laminar lambda, smallest and largest
         turbulent Re_theta, Re_s at transition, mean lambda at transition, stop code of
@@ -772,6 +772,7 @@ def march_sides(
                 keep += 1
         re_min = np.inf
         re_max = -np.inf
+        cut_non_finite = 0.0
         out = stations[k]
         for i in range(keep):
             turb = np.isfinite(theta_t[i])
@@ -792,6 +793,9 @@ def march_sides(
                 cf = 2.0 * max(shear(closure, lc), 0.0) / re if re > 0.0 else np.nan
                 d99 = LAMINAR_DELTA99_RATIO * th
                 lam_max_seen = max(lam_max_seen, lam[i])
+            if not (np.isfinite(th) and np.isfinite(hh) and np.isfinite(re) and np.isfinite(d99)):
+                keep, cut_non_finite = i, 1.0  # the stations end before the first bad one
+                break
             out[0, i] = th
             out[1, i] = hh
             out[2, i] = cf if (uk[i] > 0.0 and np.isfinite(cf)) else np.nan
@@ -844,4 +848,5 @@ def march_sides(
         ev[19] = i_d99
         ev[20] = nut_max
         ev[21] = max(i_nut, 0)
+        ev[22] = cut_non_finite
     return steps

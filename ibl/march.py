@@ -75,6 +75,7 @@ class SideState:
     max_delta99_index: int
     max_eddy_viscosity_ratio: float
     max_eddy_viscosity_ratio_index: int
+    cut_non_finite: bool  # the stations end early, before one with a non-finite value
 
 
 def _stack(
@@ -120,7 +121,7 @@ def _stack(
 def march(sides: list[SideInput]) -> list[SideState]:
     """March every side from its start to separation or its end, all in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
-    stations = np.full((len(sides), kernel.N_STATION_FIELDS, s.shape[1]), np.nan)
+    stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
     kernel.march_sides(s, ue, r, count, ints, reals, stations, events)
     states = []
@@ -157,6 +158,7 @@ def march(sides: list[SideInput]) -> list[SideState]:
                 max_delta99_index=int(ev[19]),
                 max_eddy_viscosity_ratio=ev[20],
                 max_eddy_viscosity_ratio_index=int(ev[21]),
+                cut_non_finite=ev[22] > 0.5,
             )
         )
     return states

@@ -44,6 +44,7 @@ from service.errors import (
     INVALID_CASE,
     INVALID_REQUEST,
     MALFORMED_JSON,
+    MALFORMED_MSGPACK,
     NOT_ACCEPTABLE,
     NOT_READY,
     OVERLOADED,
@@ -60,8 +61,6 @@ from service.wire import BatchRequest, BatchResponse, Health, Problem
 __all__ = ["Runtime", "create_app", "warm_up"]
 
 log = logging.getLogger("service")
-
-JSON = "application/json"
 
 
 def _warm_up_case(points_per_side: int = 60) -> Case:
@@ -125,6 +124,17 @@ async def _run(request: Request[Any, Any, Any], job: Callable[[], bytes]) -> byt
     return await runner.run(job, functools.partial(_client_gone, request))
 
 
+def _formats(request: Request[Any, Any, Any]) -> tuple[codec.BodyFormat, codec.BodyFormat]:
+    """The format of the request body (``Content-Type``) and of the answer (``Accept``)."""
+    headers = request.headers
+    accept = ", ".join(headers.getall("accept", [])) or None
+    return codec.request_format(headers.get("content-type")), codec.response_format(accept)
+
+
+def _answer(body: bytes, fmt: codec.BodyFormat) -> Response[bytes]:
+    return Response(body, media_type=codec.BODY_MEDIA_TYPES[fmt], headers={"Vary": "Accept"})
+
+
 def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
     """OpenAPI entries for the problems an operation can answer with."""
     by_status: dict[int, list[str]] = {}
@@ -142,7 +152,7 @@ def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
     }
 
 
-_BODY_PROBLEMS = (MALFORMED_JSON, BODY_TOO_LARGE, TIME_LIMIT, OVERLOADED)
+_BODY_PROBLEMS = (MALFORMED_JSON, MALFORMED_MSGPACK, BODY_TOO_LARGE, TIME_LIMIT, OVERLOADED)
 
 #: The 200 answers of the figure endpoint, by media type (added to the OpenAPI document).
 _FIGURE_CONTENT = {
@@ -179,9 +189,10 @@ class AnalysesController(Controller):
     )
     async def analyse(self, request: Request[Any, Any, Any]) -> Response[bytes]:
         runtime = _runtime(request)
+        content, answer = _formats(request)
         body = await _read_body(request)
-        job = functools.partial(work.analyse, body, runtime.settings)
-        return Response(await _run(request, job), media_type=JSON)
+        job = functools.partial(work.analyse, body, runtime.settings, content, answer)
+        return _answer(await _run(request, job), answer)
 
     @post(
         "/batch",
@@ -197,9 +208,10 @@ class AnalysesController(Controller):
     )
     async def analyse_batch(self, request: Request[Any, Any, Any]) -> Response[bytes]:
         runtime = _runtime(request)
+        content, answer = _formats(request)
         body = await _read_body(request)
-        job = functools.partial(work.analyse_batch, body, runtime.settings)
-        return Response(await _run(request, job), media_type=JSON)
+        job = functools.partial(work.analyse_batch, body, runtime.settings, content, answer)
+        return _answer(await _run(request, job), answer)
 
     @post(
         "/figure",
@@ -220,8 +232,9 @@ class AnalysesController(Controller):
     async def figure(self, request: Request[Any, Any, Any]) -> Response[bytes]:
         runtime = _runtime(request)
         fmt = codec.figure_format(", ".join(request.headers.getall("accept", [])) or None)
+        content = codec.request_format(request.headers.get("content-type"))
         body = await _read_body(request)
-        job = functools.partial(work.figure, body, runtime.settings, fmt)
+        job = functools.partial(work.figure, body, runtime.settings, fmt, content)
         return Response(
             await _run(request, job),
             media_type=codec.FIGURE_MEDIA_TYPES[fmt],

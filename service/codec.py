@@ -2,13 +2,15 @@
 
 Contents
 --------
-- ``check_json``: the body must be well-formed JSON (else 400).
+- ``request_format`` / ``response_format``: JSON or MessagePack, by the ``Content-Type``
+  and ``Accept`` headers.
+- ``check_body``: the body must be well-formed in its format (else 400).
 - ``decode_case`` / ``decode_batch``: bodies to ``Case`` objects or raw batch entries,
   with the service's limits applied.
 - ``sanitise``: keep non-finite numbers out of a ``Result`` (JSON has none; msgspec
   would write ``null`` where the schema promises a number).
 - ``finite_or_none``: the same for free-form documents (the method catalogue).
-- ``encode``: any wire value to JSON bytes.
+- ``encode``: any wire value to JSON or MessagePack bytes.
 - ``figure_format``: the figure format (SVG or PNG) an ``Accept`` header asks for (else 406).
 
 How ``sanitise`` repairs a result, each repair adding a ``non_finite`` warning:
@@ -31,24 +33,58 @@ import ibl
 from ibl.errors import msgspec_path_to_pointer
 from ibl.schema import Case, Notice, Result, Side
 from service.config import Settings
-from service.errors import INVALID_REQUEST, MALFORMED_JSON, NOT_ACCEPTABLE, ProblemError
+from service.errors import (
+    INVALID_REQUEST,
+    MALFORMED_JSON,
+    MALFORMED_MSGPACK,
+    NOT_ACCEPTABLE,
+    ProblemError,
+)
 from service.wire import BatchEnvelope, FieldError
 
 __all__ = [
+    "BODY_MEDIA_TYPES",
     "FIGURE_MEDIA_TYPES",
     "POINT_ARRAYS",
+    "BodyFormat",
     "FigureFormat",
-    "check_json",
+    "check_body",
     "decode_batch",
     "decode_case",
     "encode",
     "figure_format",
     "finite_or_none",
+    "request_format",
+    "response_format",
     "sanitise",
 ]
 
-_encoder = msgspec.json.Encoder()
-_batch_decoder = msgspec.json.Decoder(BatchEnvelope)
+BodyFormat = Literal["json", "msgpack"]
+
+#: Media type of each body format; JSON is the default both ways.
+BODY_MEDIA_TYPES: dict[BodyFormat, str] = {
+    "json": "application/json",
+    "msgpack": "application/msgpack",
+}
+#: Request media types read as MessagePack (the registered one and two in common use).
+_MSGPACK_TYPES = frozenset(
+    {"application/msgpack", "application/vnd.msgpack", "application/x-msgpack"}
+)
+
+_ENCODERS: dict[BodyFormat, msgspec.json.Encoder | msgspec.msgpack.Encoder] = {
+    "json": msgspec.json.Encoder(),
+    "msgpack": msgspec.msgpack.Encoder(),
+}
+_BATCH_DECODERS: dict[
+    BodyFormat, msgspec.json.Decoder[BatchEnvelope] | msgspec.msgpack.Decoder[BatchEnvelope]
+] = {
+    "json": msgspec.json.Decoder(BatchEnvelope),
+    "msgpack": msgspec.msgpack.Decoder(BatchEnvelope),
+}
+_ANY_DECODERS: dict[BodyFormat, msgspec.json.Decoder[Any] | msgspec.msgpack.Decoder[Any]] = {
+    "json": msgspec.json.Decoder(msgspec.Raw),
+    "msgpack": msgspec.msgpack.Decoder(),
+}
 
 #: Point arrays of a case, by attribute path; ``Settings.max_points`` applies to each.
 POINT_ARRAYS = (
@@ -61,22 +97,45 @@ POINT_ARRAYS = (
 )
 
 
-def encode(value: Any) -> bytes:
-    """JSON bytes of a wire value."""
-    return _encoder.encode(value)
+def encode(value: Any, fmt: BodyFormat = "json") -> bytes:
+    """JSON (or MessagePack) bytes of a wire value."""
+    return _ENCODERS[fmt].encode(value)
 
 
-def _malformed(exc: Exception) -> ProblemError:
+def request_format(content_type: str | None) -> BodyFormat:
+    """MessagePack for a MessagePack ``Content-Type``; JSON for anything else (or none)."""
+    media = (content_type or "").partition(";")[0].strip().lower()
+    return "msgpack" if media in _MSGPACK_TYPES else "json"
+
+
+def response_format(accept: str | None) -> BodyFormat:
+    """MessagePack when ``Accept`` weights ``application/msgpack`` above JSON; else JSON.
+
+    Results are always available as JSON, so an ``Accept`` header that allows neither is
+    answered with JSON rather than refused.
+    """
+    if not accept or "msgpack" not in accept.lower():
+        return "json"
+    ranges = _media_ranges(accept)
+    msgpack_q = max(_quality(media, ranges) for media in _MSGPACK_TYPES)
+    return "msgpack" if msgpack_q > _quality(BODY_MEDIA_TYPES["json"], ranges) else "json"
+
+
+def _malformed(exc: Exception, fmt: BodyFormat) -> ProblemError:
     reason = "it is nested too deeply" if isinstance(exc, RecursionError) else str(exc)
+    if fmt == "msgpack":
+        return ProblemError(
+            MALFORMED_MSGPACK, f"The request body is not valid MessagePack: {reason}."
+        )
     return ProblemError(MALFORMED_JSON, f"The request body is not valid JSON: {reason}.")
 
 
-def check_json(body: bytes) -> None:
-    """Raise a 400 ``ProblemError`` unless ``body`` is one well-formed JSON value."""
+def check_body(body: bytes, fmt: BodyFormat = "json") -> None:
+    """Raise a 400 ``ProblemError`` unless ``body`` is one well-formed value in ``fmt``."""
     try:
-        msgspec.json.decode(body, type=msgspec.Raw)
+        _ANY_DECODERS[fmt].decode(body)
     except (msgspec.DecodeError, RecursionError) as exc:
-        raise _malformed(exc) from None
+        raise _malformed(exc, fmt) from None
 
 
 def _check_points(case: Case, max_points: int) -> None:
@@ -90,24 +149,25 @@ def _check_points(case: Case, max_points: int) -> None:
         raise ibl.CaseError(problems)
 
 
-def decode_case(data: bytes, settings: Settings) -> Case:
-    """A validated ``Case`` from JSON bytes; raises ``ibl.CaseError`` naming each bad field."""
-    case = ibl.parse_case(data)
+def decode_case(data: bytes, settings: Settings, fmt: BodyFormat = "json") -> Case:
+    """A validated ``Case`` from its encoded bytes; raises ``ibl.CaseError`` naming each bad
+    field."""
+    case = ibl.parse_case(data, encoding=fmt)
     _check_points(case, settings.max_points)
     return case
 
 
-def decode_batch(body: bytes, settings: Settings) -> list[bytes]:
-    """The raw JSON of each case of a batch body; each is decoded later, on its own."""
+def decode_batch(body: bytes, settings: Settings, fmt: BodyFormat = "json") -> list[bytes]:
+    """The raw encoded bytes of each case of a batch body; each is decoded later, on its own."""
     try:
-        envelope = _batch_decoder.decode(body)
+        envelope = _BATCH_DECODERS[fmt].decode(body)
     except msgspec.ValidationError as exc:
-        check_json(body)  # a malformed body can fail validation before the parser sees the fault
+        check_body(body, fmt)  # a malformed body can fail validation before the parser sees it
         message, _, path = str(exc).partition(" - at `")
         error = FieldError(pointer=msgspec_path_to_pointer(path.rstrip("`")), reason=message)
         raise ProblemError(INVALID_REQUEST, "The batch is not valid.", [error]) from None
     except (msgspec.DecodeError, RecursionError) as exc:
-        raise _malformed(exc) from None
+        raise _malformed(exc, fmt) from None
     count = len(envelope.cases)
     if count > settings.max_batch:
         reason = f"has {count} cases; this service accepts at most {settings.max_batch}"

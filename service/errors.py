@@ -37,6 +37,7 @@ __all__ = [
     "INVALID_CASE",
     "INVALID_REQUEST",
     "MALFORMED_JSON",
+    "MALFORMED_MSGPACK",
     "NOT_ACCEPTABLE",
     "NOT_READY",
     "OVERLOADED",
@@ -92,6 +93,7 @@ class ProblemKind:
 
 
 MALFORMED_JSON = ProblemKind("malformed-json", 400, "Malformed JSON")
+MALFORMED_MSGPACK = ProblemKind("malformed-msgpack", 400, "Malformed MessagePack")
 INCOMPLETE_BODY = ProblemKind("incomplete-body", 400, "Incomplete request body")
 INVALID_CASE = ProblemKind("invalid-case", 422, "Invalid case")
 INVALID_REQUEST = ProblemKind("invalid-request", 422, "Invalid request")

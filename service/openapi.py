@@ -7,6 +7,9 @@ each route names in ``opt["request_body"]``, with the schema msgspec itself
 derives for that type: exactly what the decoder accepts, unknown members
 included (``additionalProperties: false``).
 
+Every request body, and the answer of the analysis endpoints, is offered as JSON and as
+MessagePack (the same document; ``Content-Type`` and ``Accept`` choose).
+
 Regenerate the committed copy with ``python -m service.openapi``; ``--check``
 exits non-zero when it is stale.
 """
@@ -91,6 +94,9 @@ def _apply_limits(schemas: dict[str, Any], settings: Settings) -> None:
 
 def document(app: Litestar) -> dict[str, Any]:
     """The complete OpenAPI document of ``app``, with the limits of its settings."""
+    from service.codec import BODY_MEDIA_TYPES
+
+    media_types = tuple(BODY_MEDIA_TYPES.values())
     doc = copy.deepcopy(app.openapi_schema.to_schema())
     bodies = _opt_values(app, "request_body")
     answers = _opt_values(app, "response_body")
@@ -114,7 +120,7 @@ def document(app: Litestar) -> dict[str, Any]:
                 ref = {"$ref": _REF.format(name=body_type.__name__)}
                 operation["requestBody"] = {
                     "required": True,
-                    "content": {"application/json": {"schema": ref}},
+                    "content": {media: {"schema": ref} for media in media_types},
                 }
             answer_type = answers.get(operation.get("operationId", ""))
             if answer_type is not None:
@@ -123,6 +129,10 @@ def document(app: Litestar) -> dict[str, Any]:
             content = contents.get(operation.get("operationId", ""))
             if content is not None:
                 operation["responses"]["200"]["content"] = copy.deepcopy(content)
+            elif body_type is not None:  # the same document in either format, by Accept
+                answer = operation["responses"]["200"]["content"]
+                for media in media_types:
+                    answer.setdefault(media, copy.deepcopy(answer["application/json"]))
             for status, response in operation.get("responses", {}).items():
                 if status == "503":
                     response["headers"] = {"Retry-After": _RETRY_AFTER}

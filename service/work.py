@@ -25,28 +25,38 @@ __all__ = ["analyse", "analyse_batch", "figure"]
 _DRAWING = threading.Lock()
 
 
-def analyse(body: bytes, settings: Settings) -> bytes:
-    """One case in, one result out."""
-    codec.check_json(body)
-    case = codec.decode_case(body, settings)
-    return codec.encode(codec.sanitise(ibl.run(case)))
+def analyse(
+    body: bytes,
+    settings: Settings,
+    content: codec.BodyFormat = "json",
+    answer: codec.BodyFormat = "json",
+) -> bytes:
+    """One case in, one result out (each as JSON or MessagePack)."""
+    codec.check_body(body, content)
+    case = codec.decode_case(body, settings, content)
+    return codec.encode(codec.sanitise(ibl.run(case, arrays=answer)), answer)
 
 
-def analyse_batch(body: bytes, settings: Settings) -> bytes:
+def analyse_batch(
+    body: bytes,
+    settings: Settings,
+    content: codec.BodyFormat = "json",
+    answer: codec.BodyFormat = "json",
+) -> bytes:
     """Many cases in, one entry per case out; a bad case fails alone.
 
     Every case is decoded on its own; the valid ones are marched together by one
     ``ibl.run_batch`` call.
     """
-    raw_cases = codec.decode_batch(body, settings)
+    raw_cases = codec.decode_batch(body, settings, content)
     entries: list[Result | Problem | None] = [None] * len(raw_cases)
     valid: list[tuple[int, Case]] = []
     for index, raw in enumerate(raw_cases):
         try:
-            valid.append((index, codec.decode_case(raw, settings)))
+            valid.append((index, codec.decode_case(raw, settings, content)))
         except ibl.CaseError as error:
             entries[index] = problem_from_case_error(error, f"/cases/{index}")
-    outcomes = ibl.run_batch([case for _, case in valid]) if valid else []
+    outcomes = ibl.run_batch([case for _, case in valid], arrays=answer) if valid else []
     for (index, _), outcome in zip(valid, outcomes, strict=True):
         entries[index] = (
             problem_from_case_error(outcome, f"/cases/{index}")
@@ -54,17 +64,22 @@ def analyse_batch(body: bytes, settings: Settings) -> bytes:
             else codec.sanitise(outcome)
         )
     results = [entry for entry in entries if entry is not None]
-    return codec.encode(BatchResponse(results=results))
+    return codec.encode(BatchResponse(results=results), answer)
 
 
-def figure(body: bytes, settings: Settings, fmt: codec.FigureFormat) -> bytes:
+def figure(
+    body: bytes,
+    settings: Settings,
+    fmt: codec.FigureFormat,
+    content: codec.BodyFormat = "json",
+) -> bytes:
     """One case in, the figure of its result out (SVG or PNG bytes).
 
     The same figure as ``ibl run --plot``: lengths labelled in metres when the case gives
     speed and viscosity, and a contour drawn whole beneath its analysed stations.
     """
-    codec.check_json(body)
-    case = codec.decode_case(body, settings)
+    codec.check_body(body, content)
+    case = codec.decode_case(body, settings, content)
     result = codec.sanitise(ibl.run(case))
     from ibl.figures import length_unit, render  # matplotlib: loaded on first use only
 

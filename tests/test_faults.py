@@ -69,14 +69,14 @@ SITE_HOOK = textwrap.dedent(
                 raise RuntimeError("internal detail that must not leave the server")
 
 
-    def run(case):
+    def run(case, **options):
         _act([case])
-        return _run(case)
+        return _run(case, **options)
 
 
-    def run_batch(cases):
+    def run_batch(cases, **options):
         _act(cases)
-        return _run_batch(cases)
+        return _run_batch(cases, **options)
 
 
     ibl.run, ibl.run_batch = run, run_batch

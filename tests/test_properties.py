@@ -9,6 +9,7 @@ from __future__ import annotations
 
 import math
 
+import msgspec
 import numpy as np
 from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
@@ -63,11 +64,16 @@ def _check(result: dict) -> None:
 
 def _analyze_or_error(doc: dict) -> None:
     try:
-        result = ibl.analyze(doc)
+        case = ibl.parse_case(doc)
+        typed = ibl.run(case)
     except ibl.CaseError as error:
         assert error.problems and all(p.reason for p in error.problems)
         return
-    _check(result)
+    _check(msgspec.to_builtins(typed))
+    # The result written from encoded fragments is the same as from the lists.
+    assert msgspec.json.encode(ibl.run(case, arrays="json")) == msgspec.json.encode(typed)
+    packed = msgspec.msgpack.encode(typed)
+    assert msgspec.msgpack.encode(ibl.run(case, arrays="msgpack")) == packed
 
 
 @st.composite

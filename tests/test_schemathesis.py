@@ -20,6 +20,7 @@ from typing import Any
 
 import hypothesis
 import schemathesis
+import schemathesis_hooks
 from schemathesis.generation import GenerationMode
 from schemathesis.specs.openapi.checks import negative_data_rejection, positive_data_acceptance
 
@@ -48,4 +49,10 @@ def test_api_conforms_to_its_document(case: Any) -> None:
     excluded = [positive_data_acceptance, *([negative_data_rejection] if batch else [])]
     response = case.call_and_validate(excluded_checks=excluded)
     if batch and response.status_code == 200:
-        assert len(response.json()["results"]) == len(case.body["cases"])
+        (content_type,) = response.headers.get("content-type", [""])
+        answer = (
+            schemathesis_hooks.from_msgpack(None, response)
+            if content_type.startswith(schemathesis_hooks.MSGPACK)
+            else response.json()
+        )
+        assert len(answer["results"]) == len(case.body["cases"])

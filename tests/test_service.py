@@ -201,7 +201,7 @@ def test_health(client: TestClient[Any]) -> None:
 def test_not_ready_when_the_start_up_analysis_fails(
     make_client: Any, monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    def broken(case: Any) -> Any:
+    def broken(case: Any, **_: Any) -> Any:
         raise RuntimeError("no")
 
     monkeypatch.setattr(ibl, "run", broken)
@@ -400,7 +400,7 @@ def test_unknown_path_and_method(client: TestClient[Any]) -> None:
 def test_unexpected_error_is_500_without_details(
     client: TestClient[Any], monkeypatch: pytest.MonkeyPatch
 ) -> None:
-    def broken(case: Any) -> Any:
+    def broken(case: Any, **_: Any) -> Any:
         raise RuntimeError("secret internals")
 
     monkeypatch.setattr(ibl, "run", broken)
@@ -617,6 +617,103 @@ def test_figure_unexpected_error_is_500_without_details(
     assert "secret" not in response.text
 
 
+# ---------------------------------------------------------------------------- MessagePack
+
+MSGPACK = "application/msgpack"
+
+
+def post_msgpack(client: TestClient[Any], path: str, doc: Any, accept: str = MSGPACK) -> Any:
+    return client.post(
+        path,
+        content=msgspec.msgpack.encode(doc),
+        headers={"content-type": MSGPACK, "accept": accept},
+    )
+
+
+def test_msgpack_both_ways_gives_the_json_result(client: TestClient[Any]) -> None:
+    as_json = post_json(client, "/v1/analyses", strut())
+    response = post_msgpack(client, "/v1/analyses", strut())
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"] == MSGPACK
+    assert "Accept" in response.headers["vary"]
+    result = msgspec.msgpack.decode(response.content, type=Result)
+    assert result == msgspec.json.decode(as_json.content, type=Result)
+    # MessagePack carries every double in 9 bytes: the answer is well under the JSON one.
+    assert len(response.content) < 0.6 * len(as_json.content)
+
+
+def test_msgpack_batch_matches_the_json_batch(client: TestClient[Any]) -> None:
+    bad = plate()
+    bad["pressure"]["edge_velocity"] = [1.0] * 39  # one value short
+    doc = {"cases": [strut(), bad, plate()]}
+    as_json = json.loads(post_json(client, "/v1/analyses/batch", doc).content)
+    response = post_msgpack(client, "/v1/analyses/batch", doc)
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"] == MSGPACK
+    assert msgspec.msgpack.decode(response.content) == as_json
+    assert as_json["results"][1]["errors"][0]["pointer"] == "/cases/1/pressure/edge_velocity"
+
+
+@pytest.mark.parametrize("content_type", ["application/msgpack", "application/x-msgpack"])
+def test_msgpack_request_with_json_answer(client: TestClient[Any], content_type: str) -> None:
+    response = client.post(
+        "/v1/analyses",
+        content=msgspec.msgpack.encode(plate()),
+        headers={"content-type": content_type},
+    )
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"].startswith("application/json")
+    assert response.json() == post_json(client, "/v1/analyses", plate()).json()
+
+
+@pytest.mark.parametrize(
+    ("accept", "fmt"),
+    [
+        (None, "json"),
+        ("", "json"),
+        ("*/*", "json"),
+        ("application/json", "json"),
+        ("application/msgpack", "msgpack"),
+        ("Application/MsgPack", "msgpack"),
+        ("application/vnd.msgpack", "msgpack"),
+        ("application/json;q=0.5, application/msgpack", "msgpack"),
+        ("application/msgpack;q=0.4, application/json", "json"),
+        ("application/msgpack;q=0.5, */*;q=0.1", "msgpack"),
+        ("application/msgpack, application/json", "json"),  # a tie: JSON
+        ("text/html", "json"),  # results always exist as JSON
+    ],
+)
+def test_answer_format_negotiation(accept: str | None, fmt: str) -> None:
+    # RFC 9110, section 12.5.1: each type takes the weight of its most specific range.
+    assert codec.response_format(accept) == fmt
+
+
+def test_malformed_msgpack_is_400(client: TestClient[Any]) -> None:
+    response = client.post("/v1/analyses", content=b"\xc1", headers={"content-type": MSGPACK})
+    problem = problem_of(response, 400)
+    assert problem.type.endswith("malformed-msgpack")
+    truncated = msgspec.msgpack.encode(strut())[:-3]
+    batch = client.post("/v1/analyses/batch", content=truncated, headers={"content-type": MSGPACK})
+    problem_of(batch, 400)
+
+
+def test_msgpack_non_finite_number_is_422_with_pointer(client: TestClient[Any]) -> None:
+    doc = strut()
+    doc["pressure"]["cp"][7] = math.nan  # MessagePack, unlike JSON, can carry NaN
+    problem = problem_of(post_msgpack(client, "/v1/analyses", doc), 422)
+    assert problem.errors[0].pointer == "/pressure/cp/7"
+    assert problem.errors[0].reason == "is not a finite number"
+    batch = post_msgpack(client, "/v1/analyses/batch", {"cases": [plate(), doc]})
+    entries = msgspec.msgpack.decode(batch.content)["results"]
+    assert entries[1]["errors"][0]["pointer"] == "/cases/1/pressure/cp/7"
+
+
+def test_msgpack_figure_request(client: TestClient[Any]) -> None:
+    response = post_msgpack(client, FIGURE, strut(), accept="image/svg+xml")
+    assert response.status_code == 200, response.text
+    assert response.headers["content-type"].startswith("image/svg+xml")
+
+
 # ----------------------------------------------------------------------------- limits
 
 
@@ -662,7 +759,7 @@ def test_time_limit_is_503_with_retry_after(
 ) -> None:
     client = make_client(time_limit_s=0.05)
 
-    def slow(case: Any) -> Any:
+    def slow(case: Any, **_: Any) -> Any:
         time.sleep(0.5)
         return None
 
@@ -868,7 +965,7 @@ def test_non_finite_results_are_repaired_and_noted(
         sides=[broken_upper, broken_lower, lower_cells],
         options={**good.options, "probe": nan},
     )
-    monkeypatch.setattr(ibl, "run", lambda case: result)
+    monkeypatch.setattr(ibl, "run", lambda case, **_: result)
     response = post_json(client, "/v1/analyses", plate())
     assert response.status_code == 200, response.text
     repaired = msgspec.json.decode(response.content, type=Result)
@@ -894,7 +991,7 @@ def test_finite_results_pass_unchanged(
     client: TestClient[Any], monkeypatch: pytest.MonkeyPatch
 ) -> None:
     result = _real_result()
-    monkeypatch.setattr(ibl, "run", lambda case: result)
+    monkeypatch.setattr(ibl, "run", lambda case, **_: result)
     response = post_json(client, "/v1/analyses", plate())
     assert response.content == msgspec.json.encode(result)
 

@@ -55,6 +55,14 @@ def free_port() -> int:
 _SUMMARY = re.compile(r"\d+ generated|issues found|No issues|failures?\b", re.I)
 
 
+#: MessagePack bodies and answers: serializer and deserializer in tests/schemathesis_hooks.py.
+HOOKS_ENV = dict(
+    os.environ,
+    PYTHONPATH=os.pathsep.join(filter(None, [str(ROOT / "tests"), os.environ.get("PYTHONPATH")])),
+    SCHEMATHESIS_HOOKS="schemathesis_hooks",
+)
+
+
 def commands(url: str, seed: str, phases: str, args: argparse.Namespace) -> list[list[str]]:
     """The two schemathesis runs of one round: every operation but the batch, the batch."""
     common = [
@@ -151,7 +159,13 @@ def main() -> int:
                 phases = ALL_PHASES if round_ == 0 else args.later_phases
                 for run in commands(url, seed, phases, args):
                     done = subprocess.run(
-                        run, cwd=tmp, timeout=1800, check=False, stdout=subprocess.PIPE, text=True
+                        run,
+                        cwd=tmp,
+                        env=HOOKS_ENV,
+                        timeout=1800,
+                        check=False,
+                        stdout=subprocess.PIPE,
+                        text=True,
                     )
                     summary = [line for line in done.stdout.splitlines() if _SUMMARY.search(line)]
                     print(f"  seed {seed}: {' '.join(run[-2:])}: {'; '.join(summary)}", flush=True)

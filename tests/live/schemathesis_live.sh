@@ -10,6 +10,9 @@
 # problem in its slot), so negative_data_rejection is skipped there too.
 set -euo pipefail
 examples="${1:-40}"
+# MessagePack bodies and answers: serializer and deserializer in tests/schemathesis_hooks.py.
+tests_dir="$(cd "$(dirname "$0")/.." && pwd)"
+export PYTHONPATH="$tests_dir${PYTHONPATH:+:$PYTHONPATH}" SCHEMATHESIS_HOOKS=schemathesis_hooks
 port="$(python -c 'import socket; s = socket.socket(); s.bind(("127.0.0.1", 0)); print(s.getsockname()[1])')"
 log="$(mktemp)"
 IBL_MAX_POINTS=400 IBL_MAX_BATCH=8 ibl serve --host 127.0.0.1 --port "$port" --workers 2 >"$log" 2>&1 &
