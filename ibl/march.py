@@ -4,7 +4,8 @@ Contents
 --------
 - ``march(sides)``: pads the sides into arrays (sides along axis 0, stations along
   axis 1), runs ``ibl.kernel.march_sides`` once over all of them and returns one
-  ``SideState`` per side.
+  ``SideState`` per side.  Large marches are split between threads, one kernel call
+  each: the kernel releases the interpreter lock, so they run on separate cores.
 - ``SideState``: the station arrays and events of one marched side.
 
 Events are located between stations by linear interpolation of the quantity that
@@ -13,6 +14,8 @@ crosses its threshold (lambda, Re_theta margin, H).
 
 from __future__ import annotations
 
+import os
+from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
 import numpy as np
@@ -25,6 +28,11 @@ from ibl.turbulent import SKIN_FRICTION
 __all__ = ["SideState", "march"]
 
 F64 = NDArray[np.float64]
+
+#: Sides per thread at least before a march is split between threads.
+SIDES_PER_THREAD = 256
+#: Threads a march may use: the cores this process may run on.
+THREADS = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
 
 _START = {
     "stagnation": kernel.START_STAGNATION,
@@ -119,7 +127,22 @@ def _stack(
 
 
 def march(sides: list[SideInput]) -> list[SideState]:
-    """March every side from its start to separation or its end, all in one kernel call."""
+    """March every side from its start to separation or its end.
+
+    Up to ``SIDES_PER_THREAD`` sides per thread, all in one kernel call; more are split
+    into one call per thread (the results do not depend on the split).
+    """
+    threads = min(THREADS, len(sides) // SIDES_PER_THREAD)
+    if threads < 2:
+        return _march(sides)
+    bounds = np.linspace(0, len(sides), threads + 1).astype(int).tolist()
+    chunks = [sides[a:b] for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
+    with ThreadPoolExecutor(threads, thread_name_prefix="ibl-march") as pool:
+        return [state for part in pool.map(_march, chunks) for state in part]
+
+
+def _march(sides: list[SideInput]) -> list[SideState]:
+    """``march`` in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
     stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))

@@ -23,6 +23,7 @@ How ``sanitise`` repairs a result, each repair adding a ``non_finite`` warning:
 
 from __future__ import annotations
 
+import functools
 import math
 from typing import Any, Literal
 
@@ -255,13 +256,18 @@ def figure_format(accept: str | None) -> FigureFormat:
 def _all_finite(value: object) -> bool:
     """Fast screen: True when no float anywhere in ``value`` is NaN or infinite.
 
-    Lists are homogeneous in the wire types, so the first entry tells their kind.
+    Lists are homogeneous in the wire types, so the first entry tells their kind; of a
+    Struct only the members whose type can hold a float are looked at.
     """
     if isinstance(value, float):
         return math.isfinite(value)
+    if isinstance(value, msgspec.Struct):
+        return all(_all_finite(getattr(value, name)) for name in _float_fields(type(value)))
     if isinstance(value, list):
         if not value or isinstance(value[0], str):
             return True
+        if isinstance(value[0], msgspec.Struct):
+            return not _float_fields(type(value[0])) or all(_all_finite(v) for v in value)
         try:  # NaN and inf propagate through a sum
             return math.isfinite(sum(value))
         except TypeError:
@@ -270,11 +276,29 @@ def _all_finite(value: object) -> bool:
             return math.isfinite(sum(filter(None, value)))
         except TypeError:
             return all(_all_finite(item) for item in value)
-    if isinstance(value, msgspec.Struct):
-        return all(_all_finite(getattr(value, name)) for name in value.__struct_fields__)
     if isinstance(value, dict):
         return all(_all_finite(item) for item in value.values())
     return True
+
+
+def _holds_float(t: mi.Type) -> bool:
+    """Whether a value of type ``t`` can hold a float somewhere (Structs: assumed so)."""
+    for m in _members(t):
+        if isinstance(m, (mi.FloatType, mi.StructType, mi.AnyType)):
+            return True
+        if isinstance(m, mi.ListType) and _holds_float(m.item_type):
+            return True
+        if isinstance(m, mi.DictType) and _holds_float(m.value_type):
+            return True
+    return False
+
+
+@functools.cache
+def _float_fields(cls: type[msgspec.Struct]) -> tuple[str, ...]:
+    """The members of a Struct type that can hold a float."""
+    info = mi.type_info(cls)
+    assert isinstance(info, mi.StructType)
+    return tuple(f.name for f in info.fields if _holds_float(f.type))
 
 
 class _Unrepairable(Exception):

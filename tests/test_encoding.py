@@ -14,7 +14,7 @@ import msgspec
 import numpy as np
 import pytest
 
-from ibl.analysis import _Json, _Msgpack
+from ibl.analysis import _Json, _Lists, _Msgpack
 
 LENGTHS = [0, 1, 15, 16, 17, 65_535, 65_536]
 
@@ -49,3 +49,14 @@ def test_fragments_take_strided_arrays() -> None:
     values = _values(40)[::2]
     assert bytes(_Json.floats(values)) == msgspec.json.encode(values.tolist())
     assert bytes(_Msgpack.floats(values)) == msgspec.msgpack.encode(values.tolist())
+
+
+@pytest.mark.parametrize("n", [0, 1, 16, 300])
+@pytest.mark.parametrize("fragments", [_Lists, _Json, _Msgpack])
+def test_rows_equal_each_row_on_its_own(n: int, fragments: type) -> None:
+    matrix = np.stack([_values(n), -_values(n), _values(n) * 1e-9])
+    rows = fragments.rows(matrix)
+    assert len(rows) == 3
+    for row, values in zip(rows, matrix, strict=True):
+        expected = fragments.floats(values)
+        assert (bytes(row) == bytes(expected)) if fragments is not _Lists else row == expected

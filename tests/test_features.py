@@ -165,3 +165,18 @@ def test_laminar_closure_option():
         }
         sep = ibl.analyze(doc)["sides"][0]["separation"]["s"]
         assert sep == pytest.approx(1 - 2.2 ** (-1 / 6), rel=1e-3)
+
+
+def test_a_large_batch_split_between_threads_equals_single_runs(monkeypatch):
+    # The march of a large batch is split into one kernel call per thread; every side
+    # must come out as it does on its own.
+    from ibl import march
+
+    monkeypatch.setattr(march, "THREADS", 3)
+    monkeypatch.setattr(march, "SIDES_PER_THREAD", 4)
+    reynolds = np.geomspace(1e4, 1e8, 14).tolist()
+    docs = [_plate(re, n=41 + 20 * (i % 3)) for i, re in enumerate(reynolds)]
+    cases = [ibl.parse_case(d) for d in docs]
+    batch = ibl.run_batch(cases)
+    for case, together in zip(cases, batch, strict=True):
+        assert together == ibl.run(case)
