@@ -216,12 +216,9 @@ class _Json:
 
     @staticmethod
     def rows(matrix: NDArray[np.float64]) -> list[Any]:
-        """Each row of a 2-D array, as ``floats`` gives it (one encoder call for all)."""
-        if matrix.shape[1] == 0:
-            return [msgspec.Raw(b"[]") for _ in range(matrix.shape[0])]
-        text = orjson.dumps(np.ascontiguousarray(matrix), option=orjson.OPT_SERIALIZE_NUMPY)
-        # "[[a,b],[c,d]]": numbers hold no brackets, so the rows split at "],[".
-        return [msgspec.Raw(b"[" + row + b"]") for row in text[2:-2].split(b"],[")]
+        """Each row of a 2-D array, as ``floats`` gives it."""
+        dumps, option = orjson.dumps, orjson.OPT_SERIALIZE_NUMPY
+        return [msgspec.Raw(dumps(row, option=option)) for row in np.ascontiguousarray(matrix)]
 
     @staticmethod
     def regime(laminar: int, turbulent: int) -> Any:

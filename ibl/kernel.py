@@ -40,6 +40,7 @@ __all__ = [
     "START_STAGNATION",
     "START_TURBULENT",
     "march_sides",
+    "march_sides_nogil",
 ]
 
 F64 = NDArray[np.float64]
@@ -532,7 +533,7 @@ def _refine(
 # ----------------------------------------------------------------------------- the march
 
 
-@numba.njit(cache=True, error_model="numpy", nogil=True)
+@numba.njit(cache=True, error_model="numpy")
 def march_sides(
     s: F64,
     ue: F64,
@@ -850,3 +851,20 @@ def march_sides(
         ev[21] = max(i_nut, 0)
         ev[22] = cut_non_finite
     return steps
+
+
+@numba.njit(cache=True, error_model="numpy", nogil=True)
+def march_sides_nogil(
+    s: F64,
+    ue: F64,
+    r: F64,
+    count: NDArray[np.int64],
+    ints: NDArray[np.int64],
+    reals: F64,
+    stations: F64,
+    events: F64,
+) -> int:
+    """``march_sides``, releasing the interpreter lock while it runs: for marches split
+    between threads.  A lone march keeps the lock: in the service, handing it to the event
+    loop's thread and waiting to get it back costs more than the march itself."""
+    return march_sides(s, ue, r, count, ints, reals, stations, events)

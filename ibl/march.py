@@ -5,7 +5,8 @@ Contents
 - ``march(sides)``: pads the sides into arrays (sides along axis 0, stations along
   axis 1), runs ``ibl.kernel.march_sides`` once over all of them and returns one
   ``SideState`` per side.  Large marches are split between threads, one kernel call
-  each: the kernel releases the interpreter lock, so they run on separate cores.
+  each, of the kernel variant that releases the interpreter lock, so that they run on
+  separate cores.
 - ``SideState``: the station arrays and events of one marched side.
 
 Events are located between stations by linear interpolation of the quantity that
@@ -14,7 +15,10 @@ crosses its threshold (lambda, Re_theta margin, H).
 
 from __future__ import annotations
 
+import functools
+import itertools
 import os
+from collections.abc import Callable
 from concurrent.futures import ThreadPoolExecutor
 from dataclasses import dataclass
 
@@ -136,17 +140,20 @@ def march(sides: list[SideInput]) -> list[SideState]:
     if threads < 2:
         return _march(sides)
     bounds = np.linspace(0, len(sides), threads + 1).astype(int).tolist()
-    chunks = [sides[a:b] for a, b in zip(bounds[:-1], bounds[1:], strict=True)]
+    chunks = [sides[a:b] for a, b in itertools.pairwise(bounds)]
     with ThreadPoolExecutor(threads, thread_name_prefix="ibl-march") as pool:
-        return [state for part in pool.map(_march, chunks) for state in part]
+        parts = pool.map(functools.partial(_march, compute=kernel.march_sides_nogil), chunks)
+        return [state for part in parts for state in part]
 
 
-def _march(sides: list[SideInput]) -> list[SideState]:
+def _march(
+    sides: list[SideInput], compute: Callable[..., int] = kernel.march_sides
+) -> list[SideState]:
     """``march`` in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
     stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
-    kernel.march_sides(s, ue, r, count, ints, reals, stations, events)
+    compute(s, ue, r, count, ints, reals, stations, events)
     states = []
     for i, ev in enumerate(events.tolist()):
         keep = int(ev[0])

@@ -151,9 +151,20 @@ def _check_points(case: Case, max_points: int) -> None:
 
 
 def decode_case(data: bytes, settings: Settings, fmt: BodyFormat = "json") -> Case:
-    """A validated ``Case`` from its encoded bytes; raises ``ibl.CaseError`` naming each bad
-    field."""
-    case = ibl.parse_case(data, encoding=fmt)
+    """A validated ``Case`` from its encoded bytes.
+
+    Raises
+    ------
+    ProblemError
+        400, when ``data`` is not well-formed in ``fmt``.
+    ibl.CaseError
+        Naming each bad field.
+    """
+    try:
+        case = ibl.parse_case(data, encoding=fmt)
+    except ibl.CaseError:
+        check_body(data, fmt)  # a malformed body can fail validation before the parser sees it
+        raise
     _check_points(case, settings.max_points)
     return case
 
@@ -262,12 +273,20 @@ def _all_finite(value: object) -> bool:
     if isinstance(value, float):
         return math.isfinite(value)
     if isinstance(value, msgspec.Struct):
-        return all(_all_finite(getattr(value, name)) for name in _float_fields(type(value)))
+        for name in _float_fields(type(value)):
+            member = getattr(value, name)
+            if member is not None and not _all_finite(member):
+                return False
+        return True
     if isinstance(value, list):
         if not value or isinstance(value[0], str):
             return True
         if isinstance(value[0], msgspec.Struct):
-            return not _float_fields(type(value[0])) or all(_all_finite(v) for v in value)
+            if _float_fields(type(value[0])):
+                for item in value:
+                    if not _all_finite(item):
+                        return False
+            return True
         try:  # NaN and inf propagate through a sum
             return math.isfinite(sum(value))
         except TypeError:

@@ -32,7 +32,6 @@ def analyse(
     answer: codec.BodyFormat = "json",
 ) -> bytes:
     """One case in, one result out (each as JSON or MessagePack)."""
-    codec.check_body(body, content)
     case = codec.decode_case(body, settings, content)
     return codec.encode(codec.sanitise(ibl.run(case, arrays=answer)), answer)
 
@@ -78,7 +77,6 @@ def figure(
     The same figure as ``ibl run --plot``: lengths labelled in metres when the case gives
     speed and viscosity, and a contour drawn whole beneath its analysed stations.
     """
-    codec.check_body(body, content)
     case = codec.decode_case(body, settings, content)
     result = codec.sanitise(ibl.run(case))
     from ibl.figures import length_unit, render  # matplotlib: loaded on first use only
