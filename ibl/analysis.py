@@ -184,10 +184,9 @@ class _Lists:
         return values.tolist()
 
     @staticmethod
-    def rows(matrix: NDArray[np.float64]) -> list[Any]:
-        """Each row of a 2-D array, as ``floats`` gives it."""
-        rows: list[Any] = matrix.tolist()
-        return rows
+    def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
+        """Several arrays of one length, each as ``floats`` gives it."""
+        return [column.tolist() for column in columns]
 
     @staticmethod
     def nullable(values: NDArray[np.float64]) -> Any:
@@ -215,10 +214,10 @@ class _Json:
     nullable = floats  # NaN is written as null
 
     @staticmethod
-    def rows(matrix: NDArray[np.float64]) -> list[Any]:
-        """Each row of a 2-D array, as ``floats`` gives it."""
+    def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
+        """Several arrays of one length, each as ``floats`` gives it."""
         dumps, option = orjson.dumps, orjson.OPT_SERIALIZE_NUMPY
-        return [msgspec.Raw(dumps(row, option=option)) for row in np.ascontiguousarray(matrix)]
+        return [msgspec.Raw(dumps(np.ascontiguousarray(c), option=option)) for c in columns]
 
     @staticmethod
     def regime(laminar: int, turbulent: int) -> Any:
@@ -235,39 +234,45 @@ def _msgpack_header(count: int) -> bytes:
     return b"\xdd" + count.to_bytes(4, "big")
 
 
+#: A MessagePack float 64: the 0xcb marker, then the value as eight big-endian bytes.
+_PACKED_FLOAT = np.dtype([("marker", "u1"), ("value", ">f8")])
+
+
+def _packed(values: NDArray[np.float64] | list[NDArray[np.float64]]) -> NDArray[np.void]:
+    """Values (a 1-D array, or several of one length as rows) as packed float 64s."""
+    out = np.empty(np.shape(values), dtype=_PACKED_FLOAT)
+    out["marker"] = 0xCB
+    out["value"] = values
+    return out
+
+
 class _Msgpack:
     """Station arrays as MessagePack fragments (the bytes msgspec writes for the lists:
     every float as a float 64, 0xcb and eight big-endian bytes; None as nil, 0xc0)."""
 
     @staticmethod
     def floats(values: NDArray[np.float64]) -> Any:
-        packed = np.empty((values.size, 9), dtype=np.uint8)
-        packed[:, 0] = 0xCB
-        packed[:, 1:] = values.astype(">f8").view(np.uint8).reshape(-1, 8)
-        return msgspec.Raw(_msgpack_header(values.size) + packed.tobytes())
+        return msgspec.Raw(_msgpack_header(values.size) + _packed(values).tobytes())
 
     @staticmethod
-    def rows(matrix: NDArray[np.float64]) -> list[Any]:
-        """Each row of a 2-D array, as ``floats`` gives it (packed all at once)."""
-        count, n = matrix.shape
-        packed = np.empty((count, n, 9), dtype=np.uint8)
-        packed[:, :, 0] = 0xCB
-        packed[:, :, 1:] = matrix.astype(">f8").view(np.uint8).reshape(count, n, 8)
-        header = _msgpack_header(n)
-        return [msgspec.Raw(header + row.tobytes()) for row in packed]
+    def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
+        """Several arrays of one length, each as ``floats`` gives it (packed together)."""
+        header = _msgpack_header(columns[0].size)
+        return [msgspec.Raw(header + row.tobytes()) for row in _packed(columns)]
 
     @staticmethod
     def nullable(values: NDArray[np.float64]) -> Any:
         """NaN entries become nil."""
         missing = np.isnan(values)
-        if not missing.any():
-            return _Msgpack.floats(values)
-        packed = np.empty((values.size, 9), dtype=np.uint8)
-        packed[:, 0] = np.where(missing, 0xC0, 0xCB)
-        packed[:, 1:] = values.astype(">f8").view(np.uint8).reshape(-1, 8)
-        kept = np.ones(packed.shape, dtype=bool)
-        kept[missing, 1:] = False
-        return msgspec.Raw(_msgpack_header(values.size) + packed[kept].tobytes())
+        packed = _packed(values)
+        if missing.any():
+            packed["marker"][missing] = 0xC0
+            kept = np.ones((values.size, 9), dtype=bool)
+            kept[missing, 1:] = False  # nil is the marker alone
+            body = packed.view(np.uint8).reshape(-1, 9)[kept].tobytes()
+        else:
+            body = packed.tobytes()
+        return msgspec.Raw(_msgpack_header(values.size) + body)
 
     @staticmethod
     def regime(laminar: int, turbulent: int) -> Any:
@@ -351,7 +356,7 @@ def _side(
     ]
     if side.x is not None and side.y is not None:
         columns += [side.x[:keep], side.y[:keep]]
-    rows: list[Any] = arrays.rows(np.stack(columns))
+    rows = arrays.rows(columns)
     s, ue, theta, delta_star, shape_factor, re_theta, delta99 = rows[:7]
     x, y = rows[7:] if len(rows) == 9 else (None, None)
     return Side(

@@ -54,9 +54,9 @@ def test_fragments_take_strided_arrays() -> None:
 @pytest.mark.parametrize("n", [0, 1, 16, 300])
 @pytest.mark.parametrize("fragments", [_Lists, _Json, _Msgpack])
 def test_rows_equal_each_row_on_its_own(n: int, fragments: type) -> None:
-    matrix = np.stack([_values(n), -_values(n), _values(n) * 1e-9])
-    rows = fragments.rows(matrix)
+    columns = [_values(n), -_values(n), _values(n)[::-1] * 1e-9]
+    rows = fragments.rows(columns)
     assert len(rows) == 3
-    for row, values in zip(rows, matrix, strict=True):
+    for row, values in zip(rows, columns, strict=True):
         expected = fragments.floats(values)
         assert (bytes(row) == bytes(expected)) if fragments is not _Lists else row == expected
