@@ -7,8 +7,9 @@ is answered at once with 503 and ``Retry-After``.  Admission is counted without
 yielding to the event loop, so a burst of simultaneous requests cannot slip past
 the bound together.
 
-The time limit covers waiting and running.  An analysis that timed out, or whose
-client has gone away, is dropped if it has not started; one that has started cannot be
+The time limit covers waiting and running.  An analysis that timed out, or that had to
+wait for a thread and whose client has gone away meanwhile, is dropped if it has not
+started; one that has started cannot be
 interrupted inside its thread, so it finishes in the background while still holding its
 thread and its place in the count: a worker flooded with slow cases sheds load instead of
 piling up threads.
@@ -25,8 +26,6 @@ import threading
 from collections.abc import Awaitable, Callable
 from concurrent.futures import Future, ThreadPoolExecutor
 from typing import Any, TypeVar
-
-import anyio
 
 from service.config import Settings
 from service.errors import CLIENT_CLOSED, OVERLOADED, TIME_LIMIT, ProblemError
@@ -73,10 +72,9 @@ class Runner:
         worker behind on its queue does not spend itself on answers nobody will read.
         """
         with self._lock:
-            if self._pending >= self.capacity:
-                admitted = False
-            else:
-                admitted = True
+            waiting = self._pending  # analyses ahead of this one, running or waiting
+            admitted = waiting < self.capacity
+            if admitted:
                 self._pending += 1
         if not admitted:
             raise ProblemError(
@@ -90,17 +88,12 @@ class Runner:
             self._finished()
             raise
         future.add_done_callback(self._finished)
-        limit = self.settings.time_limit_s
+        # Only an analysis that has to wait for a thread is worth watching the client for.
+        queued = waiting >= self.settings.compute_threads
         try:
-            with anyio.fail_after(limit):
-                return await _first(asyncio.wrap_future(future), gone)
-        except TimeoutError:
-            raise ProblemError(
-                TIME_LIMIT,
-                f"The analysis did not finish within {limit:g} s; retry later, or send "
-                "fewer cases or points per request.",
-                headers={"Retry-After": str(max(1, math.ceil(limit)))},
-            ) from None
+            return await _first(
+                asyncio.wrap_future(future), gone if queued else None, self.settings.time_limit_s
+            )
         finally:
             future.cancel()  # no effect once it has started: it then runs to its end
 
@@ -109,18 +102,33 @@ class Runner:
         self._pool.shutdown(wait=False, cancel_futures=True)
 
 
-async def _first(answer: asyncio.Future[T], gone: Callable[[], Awaitable[object]] | None) -> T:
-    """The answer, unless ``gone`` returns first: then the answer is cancelled (which drops
-    the analysis if it has not started) and ``ProblemError`` (``CLIENT_CLOSED``) raised."""
-    if gone is None:
-        return await answer
-    watcher = asyncio.ensure_future(gone())
-    both: set[asyncio.Future[Any]] = {answer, watcher}
+async def _first(
+    answer: asyncio.Future[T], gone: Callable[[], Awaitable[object]] | None, limit: float
+) -> T:
+    """The answer within ``limit`` seconds, unless ``gone`` returns first.
+
+    Raises ``ProblemError``: ``TIME_LIMIT`` (503) when the limit passes first,
+    ``CLIENT_CLOSED`` when ``gone`` returns first.  Either way the answer is cancelled, which
+    drops the analysis if it has not started.
+    """
+    waiters: set[asyncio.Future[Any]] = {answer}
+    watcher = None
+    if gone is not None:
+        watcher = asyncio.ensure_future(gone())
+        waiters.add(watcher)
     try:
-        await asyncio.wait(both, return_when=asyncio.FIRST_COMPLETED)
-        if answer.done():
+        done, _ = await asyncio.wait(waiters, timeout=limit, return_when=asyncio.FIRST_COMPLETED)
+        if answer in done:
             return answer.result()
-        raise ProblemError(CLIENT_CLOSED, "The client closed the connection first.")
+        if watcher is not None and watcher in done:
+            raise ProblemError(CLIENT_CLOSED, "The client closed the connection first.")
+        raise ProblemError(
+            TIME_LIMIT,
+            f"The analysis did not finish within {limit:g} s; retry later, or send fewer "
+            "cases or points per request.",
+            headers={"Retry-After": str(max(1, math.ceil(limit)))},
+        )
     finally:
-        watcher.cancel()
+        if watcher is not None:
+            watcher.cancel()
         answer.cancel()  # no effect once done; drops the analysis if it has not started

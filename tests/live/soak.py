@@ -458,6 +458,12 @@ def main() -> int:
         try:
             server.wait_ready()
             return run(server, folder, args)
+        except (subprocess.CalledProcessError, subprocess.TimeoutExpired) as exc:
+            state = "running" if server.process.poll() is None else "stopped"
+            log = server.log.read_text(errors="replace")[-4000:]
+            print(f"FAIL: wrk did not complete ({exc}); the server is {state}", file=sys.stderr)
+            print(f"server log (end):\n{log}", file=sys.stderr)
+            return 1
         finally:
             code = server.stop()
             print(f"server stopped (exit status {code})")
