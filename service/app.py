@@ -53,7 +53,7 @@ from service.errors import (
     ProblemError,
     ProblemKind,
 )
-from service.metrics import CONTENT_TYPE, exposition, mark_worker_stopped, prometheus_config
+from service.metrics import CONTENT_TYPE, RequestMetrics, exposition, mark_worker_stopped
 from service.openapi import CAUTION, ServiceJsonRenderPlugin
 from service.runner import Runner
 from service.wire import BatchRequest, BatchResponse, Health, Problem
@@ -327,7 +327,7 @@ def create_app(settings: Settings | None = None) -> Litestar:
         route_handlers=[AnalysesController, list_methods, HealthController, metrics],
         exception_handlers=EXCEPTION_HANDLERS,  # type: ignore[arg-type]
         request_max_body_size=settings.max_body_bytes,
-        middleware=[prometheus_config().middleware],
+        middleware=[RequestMetrics],
         openapi_config=OpenAPIConfig(
             title="ibl",
             version=ibl.__version__,

@@ -212,15 +212,38 @@ def test_not_ready_when_the_start_up_analysis_fails(
     assert response.headers["retry-after"] == "1"
 
 
-def test_metrics_count_requests_by_route(client: TestClient[Any]) -> None:
-    post_json(client, "/v1/analyses", plate())
-    client.get("/health/live")
+def _samples(client: TestClient[Any]) -> dict[tuple[str, str, str], float]:
+    """Metric samples by (name, path, status); counters are process-wide, so tests compare."""
     response = client.get("/metrics")
     assert response.status_code == 200
     assert response.headers["content-type"].startswith("text/plain")
-    lines = [line for line in response.text.splitlines() if line.startswith("ibl_requests_total{")]
-    assert any('path="/v1/analyses"' in line and 'status_code="200"' in line for line in lines)
-    assert any('path="/health/live"' in line for line in lines)
+    samples = {}
+    for name, labels, value in re.findall(r"^(\w+)\{([^}]*)\} (\S+)$", response.text, re.M):
+        path = re.search(r'path="([^"]*)"', labels)
+        status = re.search(r'status_code="([^"]*)"', labels)
+        key = (name, path.group(1) if path else "", status.group(1) if status else "")
+        samples[key] = float(value)
+    return samples
+
+
+def test_metrics_count_requests_by_route(client: TestClient[Any]) -> None:
+    before = _samples(client)
+    post_json(client, "/v1/analyses", plate())
+    post_json(client, "/v1/analyses", plate())
+    client.post("/v1/analyses", content=b"{", headers={"content-type": "application/json"})
+    client.get("/health/live")
+    after = _samples(client)
+
+    def added(name: str, path: str, status: str = "") -> float:
+        key = (name, path, status)
+        return after.get(key, 0.0) - before.get(key, 0.0)
+
+    assert added("ibl_requests_total", "/v1/analyses", "200") == 2
+    assert added("ibl_requests_total", "/v1/analyses", "400") == 1  # problems keep their status
+    assert added("ibl_requests_total", "/health/live", "200") == 1
+    assert added("ibl_request_duration_seconds_count", "/v1/analyses", "200") == 2
+    assert not any(path == "/metrics" for _, path, _ in after)  # the scrape is not counted
+    assert after[("ibl_requests_in_progress", "/v1/analyses", "")] == 0
 
 
 # --------------------------------------------------------------------------- OpenAPI
