@@ -11,6 +11,7 @@ Contents
 from __future__ import annotations
 
 import math
+from concurrent.futures import ThreadPoolExecutor
 from typing import Any, Literal
 
 import msgspec
@@ -18,6 +19,7 @@ import numpy as np
 import orjson
 from numpy.typing import NDArray
 
+from ibl import march as march_module
 from ibl import mesh, transition, turbulent
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
@@ -43,6 +45,9 @@ CAUTION = (
     "or buildings depend on them, local codes and licensed engineering practice take "
     "precedence."
 )
+
+#: Cases per chunk when a large batch is pipelined (see ``run_batch``).
+PIPELINE_CASES = 128
 
 _JSON_DECODER = msgspec.json.Decoder(Case)
 _MSGPACK_DECODER = msgspec.msgpack.Decoder(Case)
@@ -120,16 +125,53 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
     the march's arrays, not lists: ``msgspec.json.encode`` (``msgspec.msgpack.encode``)
     then writes the same bytes as for the ``"list"`` result, several times faster, but the
     result is good for nothing else.
+
+    A batch of at least ``2 * PIPELINE_CASES`` cases is pipelined in chunks of that many
+    when the process may use two cores or more; the results are the same.
     """
     convert = _ARRAYS[arrays]
+    if len(cases) < 2 * PIPELINE_CASES or march_module.THREADS < 2:
+        prepared = _prepare_all(cases)
+        return _results(cases, prepared, march(_sides(prepared)), convert)
+    # Pipelined: one chunk marches in a thread, without the interpreter lock, while the
+    # next is prepared and the results of the one before are built.
+    results: list[Result | CaseError] = []
+    with ThreadPoolExecutor(1, thread_name_prefix="ibl-march") as pool:
+        behind = None
+        for start in range(0, len(cases), PIPELINE_CASES):
+            chunk = cases[start : start + PIPELINE_CASES]
+            prepared = _prepare_all(chunk)
+            marching = pool.submit(march_module.march_released, _sides(prepared))
+            if behind is not None:
+                results += _results(behind[0], behind[1], behind[2].result(), convert)
+            behind = (chunk, prepared, marching)
+        assert behind is not None
+        results += _results(behind[0], behind[1], behind[2].result(), convert)
+    return results
+
+
+def _prepare_all(cases: list[Case]) -> list[Prepared | CaseError]:
     prepared: list[Prepared | CaseError] = []
     for case in cases:
         try:
             prepared.append(prepare(case))
         except CaseError as error:
             prepared.append(error)
-    sides = [side for p in prepared if isinstance(p, Prepared) for side in p.sides]
-    states = iter(march(sides)) if sides else iter(())
+    return prepared
+
+
+def _sides(prepared: list[Prepared | CaseError]) -> list[SideInput]:
+    return [side for p in prepared if isinstance(p, Prepared) for side in p.sides]
+
+
+def _results(
+    cases: list[Case],
+    prepared: list[Prepared | CaseError],
+    marched: list[SideState],
+    convert: _Converter,
+) -> list[Result | CaseError]:
+    """The result of each case from its marched sides (in order), or its error."""
+    states = iter(marched)
     results: list[Result | CaseError] = []
     for case, p in zip(cases, prepared, strict=True):
         if isinstance(p, CaseError):

@@ -29,7 +29,7 @@ from ibl import kernel
 from ibl.prepare import SideInput
 from ibl.turbulent import SKIN_FRICTION
 
-__all__ = ["SideState", "march"]
+__all__ = ["SideState", "march", "march_released"]
 
 F64 = NDArray[np.float64]
 
@@ -136,6 +136,8 @@ def march(sides: list[SideInput]) -> list[SideState]:
     Up to ``SIDES_PER_THREAD`` sides per thread, all in one kernel call; more are split
     into one call per thread (the results do not depend on the split).
     """
+    if not sides:
+        return []
     threads = min(THREADS, len(sides) // SIDES_PER_THREAD)
     if threads < 2:
         return _march(sides)
@@ -144,6 +146,12 @@ def march(sides: list[SideInput]) -> list[SideState]:
     with ThreadPoolExecutor(threads, thread_name_prefix="ibl-march") as pool:
         parts = pool.map(functools.partial(_march, compute=kernel.march_sides_nogil), chunks)
         return [state for part in parts for state in part]
+
+
+def march_released(sides: list[SideInput]) -> list[SideState]:
+    """``march`` in one kernel call that releases the interpreter lock: for a thread of the
+    caller's that runs beside Python work."""
+    return _march(sides, compute=kernel.march_sides_nogil) if sides else []
 
 
 def _march(

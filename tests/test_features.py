@@ -180,3 +180,21 @@ def test_a_large_batch_split_between_threads_equals_single_runs(monkeypatch):
     batch = ibl.run_batch(cases)
     for case, together in zip(cases, batch, strict=True):
         assert together == ibl.run(case)
+
+
+def test_a_pipelined_batch_equals_single_runs(monkeypatch):
+    # A large batch is prepared, marched and built in chunks that overlap; bad cases among
+    # them must still fail alone and every result come out as it does on its own.
+    from ibl import analysis
+
+    monkeypatch.setattr(analysis, "PIPELINE_CASES", 3)
+    monkeypatch.setattr(analysis.march_module, "THREADS", 2)
+    reynolds = np.geomspace(1e4, 1e8, 10).tolist()
+    docs = [_plate(re, n=41 + 20 * (i % 3)) for i, re in enumerate(reynolds)]
+    docs[4]["pressure"]["edge_velocity"] = docs[4]["pressure"]["edge_velocity"][:-1]
+    cases = [ibl.parse_case(d) for d in docs]
+    batch = ibl.run_batch(cases)
+    assert isinstance(batch[4], ibl.CaseError)
+    for i, (case, together) in enumerate(zip(cases, batch, strict=True)):
+        if i != 4:
+            assert together == ibl.run(case)
