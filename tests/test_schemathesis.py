@@ -16,9 +16,13 @@ there by a check that the answer has one entry per case.
 
 from __future__ import annotations
 
+import subprocess
+import sys
+from pathlib import Path
 from typing import Any
 
 import hypothesis
+import pytest
 import schemathesis
 import schemathesis_hooks
 from schemathesis.generation import GenerationMode
@@ -56,3 +60,16 @@ def test_api_conforms_to_its_document(case: Any) -> None:
             else response.json()
         )
         assert len(answer["results"]) == len(case.body["cases"])
+
+
+@pytest.mark.slow
+def test_in_depth_against_a_live_server() -> None:
+    """``tests/live/schemathesis_deep.py``: ``ibl serve`` with two workers, every operation,
+    every check, positive and negative data, until the server has answered at least 10,000
+    requests; the script exits 0 only when schemathesis found no failure."""
+    script = Path(__file__).parent / "live" / "schemathesis_deep.py"
+    done = subprocess.run(
+        [sys.executable, str(script)], capture_output=True, text=True, timeout=1800, check=False
+    )
+    print(done.stdout[-3000:])
+    assert done.returncode == 0, done.stdout[-6000:] + done.stderr[-3000:]
