@@ -63,7 +63,7 @@ def reference_side(side: SideInput) -> dict[str, float]:
         theta2 = np.where(fine > 0.002 * s[-1], theta2 / u**6, stagnation)
     lam = theta2 * spline(fine, 1) / nu
     re_theta = u * np.sqrt(theta2) / nu
-    with np.errstate(divide="ignore"):
+    with np.errstate(divide="ignore", invalid="ignore"):  # Re_s = 0 at the first point
         margin = re_theta - transition.re_theta_transition_michel_1951(u * fine / nu)
     lsep = int(np.argmax(lam[1:] <= side.options.separation_lambda)) + 1
     tr = int(np.argmax(margin[1:] >= 0.0)) + 1
