@@ -11,7 +11,7 @@ Contents
 from __future__ import annotations
 
 import math
-from concurrent.futures import ThreadPoolExecutor
+from concurrent.futures import Future, ThreadPoolExecutor
 from typing import Any, Literal
 
 import msgspec
@@ -137,16 +137,16 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
     # next is prepared and the results of the one before are built.
     results: list[Result | CaseError] = []
     with ThreadPoolExecutor(1, thread_name_prefix="ibl-march") as pool:
-        behind = None
+        behind = None  # the chunk before: its cases, their preparation, its march
         for start in range(0, len(cases), PIPELINE_CASES):
             chunk = cases[start : start + PIPELINE_CASES]
             prepared = _prepare_all(chunk)
             marching = pool.submit(march_module.march_released, _sides(prepared))
             if behind is not None:
-                results += _results(behind[0], behind[1], behind[2].result(), convert)
+                results += _results(*behind, convert)
             behind = (chunk, prepared, marching)
         assert behind is not None
-        results += _results(behind[0], behind[1], behind[2].result(), convert)
+        results += _results(*behind, convert)
     return results
 
 
@@ -167,11 +167,12 @@ def _sides(prepared: list[Prepared | CaseError]) -> list[SideInput]:
 def _results(
     cases: list[Case],
     prepared: list[Prepared | CaseError],
-    marched: list[SideState],
+    marched: list[SideState] | Future[list[SideState]],
     convert: _Converter,
 ) -> list[Result | CaseError]:
-    """The result of each case from its marched sides (in order), or its error."""
-    states = iter(marched)
+    """The result of each case from its marched sides (in order, or their future), or its
+    error."""
+    states = iter(marched.result() if isinstance(marched, Future) else marched)
     results: list[Result | CaseError] = []
     for case, p in zip(cases, prepared, strict=True):
         if isinstance(p, CaseError):
@@ -222,12 +223,8 @@ class _Lists:
     """Station arrays as Python lists."""
 
     @staticmethod
-    def floats(values: NDArray[np.float64]) -> Any:
-        return values.tolist()
-
-    @staticmethod
     def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
-        """Several arrays of one length, each as ``floats`` gives it."""
+        """Each of several arrays of one length."""
         return [column.tolist() for column in columns]
 
     @staticmethod
@@ -247,19 +244,15 @@ class _Json:
     """Station arrays as JSON fragments (the same text msgspec writes for the lists)."""
 
     @staticmethod
-    def floats(values: NDArray[np.float64]) -> Any:
-        """Finite values only: JSON has no NaN (orjson would write null)."""
-        return msgspec.Raw(
-            orjson.dumps(np.ascontiguousarray(values), option=orjson.OPT_SERIALIZE_NUMPY)
-        )
-
-    nullable = floats  # NaN is written as null
-
-    @staticmethod
     def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
-        """Several arrays of one length, each as ``floats`` gives it."""
+        """Each of several arrays of one length (finite values: orjson writes NaN as null)."""
         dumps, option = orjson.dumps, orjson.OPT_SERIALIZE_NUMPY
         return [msgspec.Raw(dumps(np.ascontiguousarray(c), option=option)) for c in columns]
+
+    @staticmethod
+    def nullable(values: NDArray[np.float64]) -> Any:
+        """NaN entries become null (as orjson writes them)."""
+        return _Json.rows([values])[0]
 
     @staticmethod
     def regime(laminar: int, turbulent: int) -> Any:
@@ -293,12 +286,8 @@ class _Msgpack:
     every float as a float 64, 0xcb and eight big-endian bytes; None as nil, 0xc0)."""
 
     @staticmethod
-    def floats(values: NDArray[np.float64]) -> Any:
-        return msgspec.Raw(_msgpack_header(values.size) + _packed(values).tobytes())
-
-    @staticmethod
     def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
-        """Several arrays of one length, each as ``floats`` gives it (packed together)."""
+        """Each of several arrays of one length (packed together)."""
         header = _msgpack_header(columns[0].size)
         return [msgspec.Raw(header + row.tobytes()) for row in _packed(columns)]
 
@@ -434,8 +423,6 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
             FirstCell(y_plus=y_plus, height=height, s=s_i, x=x, y=y)
             for y_plus, height in zip(side.options.y_plus, heights.tolist(), strict=True)
         ]
-    i_thick = state.max_delta99_index
-    i_ratio = state.max_eddy_viscosity_ratio_index
     if state.count == 0:  # not one finite station (see SideState.cut_non_finite)
         nan = math.nan
         return MeshAdvice(
@@ -445,6 +432,8 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
             max_eddy_viscosity_ratio=nan,
             max_eddy_viscosity_ratio_s=nan,
         )
+    i_thick = state.max_delta99_index
+    i_ratio = state.max_eddy_viscosity_ratio_index
     return MeshAdvice(
         first_cell=cells,
         max_thickness=float(state.delta99[i_thick]),

@@ -37,7 +37,7 @@ def _with_none(values: np.ndarray) -> list[float | None]:
 )
 def test_fragments_equal_the_encoded_lists(n: int, fragments: type, module) -> None:
     values = _values(n)
-    assert bytes(fragments.floats(values)) == module.encode(values.tolist())
+    assert bytes(fragments.rows([values])[0]) == module.encode(values.tolist())
     gappy = values.copy()
     gappy[::3] = np.nan
     assert bytes(fragments.nullable(gappy)) == module.encode(_with_none(gappy))
@@ -47,8 +47,8 @@ def test_fragments_equal_the_encoded_lists(n: int, fragments: type, module) -> N
 
 def test_fragments_take_strided_arrays() -> None:
     values = _values(40)[::2]
-    assert bytes(_Json.floats(values)) == msgspec.json.encode(values.tolist())
-    assert bytes(_Msgpack.floats(values)) == msgspec.msgpack.encode(values.tolist())
+    assert bytes(_Json.rows([values])[0]) == msgspec.json.encode(values.tolist())
+    assert bytes(_Msgpack.rows([values])[0]) == msgspec.msgpack.encode(values.tolist())
 
 
 @pytest.mark.parametrize("n", [0, 1, 16, 300])
@@ -58,5 +58,5 @@ def test_rows_equal_each_row_on_its_own(n: int, fragments: type) -> None:
     rows = fragments.rows(columns)
     assert len(rows) == 3
     for row, values in zip(rows, columns, strict=True):
-        expected = fragments.floats(values)
+        expected = fragments.rows([values])[0]
         assert (bytes(row) == bytes(expected)) if fragments is not _Lists else row == expected
