@@ -124,15 +124,25 @@ async def _run(request: Request[Any, Any, Any], job: Callable[[], bytes]) -> byt
     return await runner.run(job, functools.partial(_client_gone, request))
 
 
-def _formats(request: Request[Any, Any, Any]) -> tuple[codec.BodyFormat, codec.BodyFormat]:
-    """The format of the request body (``Content-Type``) and of the answer (``Accept``)."""
-    headers = request.headers
-    accept = ", ".join(headers.getall("accept", [])) or None
-    return codec.request_format(headers.get("content-type")), codec.response_format(accept)
+def _accept(request: Request[Any, Any, Any]) -> str | None:
+    """The ``Accept`` header, its repeats joined; None without one."""
+    return ", ".join(request.headers.getall("accept", [])) or None
 
 
-def _answer(body: bytes, fmt: codec.BodyFormat) -> Response[bytes]:
-    return Response(body, media_type=codec.BODY_MEDIA_TYPES[fmt], headers={"Vary": "Accept"})
+async def _analysis(
+    request: Request[Any, Any, Any], work_fn: Callable[..., bytes]
+) -> Response[bytes]:
+    """``work_fn(body, settings, content, answer)`` off the loop, in the formats the
+    ``Content-Type`` and ``Accept`` headers choose."""
+    content = codec.request_format(request.headers.get("content-type"))
+    answer = codec.response_format(_accept(request))
+    body = await _read_body(request)
+    job = functools.partial(work_fn, body, _runtime(request).settings, content, answer)
+    return Response(
+        await _run(request, job),
+        media_type=codec.BODY_MEDIA_TYPES[answer],
+        headers={"Vary": "Accept"},
+    )
 
 
 def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
@@ -188,11 +198,7 @@ class AnalysesController(Controller):
         },
     )
     async def analyse(self, request: Request[Any, Any, Any]) -> Response[bytes]:
-        runtime = _runtime(request)
-        content, answer = _formats(request)
-        body = await _read_body(request)
-        job = functools.partial(work.analyse, body, runtime.settings, content, answer)
-        return _answer(await _run(request, job), answer)
+        return await _analysis(request, work.analyse)
 
     @post(
         "/batch",
@@ -207,11 +213,7 @@ class AnalysesController(Controller):
         responses=_problems(*_BODY_PROBLEMS, INVALID_REQUEST),
     )
     async def analyse_batch(self, request: Request[Any, Any, Any]) -> Response[bytes]:
-        runtime = _runtime(request)
-        content, answer = _formats(request)
-        body = await _read_body(request)
-        job = functools.partial(work.analyse_batch, body, runtime.settings, content, answer)
-        return _answer(await _run(request, job), answer)
+        return await _analysis(request, work.analyse_batch)
 
     @post(
         "/figure",
@@ -231,7 +233,7 @@ class AnalysesController(Controller):
     )
     async def figure(self, request: Request[Any, Any, Any]) -> Response[bytes]:
         runtime = _runtime(request)
-        fmt = codec.figure_format(", ".join(request.headers.getall("accept", [])) or None)
+        fmt = codec.figure_format(_accept(request))
         content = codec.request_format(request.headers.get("content-type"))
         body = await _read_body(request)
         job = functools.partial(work.figure, body, runtime.settings, fmt, content)

@@ -195,7 +195,6 @@ def time_batch(
         body = json.dumps(doc).encode()
         media = "application/json"
     best = math.inf
-    entries = received = 0
     with httpx.Client(timeout=120.0) as client:
         for _ in range(repeats):
             start = time.perf_counter()
@@ -206,10 +205,9 @@ def time_batch(
             )
             best = min(best, time.perf_counter() - start)
             response.raise_for_status()
-            received = len(response.content)
-            decode = msgspec.msgpack.decode if fmt == "msgpack" else msgspec.json.decode
-            entries = len(decode(response.content)["results"])
-    return best, len(body), received, entries
+    decode = msgspec.msgpack.decode if fmt == "msgpack" else msgspec.json.decode
+    entries = len(decode(response.content)["results"])
+    return best, len(body), len(response.content), entries
 
 
 def main() -> int:
