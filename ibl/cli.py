@@ -160,7 +160,8 @@ def summary(result: dict[str, Any]) -> str:
     if stag:
         lines.append(
             f"Stagnation point: x = {_fmt(stag['x'])}, y = {_fmt(stag['y'])} "
-            f"(between input points, at index {stag['position']:.2f})"
+            f"({_fmt(stag['s'])} along the contour from its first point, at index "
+            f"{stag['position']:.2f} of the input points)"
         )
     options = result["options"]
     lines.append(

@@ -54,6 +54,20 @@ REPEAT_TOLERANCE = 1e-10
 #: above, the data hold no stagnation point and the sides start as from a sharp edge.
 STAGNATION_UE = 0.05
 STAGNATION_COARSE = 0.5
+#: Values of q = (Ue/U_inf)^2 within this of each other at a minimum are one plateau of the
+#: stagnation value (Cp within 1e-6 of it: taps clipped to Cp = 1, or within rounding of it).
+PLATEAU_Q = 1e-6
+#: A stagnation plateau longer than this fraction of the contour is reported.
+PLATEAU_WARNING = 1e-3
+#: Points whose x differs by less than this fraction of the contour length tie for the most
+#: upstream point (a flat front face) of data without a stagnation point.
+TIE_TOLERANCE = 1e-7
+#: Points within this fraction of the contour length of the largest x are looked at for the
+#: rear point where the sides of a closed contour meet (see ``_rear_point``).
+REAR_TOLERANCE = 1e-3
+#: A contour whose ends are apart by at most its longest segment (times 1.5) and by less than
+#: this fraction of its length is a closed loop listed without repeating its first point.
+IMPLICIT_CLOSURE = 0.1
 
 
 @dataclass(frozen=True, slots=True)
@@ -228,6 +242,25 @@ def _check_length(
         )
 
 
+def _check_one_sign(ue: F64, problems: list[FieldProblem]) -> None:
+    """A single surface's signed edge velocity must not change sign: where it does, the
+    surface passes a stagnation point and the layer cannot march through it."""
+    signs = np.sign(ue[np.isfinite(ue)])
+    moving = np.flatnonzero(signs)
+    if moving.size and np.any(signs[moving] != signs[moving[0]]):
+        i = int(
+            np.flatnonzero(np.isfinite(ue))[moving[np.argmax(signs[moving] != signs[moving[0]])]]
+        )
+        problems.append(
+            FieldProblem(
+                f"/pressure/edge_velocity/{i}",
+                "the edge velocity changes sign here: the surface passes a stagnation point; "
+                "give a contour (x, y), which is split at its stagnation point, or start the "
+                "surface there",
+            )
+        )
+
+
 def _smooth(q: F64, s: F64, smoothing: float | str) -> tuple[F64, Notice]:
     """Smooth 1 - Cp (= (Ue/U_inf)^2 at M = 0) along the arc length with a smoothing spline."""
     from scipy.interpolate import make_smoothing_spline
@@ -337,6 +370,8 @@ def prepare(case: Case) -> Prepared:
         assert pressure.edge_velocity is not None
         p_values = _array(pressure.edge_velocity, "/pressure/edge_velocity", problems)
         p_pointer = "/pressure/edge_velocity"
+        if not contour:
+            _check_one_sign(p_values, problems)
     _check_length(p_values, n, p_pointer, "surface", problems)
     radius = None
     if case.body.radius is not None:
@@ -490,39 +525,106 @@ def _single_side(
     )
 
 
+# ----------------------------------------------------------------------------- contours
+
+
+def _closure(x: F64, y: F64, arc: F64) -> tuple[bool, bool]:
+    """Whether a contour is closed, and whether only implicitly: its last point does not
+    repeat its first, but the gap between them is no longer than its longest segment and
+    under ``IMPLICIT_CLOSURE`` of its length (a closed loop listed without the repeat)."""
+    total = float(arc[-1])
+    gap = float(np.hypot(x[-1] - x[0], y[-1] - y[0]))
+    if gap <= REPEAT_TOLERANCE * total:
+        return True, False
+    longest = float(np.max(np.diff(arc)))
+    implicit = (
+        x.size > MIN_POINTS and gap <= 1.5 * longest and gap <= IMPLICIT_CLOSURE * (total + gap)
+    )
+    return implicit, implicit
+
+
+def _rear_point(x: F64, y: F64, arc: F64) -> float:
+    """Fractional index (unwrapped) of the point where the sides of a closed contour meet:
+    the most downstream one.  Among the points within ``REAR_TOLERANCE`` of the contour
+    length of the largest x, those where the contour turns most (at least half the
+    sharpest turn) mark it: a trailing edge, or the two points either side of a cusp
+    that falls between points, or the two corners of a flat base; the meeting point is
+    the arc-length middle of the first and last of them.  The last point repeats the
+    first, and ``arc`` ends with the period."""
+    m = x.size - 1
+    total = float(arc[m])
+    best = int(np.argmax(x[:-1]))
+    lo = hi = best
+    limit = x[best] - REAR_TOLERANCE * total
+    while hi - lo < m - 1 and x[(lo - 1) % m] >= limit:
+        lo -= 1
+    while hi - lo < m - 1 and x[(hi + 1) % m] >= limit:
+        hi += 1
+    positions = np.arange(lo - 1, hi + 2)
+    px, py = x[positions % m], y[positions % m]
+    heading = np.arctan2(np.diff(py), np.diff(px))
+    turn = np.abs((np.diff(heading) + np.pi) % (2.0 * np.pi) - np.pi)  # at lo ... hi
+    sharp = np.flatnonzero(turn >= 0.5 * turn.max())
+    first, last = lo + int(sharp[0]), lo + int(sharp[-1])
+    if first == last:
+        return float(first)
+    period = float(arc[m])
+    run = np.arange(first, last + 1)
+    unwrapped = arc[run % m] + period * np.floor_divide(run, m)
+    middle = 0.5 * (unwrapped[0] + unwrapped[-1])
+    j = min(max(int(np.searchsorted(unwrapped, middle, side="right")) - 1, 0), run.size - 2)
+    return float(run[j] + (middle - unwrapped[j]) / (unwrapped[j + 1] - unwrapped[j]))
+
+
+def _rotate(columns: list[F64], start: float) -> tuple[list[F64], F64]:
+    """A closed contour (its last point repeats its first) listed from fractional index
+    ``start`` round to it again.  A start between two points becomes a point of its own,
+    its values interpolated linearly.  Returns the columns and each point's unwrapped
+    fractional index in the listing given."""
+    m = columns[0].size - 1
+    k = int(np.floor(start))
+    frac = start - k
+    if frac >= 1.0 - 1e-9:
+        k, frac = k + 1, 0.0
+    k %= m
+    indices = np.arange(k, k + m + 1)
+    rotated = [column[indices % m] for column in columns]
+    index = indices.astype(np.float64)
+    if frac > 1e-9:
+        # The inserted point, then points k + 1 ... k + m (= k), then the inserted point.
+        ends = [c[k] + frac * (c[(k + 1) % m] - c[k]) for c in columns]
+        rotated = [np.concatenate(([e], c[1:], [e])) for e, c in zip(ends, rotated, strict=True)]
+        index = np.concatenate(([k + frac], index[1:], [k + m + frac]))
+    return rotated, index
+
+
 @numba.njit(cache=True, error_model="numpy")
-def _local(arc: F64, q: F64, m: int, closed: bool, i: int, offset: int) -> tuple[float, float]:
-    """Arc length (relative to point i, unwrapped across the seam of a closed contour) and
-    q of the point ``offset`` places from point i; NaN outside an open contour."""
+def _point(arc: F64, q: F64, i: int, offset: int) -> tuple[float, float]:
+    """Arc length (relative to point i) and q of the point ``offset`` places from point i;
+    NaN beyond the ends."""
     j = i + offset
-    if not closed:
-        if j < 0 or j >= m:
-            return np.nan, np.nan
-        return arc[j] - arc[i], q[j]
-    period = arc[m]
-    wraps = (j - (j % m)) // m
-    j = j % m
-    return arc[j] - arc[i] + wraps * period, q[j]
+    if j < 0 or j >= q.size:
+        return np.nan, np.nan
+    return arc[j] - arc[i], q[j]
 
 
 @numba.njit(cache=True, error_model="numpy")
-def stagnation_models(
-    arc: F64, q: F64, closed: bool, i: int
-) -> tuple[float, float, float, float, float, float]:
+def stagnation_models(arc: F64, q: F64, i: int) -> tuple[float, float, float, float, float, float]:
     """Two local models of a stagnation point next to point i (a local minimum of q).
 
-    Returns (s0, slope, Ue at the vertex) of each model, relative to arc[i]:
+    Returns (s0, slope, Ue at the vertex) of each model, s0 relative to arc[i]:
 
     - parabola: q = a^2 (s - s0)^2 + q0 through points i-1, i, i+1: exact for Ue = a |s - s0|
       where the points resolve the stagnation region;
-    - V: the two secant lines of |Ue| on either side of the interval holding the minimum,
-      extended to where they meet: for coarse taps around a small nose radius.
+    - V: the secant line of |Ue| through points i-2, i-1 and the one through i+1, i+2,
+      extended to where they meet: for coarse taps round a small nose radius.  Point i
+      itself is left out, so that a tap that misses the stagnation value (a nose tap at
+      Cp 0.99) does not pull the vertex sideways, and symmetric data give a symmetric V.
 
     NaN where a model has no points or no minimum.
     """
-    m = q.size - 1 if closed else q.size
-    sm, qm = _local(arc, q, m, closed, i, -1)
-    sp, qp = _local(arc, q, m, closed, i, 1)
+    sm, qm = _point(arc, q, i, -1)
+    sp, qp = _point(arc, q, i, 1)
     p_s0 = p_slope = p_ue = np.nan
     if np.isfinite(sm) and np.isfinite(sp):
         h0, h1 = -sm, sp
@@ -535,55 +637,111 @@ def stagnation_models(
             p_slope = np.sqrt(c2)
             p_ue = np.sqrt(max(q[i] - 0.25 * c1 * c1 / c2, 0.0))
     v_s0 = v_slope = v_ue = np.nan
-    # The interval [j, j + 1] holding the minimum: towards the smaller neighbour.
-    first = 0 if (np.isfinite(qp) and (not np.isfinite(qm) or qp <= qm)) else -1
-    s_a, q_a = _local(arc, q, m, closed, i, first - 1)
-    s_b, q_b = _local(arc, q, m, closed, i, first)
-    s_c, q_c = _local(arc, q, m, closed, i, first + 1)
-    s_d, q_d = _local(arc, q, m, closed, i, first + 2)
-    if np.isfinite(s_a + s_b + s_c + s_d):
-        u_a, u_b, u_c, u_d = np.sqrt(q_a), np.sqrt(q_b), np.sqrt(q_c), np.sqrt(q_d)
-        left = (u_b - u_a) / (s_b - s_a)
-        right = (u_d - u_c) / (s_d - s_c)
+    s_a, q_a = _point(arc, q, i, -2)
+    s_d, q_d = _point(arc, q, i, 2)
+    if np.isfinite(s_a + sm + sp + s_d):
+        u_a, u_b, u_c, u_d = np.sqrt(q_a), np.sqrt(qm), np.sqrt(qp), np.sqrt(q_d)
+        left = (u_b - u_a) / (sm - s_a)
+        right = (u_d - u_c) / (s_d - sp)
         if left < 0.0 and right > 0.0:
-            zero_left = s_b - u_b / left
-            zero_right = s_c - u_c / right
-            meet = (u_c - u_b + left * s_b - right * s_c) / (left - right)
-            v_ue = max(u_b + left * (meet - s_b), 0.0)
-            v_s0 = min(max(0.5 * (zero_left + zero_right), s_b), s_c)
+            meet = (u_c - u_b + left * sm - right * sp) / (left - right)
+            v_s0 = min(max(meet, sm), sp)
+            v_ue = max(u_b + left * (v_s0 - sm), u_c + right * (v_s0 - sp), 0.0)
             v_slope = 0.5 * (right - left)
     return p_s0, p_slope, p_ue, v_s0, v_slope, v_ue
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _front_stagnation_index(arc: F64, x: F64, q: F64, closed: bool, ue_limit: float) -> int:
-    """Index of the point next to the front stagnation point.
+def _stagnation_candidates(
+    arc: F64, x: F64, q: F64, ends: bool, tol: float, ue_limit: float
+) -> tuple[int, int, float, float, float, float]:
+    """The front stagnation point: (first and last point of its run, s0, slope before,
+    slope after, Ue at the vertex); first = -1 when the data hold none.
 
-    Every local minimum of q = (Ue/U_inf)^2 where either local model
-    (``stagnation_models``) reaches Ue <= ``ue_limit`` is a stagnation point; where there
+    Every local minimum of q = (Ue/U_inf)^2 is a run of points within ``tol`` of each
+    other (one point, or a plateau of Cp at its stagnation value).  A run of one point
+    is modelled by ``stagnation_models``; a plateau, or a point at the stagnation value
+    itself (q <= ``tol``), puts the stagnation point at its arc-length middle, with the
+    slope of each side the secant to the first point beyond it.  Runs at the first or
+    last point count only where ``ends`` is set, and put the stagnation point at that end.
+    Every run whose vertex reaches Ue <= ``ue_limit`` is a stagnation point; where there
     are several (the front and rear stagnation points of a potential flow), the most
-    upstream one is the front one: the free stream is along +x.  Without any, the
-    smallest q.
+    upstream one is the front one: the free stream is along +x.
     """
-    m = q.size - 1 if closed else q.size
-    best = -1
-    smallest = 0
-    for i in range(m):
-        if q[i] < q[smallest]:
-            smallest = i
-        if not closed and (i == 0 or i == m - 1):
-            if q[i] <= ue_limit * ue_limit and (best < 0 or x[i] < x[best]):
-                best = i
+    n = q.size
+    best_a, best_b = -1, -1
+    best = (np.nan, np.nan, np.nan, np.nan)
+    best_x = np.inf
+    i = 0
+    while i < n:
+        if (i > 0 and q[i] > q[i - 1]) or (i < n - 1 and q[i] > q[i + 1]):
+            i += 1
             continue
-        qm = q[i - 1] if i > 0 else q[m - 1]
-        qp = q[i + 1] if i < m - 1 or not closed else q[0]
-        if q[i] > qm or q[i] > qp:
+        a, b = i, i
+        while a > 0 and q[a - 1] <= q[i] + tol:
+            a -= 1
+        while b < n - 1 and q[b + 1] <= q[i] + tol:
+            b += 1
+        i = b + 1
+        at_start, at_end = a == 0, b == n - 1
+        if at_start and at_end:
+            continue  # no minimum: the edge velocity is the same everywhere
+        if (at_start or at_end) and not ends:
             continue
-        _, _, p_ue, _, _, v_ue = stagnation_models(arc, q, closed, i)
-        stagnant = (p_ue <= ue_limit) or (v_ue <= ue_limit)
-        if stagnant and (best < 0 or x[i] < x[best]):
-            best = i
-    return best if best >= 0 else smallest
+        q_min = q[a]
+        for j in range(a, b + 1):
+            q_min = min(q_min, q[j])
+        if at_start or at_end:
+            e = a if at_start else b
+            o = b + 1 if at_start else a - 1
+            s0 = arc[e]
+            slope = np.sqrt(q[o]) / abs(arc[o] - s0)
+            model = (s0, slope, slope, np.sqrt(q_min))
+        elif a < b or q_min <= tol:
+            s0 = 0.5 * (arc[a] + arc[b])
+            model = (
+                s0,
+                np.sqrt(q[a - 1]) / (s0 - arc[a - 1]),
+                np.sqrt(q[b + 1]) / (arc[b + 1] - s0),
+                np.sqrt(q_min),
+            )
+        else:
+            # Near stagnation Ue = a |S - S0|: the parabola in q where it reaches zero, else
+            # the V of |Ue| (coarse taps round a small nose radius), else the point itself.
+            p_s0, p_slope, p_ue, v_s0, v_slope, v_ue = stagnation_models(arc, q, a)
+            use_v = not p_ue <= STAGNATION_UE and v_ue <= max(p_ue, STAGNATION_UE)
+            if use_v:
+                model = (arc[a] + v_s0, v_slope, v_slope, v_ue)
+            elif np.isfinite(p_s0):
+                model = (arc[a] + p_s0, p_slope, p_slope, p_ue)
+            else:
+                model = (arc[a], np.nan, np.nan, np.sqrt(q[a]))
+        if not model[3] <= ue_limit:
+            continue
+        j = min(max(np.searchsorted(arc, model[0]) - 1, 0), n - 2)
+        frac = (model[0] - arc[j]) / (arc[j + 1] - arc[j])
+        x0 = x[j] + min(max(frac, 0.0), 1.0) * (x[j + 1] - x[j])
+        if x0 < best_x:
+            best_x, best_a, best_b, best = x0, a, b, model
+    return best_a, best_b, best[0], best[1], best[2], best[3]
+
+
+def _axis_point(x: F64, y: F64, r: F64, arc: F64, closed: bool, radius_from_y: bool) -> float:
+    """Arc length of the most upstream point where the body of revolution meets its axis
+    (radius 0, or y changing sign when the radius is |y|) inside the contour, or NaN."""
+    total = float(arc[-1])
+    inner = slice(1, -1) if closed else slice(None)
+    candidates = []
+    on_axis = np.flatnonzero(r[inner] <= REPEAT_TOLERANCE * total) + (1 if closed else 0)
+    candidates += [(float(x[i]), float(arc[i])) for i in on_axis.tolist()]
+    if radius_from_y:
+        cross = np.flatnonzero(y[:-1] * y[1:] < 0.0)
+        for i in cross.tolist():
+            t = y[i] / (y[i] - y[i + 1])
+            candidates.append(
+                (float(x[i] + t * (x[i + 1] - x[i])), float(arc[i] + t * (arc[i + 1] - arc[i])))
+            )
+    return min(candidates)[1] if candidates else float("nan")
 
 
 def _split_contour(
@@ -600,102 +758,146 @@ def _split_contour(
     warnings: list[Notice],
     radius_from_y: bool = False,
 ) -> tuple[list[SideInput], Stagnation]:
-    """Locate the stagnation point between points and split the contour into two sides."""
-    n = arc.size
+    """Locate the stagnation point between points and split the contour into its sides.
+
+    A closed contour (see ``_closure``) is first listed from the point where its sides
+    meet, the most downstream point (the trailing edge or rear point; the middle of a
+    flat base), so that the sides and events do not depend on where the list starts.
+    The sides then run from the stagnation point both ways round to that point; on an
+    open contour they run to its first and last points.
+    """
+    n_in = arc.size
+    arc_in, x_in, y_in = arc, x, y
+    closed, implicit = _closure(x, y, arc)
+    columns = [x, y, q] + ([radius] if radius is not None else [])
+    if implicit:
+        columns = [np.append(c, c[0]) for c in columns]
+    index = np.arange(columns[0].size, dtype=np.float64)
+    if closed:
+        cx = columns[0]
+        cycle_arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(cx), np.diff(columns[1])))))
+        rear = _rear_point(cx, columns[1], cycle_arc)
+        columns, index = _rotate(columns, rear)
+    x, y, q = columns[:3]
+    radius = columns[3] if radius is not None else None
+    n = x.size
+    arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
     total = float(arc[-1])
-    closed = bool(np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * total)
-    k = int(_front_stagnation_index(arc, x, q, closed, STAGNATION_COARSE))
-    shift = 0
-    if closed and k in (0, n - 1):
-        # A closed contour listed from its stagnation point: start it half-way round instead.
-        shift = (n - 1) // 2
-        order = np.concatenate((np.arange(shift, n - 1), np.arange(0, shift + 1)))
-        x, y, q = x[order], y[order], q[order]
-        radius = radius[order] if radius is not None else None
-        arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
-        k = int(np.flatnonzero(order == (k % (n - 1)))[0])
-    if 0 < k < n - 1:
-        # Near stagnation Ue = a |S - S0|: the parabola in q where it reaches zero, else the
-        # V of |Ue| (coarse taps around a small nose radius), else the closer of the two.
-        p_s0, p_slope, p_ue, v_s0, v_slope, v_ue = stagnation_models(arc, q, False, k)
-        use_v = not p_ue <= STAGNATION_UE and v_ue <= max(p_ue, STAGNATION_UE)
-        if use_v:
-            s0, slope, ue_vertex = float(arc[k] + v_s0), float(v_slope), float(v_ue)
-        elif np.isfinite(p_s0):
-            s0, slope, ue_vertex = float(arc[k] + p_s0), float(p_slope), float(p_ue)
-        else:
-            s0, slope, ue_vertex = float(arc[k]), float("nan"), float(np.sqrt(q[k]))
-        q_vertex = ue_vertex**2
-    else:
-        s0 = float(arc[k])
-        j = 1 if k == 0 else n - 2
-        slope = float(np.sqrt(q[j]) / abs(arc[j] - s0))
-        q_vertex = float(q[k])
-    if not slope > 0.0:
-        # No curvature to fit (a plateau of clipped Cp = 1): the slope from the nearest
-        # point that moves.
-        moving = np.flatnonzero(q > 1e-12)
-        if moving.size:
-            j = int(moving[np.argmin(np.abs(arc[moving] - s0))])
-            slope = float(np.sqrt(q[j]) / max(abs(arc[j] - s0), 1e-300))
-    ue_vertex = float(np.sqrt(max(q_vertex, 0.0)))
-    if ue_vertex > STAGNATION_COARSE:
+    tol = REPEAT_TOLERANCE * total
+
+    a, b, s0, slope_before, slope_after, ue_vertex = _stagnation_candidates(
+        arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
+    )
+    if a < 0:
+        # No stagnation point in the data: the sides start at the most upstream point as
+        # from a sharp leading edge (the middle of a flat front face).
+        a = b = int(np.argmin(x[:-1] if closed else x))
+        while a > 0 and x[a - 1] <= x[b] + TIE_TOLERANCE * total:
+            a -= 1
+        while b < n - 1 and x[b + 1] <= x[a] + TIE_TOLERANCE * total:
+            b += 1
+        s0 = 0.5 * (arc[a] + arc[b])
+        ue_vertex = float(np.sqrt(np.min(q[a : b + 1])))
+        slope_before = slope_after = float("nan")
         warnings.append(
             Notice(
                 code="no_stagnation_point",
                 message="the edge velocity does not fall to zero in the data (smallest "
-                f"Ue/U_inf about {ue_vertex:.3g}); the sides start there as if from a sharp "
-                "leading edge",
+                f"Ue/U_inf about {np.sqrt(q.min()):.3g}); the sides start at the most "
+                "upstream point as if from a sharp leading edge",
                 pointer=p_pointer,
             )
         )
-        slope = float("nan")
     elif ue_vertex > STAGNATION_UE:
         warnings.append(
             Notice(
                 code="stagnation_point_unresolved",
                 message="the points do not resolve the stagnation region (Ue/U_inf "
-                f"extrapolated to {ue_vertex:.3g} there, not 0): its position and theta near "
-                "it are uncertain; more points near the nose help",
+                f"extrapolated to {ue_vertex:.3g} there, not 0): the sides start from the "
+                "located stagnation point with Ue rising linearly from 0 to the first points; "
+                "its position and theta near it are uncertain; more points near the nose help",
                 pointer=p_pointer,
             )
         )
-    # The stagnation point lies on the segment from point i0 to i0 + 1.
+    plateau = np.isfinite(slope_before) and (b > a or q[a] <= PLATEAU_Q)
+    if axisymmetric:
+        r_axis = radius if radius is not None else np.abs(y)
+        axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
+        if np.isfinite(axis) and abs(axis - s0) > tol:
+            spacing = float(np.max(np.diff(arc[max(a - 1, 0) : b + 2])))
+            if abs(axis - s0) > spacing:
+                warnings.append(
+                    Notice(
+                        code="stagnation_point_on_axis",
+                        message="the pressure data put the stagnation point "
+                        f"{abs(axis - s0):.3g} along the contour from the nose on the axis; "
+                        "on a body of revolution it lies on the axis, and is placed there",
+                        pointer=p_pointer,
+                    )
+                )
+            s0 = axis
+            plateau = False
+    if plateau and b > a and arc[b] - arc[a] > PLATEAU_WARNING * total:
+        warnings.append(
+            Notice(
+                code="stagnation_plateau",
+                message=f"{b - a + 1} points hold the stagnation value of the pressure (within "
+                f"{PLATEAU_Q:g} in (Ue/U_inf)^2); the stagnation point is put at the "
+                "middle of the plateau and the sides start from it with Ue rising linearly to "
+                "the first points beyond it",
+                pointer=p_pointer,
+            )
+        )
+
+    # The stagnation point on the segment from point i0 to i0 + 1.
     i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
     frac = (s0 - arc[i0]) / (arc[i0 + 1] - arc[i0])
-    position = float(i0 + frac)
-    if shift:
-        position = (position + shift) % (n - 1)
     x0 = float(x[i0] + frac * (x[i0 + 1] - x[i0]))
     y0 = float(y[i0] + frac * (y[i0 + 1] - y[i0]))
     r0 = float(radius[i0] + frac * (radius[i0 + 1] - radius[i0])) if radius is not None else 1.0
     if axisymmetric and radius_from_y:
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
-    stagnation = Stagnation(x=x0, y=y0, position=position)
-    tol = 1e-9 * total
+    position = float(index[i0] + frac * (index[i0 + 1] - index[i0]))
+    if closed:
+        position %= n_in if implicit else n_in - 1
+    listed = np.append(arc_in, arc_in[-1] + float(np.hypot(x_in[-1] - x_in[0], y_in[-1] - y_in[0])))
+    along = float(np.interp(position, np.arange(listed.size), listed))
+    stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
+
     # Points before the stagnation point (walked backwards) and after it; a point within
-    # tol of it is the stagnation station itself.
-    last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
-    first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
+    # tol of it is the stagnation station itself, and the points of a plateau are left out.
+    if plateau:
+        last_before, first_after = a - 1, b + 1
+    else:
+        last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
+        first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
     branches = (
-        slice(last_before, None, -1) if last_before >= 0 else slice(0, 0),
-        slice(first_after, n),
+        np.arange(last_before, -1, -1, dtype=np.int64),
+        np.arange(first_after, n, dtype=np.int64),
     )
-    sizes = (max(last_before + 1, 0), n - first_after)
-    before, after = max(last_before + 1, 0), first_after
-    mean_y = (
-        float(y[:before].sum()) / before if before else -np.inf,
-        float(y[after:].sum()) / (n - after) if after < n else -np.inf,
-    )
-    upper_first = mean_y[0] >= mean_y[1]
-    start: Literal["stagnation", "sharp"] = "sharp" if np.isnan(slope) else "stagnation"
+    no_slope = np.isnan(slope_before)
+    start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
     ue = np.sqrt(q)
-    ue_start = 0.0 if start == "stagnation" else float(ue[k])
+    ue_start = float(np.sqrt(q[a : b + 1].min())) if no_slope else 0.0
+    names = _side_names(x, y, branches, closed, y0)
     sides: list[SideInput] = []
-    for index, (branch, size) in enumerate(zip(branches, sizes, strict=True)):
-        if size + 1 < MIN_POINTS:
+    for branch, name, slope in zip(branches, names, (slope_before, slope_after), strict=True):
+        if branch.size + 1 < MIN_POINTS:
             continue
-        name: Literal["upper", "lower"] = "upper" if (index == 0) == upper_first else "lower"
+        # A side ends where its edge velocity falls to zero again (another stagnation point).
+        zero = np.flatnonzero(q[branch[:-1]] <= PLATEAU_Q)
+        if zero.size:
+            branch = branch[: zero[0] + 1]
+            warnings.append(
+                Notice(
+                    code="edge_velocity_vanishes",
+                    message=f"{name}: the edge velocity falls to zero at s = "
+                    f"{abs(arc[branch[-1]] - s0):.4g} from the stagnation point (another "
+                    "stagnation point); the side ends there",
+                    pointer=f"{p_pointer}/{int(index[branch[-1]]) % max(n_in, 1)}",
+                )
+            )
+        size = branch.size
         side_s = np.empty(size + 1)
         side_s[0] = 0.0
         side_s[1:] = np.abs(arc[branch] - s0)
@@ -707,19 +909,14 @@ def _split_contour(
             r[0] = r0
             r[1:] = radius[branch]
         if axisymmetric:
-            zero = np.flatnonzero(r[1:-1] <= 0.0)
-            if zero.size:
-                i = int(np.arange(n)[branch][zero[0]])
+            zero_r = np.flatnonzero(r[1:-1] <= 0.0)
+            if zero_r.size:
+                i = int(index[branch[zero_r[0]]]) % n_in
+                pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
                 raise CaseError.at(
-                    f"/body/radius/{(i + shift) % (n - 1) if shift else i}",
+                    pointer,
                     "the body radius must be positive between the nose and the tail",
                 )
-        side_x = np.empty(size + 1)
-        side_x[0] = x0
-        side_x[1:] = x[branch]
-        side_y = np.empty(size + 1)
-        side_y[0] = y0
-        side_y[1:] = y[branch]
         sides.append(
             SideInput(
                 name=name,
@@ -727,12 +924,12 @@ def _split_contour(
                 offset=0.0,
                 ue=u,
                 r=r,
-                x=side_x,
-                y=side_y,
+                x=np.concatenate(([x0], x[branch])),
+                y=np.concatenate(([y0], y[branch])),
                 nu=nu,
                 axisymmetric=axisymmetric,
                 start=start,
-                slope=slope,
+                slope=slope_before if no_slope else float(slope),
                 theta0=0.0,
                 h0=float("nan"),
                 turbulent_start=False,
@@ -746,3 +943,28 @@ def _split_contour(
     if len(sides) == 2 and sides[0].name == sides[1].name:
         raise CaseError.at("/surface", "could not tell the upper side from the lower side")
     return sides, stagnation
+
+
+def _side_names(
+    x: F64,
+    y: F64,
+    branches: tuple[NDArray[np.int64], NDArray[np.int64]],
+    closed: bool,
+    y0: float,
+) -> tuple[Literal["upper", "lower"], Literal["upper", "lower"]]:
+    """Names of the side walked backwards from the stagnation point and of the one walked
+    forwards.  On a closed contour, by its orientation: walking round it counter-clockwise
+    from the front stagnation point goes over the lower side first.  Otherwise (or for a
+    contour without area) the side with the higher mean y is the upper one; a side alone
+    is the upper one unless it lies below the stagnation point."""
+    if closed:
+        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+        if abs(area) > 1e-12 * float(np.ptp(x) * np.ptp(y) + 1e-300):
+            return ("upper", "lower") if area > 0.0 else ("lower", "upper")
+    mean = [float(y[branch].mean()) if branch.size else np.nan for branch in branches]
+    if np.isnan(mean[1]) or np.isnan(mean[0]):
+        alone = mean[0] if np.isnan(mean[1]) else mean[1]
+        name: Literal["upper", "lower"] = "lower" if alone < y0 else "upper"
+        other: Literal["upper", "lower"] = "upper" if name == "lower" else "lower"
+        return (name, other) if np.isnan(mean[1]) else (other, name)
+    return ("upper", "lower") if mean[0] >= mean[1] else ("lower", "upper")

@@ -222,7 +222,16 @@ class Stagnation(Struct, frozen=True):
 
     x: float
     y: float
-    position: Annotated[float, Meta(description="Fractional index along the input points")]
+    s: Annotated[
+        float,
+        Meta(
+            description="Arc length along the input contour from its first point to the "
+            "stagnation point [length unit]"
+        ),
+    ]
+    position: Annotated[
+        float, Meta(description="The same place as a fractional index into the input points")
+    ]
 
 
 class TransitionEvent(Struct, frozen=True):
