@@ -857,9 +857,8 @@ def _split_contour(
     r0 = float(radius[i0] + frac * (radius[i0 + 1] - radius[i0])) if radius is not None else 1.0
     if axisymmetric and radius_from_y:
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
-    position = float(index[i0] + frac * (index[i0 + 1] - index[i0]))
-    if closed:
-        position %= n_in if implicit else n_in - 1
+    period = (n_in if implicit else n_in - 1) if closed else np.inf
+    position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
     listed = np.append(arc_in, arc_in[-1] + float(np.hypot(x_in[-1] - x_in[0], y_in[-1] - y_in[0])))
     along = float(np.interp(position, np.arange(listed.size), listed))
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
@@ -894,7 +893,7 @@ def _split_contour(
                     message=f"{name}: the edge velocity falls to zero at s = "
                     f"{abs(arc[branch[-1]] - s0):.4g} from the stagnation point (another "
                     "stagnation point); the side ends there",
-                    pointer=f"{p_pointer}/{int(index[branch[-1]]) % max(n_in, 1)}",
+                    pointer=f"{p_pointer}/{int(index[branch[-1]] % period)}",
                 )
             )
         size = branch.size
@@ -911,7 +910,7 @@ def _split_contour(
         if axisymmetric:
             zero_r = np.flatnonzero(r[1:-1] <= 0.0)
             if zero_r.size:
-                i = int(index[branch[zero_r[0]]]) % n_in
+                i = int(index[branch[zero_r[0]]] % period)
                 pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
                 raise CaseError.at(
                     pointer,
