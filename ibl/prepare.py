@@ -609,24 +609,29 @@ def _point(arc: F64, q: F64, i: int, offset: int) -> tuple[float, float]:
 
 
 @numba.njit(cache=True, error_model="numpy")
-def stagnation_models(arc: F64, q: F64, i: int) -> tuple[float, float, float, float, float, float]:
-    """Two local models of a stagnation point next to point i (a local minimum of q).
+def stagnation_models(
+    arc: F64, q: F64, a: int, b: int
+) -> tuple[float, float, float, float, float, float]:
+    """Two local models of a stagnation point at the run of points a to b (a local minimum
+    of q; one point when a == b, or points of equal q).
 
-    Returns (s0, slope, Ue at the vertex) of each model, s0 relative to arc[i]:
+    Returns (s0, slope, Ue at the vertex) of each model, s0 relative to arc[a]:
 
-    - parabola: q = a^2 (s - s0)^2 + q0 through points i-1, i, i+1: exact for Ue = a |s - s0|
-      where the points resolve the stagnation region;
-    - V: the secant line of |Ue| through points i-2, i-1 and the one through i+1, i+2,
-      extended to where they meet: for coarse taps round a small nose radius.  Point i
+    - parabola (one point i = a = b only): q = a^2 (s - s0)^2 + q0 through points i-1, i,
+      i+1: exact for Ue = a |s - s0| where the points resolve the stagnation region;
+    - V: the secant line of |Ue| through points a-2, a-1 and the one through b+1, b+2,
+      extended to where they meet: for coarse taps round a small nose radius.  The run
       itself is left out, so that a tap that misses the stagnation value (a nose tap at
       Cp 0.99) does not pull the vertex sideways, and symmetric data give a symmetric V.
 
     NaN where a model has no points or no minimum.
     """
-    sm, qm = _point(arc, q, i, -1)
-    sp, qp = _point(arc, q, i, 1)
+    sm, qm = _point(arc, q, a, -1)
+    sp, qp = _point(arc, q, b, 1)
+    sp += arc[b] - arc[a]
     p_s0 = p_slope = p_ue = np.nan
-    if np.isfinite(sm) and np.isfinite(sp):
+    if a == b and np.isfinite(sm) and np.isfinite(sp):
+        i = a
         h0, h1 = -sm, sp
         d0 = (q[i] - qm) / h0
         d1 = (qp - q[i]) / h1
@@ -637,8 +642,9 @@ def stagnation_models(arc: F64, q: F64, i: int) -> tuple[float, float, float, fl
             p_slope = np.sqrt(c2)
             p_ue = np.sqrt(max(q[i] - 0.25 * c1 * c1 / c2, 0.0))
     v_s0 = v_slope = v_ue = np.nan
-    s_a, q_a = _point(arc, q, i, -2)
-    s_d, q_d = _point(arc, q, i, 2)
+    s_a, q_a = _point(arc, q, a, -2)
+    s_d, q_d = _point(arc, q, b, 2)
+    s_d += arc[b] - arc[a]
     if np.isfinite(s_a + sm + sp + s_d):
         u_a, u_b, u_c, u_d = np.sqrt(q_a), np.sqrt(qm), np.sqrt(qp), np.sqrt(q_d)
         left = (u_b - u_a) / (sm - s_a)
@@ -654,16 +660,19 @@ def stagnation_models(arc: F64, q: F64, i: int) -> tuple[float, float, float, fl
 @numba.njit(cache=True, error_model="numpy")
 def _stagnation_candidates(
     arc: F64, x: F64, q: F64, ends: bool, tol: float, ue_limit: float
-) -> tuple[int, int, float, float, float, float]:
+) -> tuple[int, int, float, float, float, float, bool]:
     """The front stagnation point: (first and last point of its run, s0, slope before,
-    slope after, Ue at the vertex); first = -1 when the data hold none.
+    slope after, Ue at the vertex, whether the run's points are left out of the sides);
+    first = -1 when the data hold none.
 
     Every local minimum of q = (Ue/U_inf)^2 is a run of points within ``tol`` of each
-    other (one point, or a plateau of Cp at its stagnation value).  A run of one point
-    is modelled by ``stagnation_models``; a plateau, or a point at the stagnation value
-    itself (q <= ``tol``), puts the stagnation point at its arc-length middle, with the
-    slope of each side the secant to the first point beyond it.  Runs at the first or
-    last point count only where ``ends`` is set, and put the stagnation point at that end.
+    other (one point, or several of equal Cp).  A run is modelled by
+    ``stagnation_models``; a run at the stagnation value itself (q <= ``tol``: a tap on
+    the stagnation point, or a plateau of taps clipped to Cp = 1), or one that neither
+    model fits, puts the stagnation point at its arc-length middle, with the slope of
+    each side the secant to the first point beyond it, and its points are left out.
+    Runs at the first or last point count only where ``ends`` is set, and put the
+    stagnation point at that end.
     Every run whose vertex reaches Ue <= ``ue_limit`` is a stagnation point; where there
     are several (the front and rear stagnation points of a potential flow), the most
     upstream one is the front one: the free stream is along +x.
@@ -672,6 +681,7 @@ def _stagnation_candidates(
     best_a, best_b = -1, -1
     best = (np.nan, np.nan, np.nan, np.nan)
     best_x = np.inf
+    best_dropped = False
     i = 0
     while i < n:
         if (i > 0 and q[i] > q[i - 1]) or (i < n - 1 and q[i] > q[i + 1]):
@@ -688,6 +698,7 @@ def _stagnation_candidates(
             continue  # no minimum: the edge velocity is the same everywhere
         if (at_start or at_end) and not ends:
             continue
+        dropped = False
         q_min = q[a]
         for j in range(a, b + 1):
             q_min = min(q_min, q[j])
@@ -697,33 +708,36 @@ def _stagnation_candidates(
             s0 = arc[e]
             slope = np.sqrt(q[o]) / abs(arc[o] - s0)
             model = (s0, slope, slope, np.sqrt(q_min))
-        elif a < b or q_min <= tol:
-            s0 = 0.5 * (arc[a] + arc[b])
-            model = (
-                s0,
-                np.sqrt(q[a - 1]) / (s0 - arc[a - 1]),
-                np.sqrt(q[b + 1]) / (arc[b + 1] - s0),
-                np.sqrt(q_min),
-            )
+            dropped = a < b or q_min <= tol
         else:
             # Near stagnation Ue = a |S - S0|: the parabola in q where it reaches zero, else
-            # the V of |Ue| (coarse taps round a small nose radius), else the point itself.
-            p_s0, p_slope, p_ue, v_s0, v_slope, v_ue = stagnation_models(arc, q, a)
-            use_v = not p_ue <= STAGNATION_UE and v_ue <= max(p_ue, STAGNATION_UE)
-            if use_v:
+            # the V of |Ue| (coarse taps round a small nose radius); a run at the stagnation
+            # value itself, or one neither model fits, is a plateau.
+            p_s0, p_slope, p_ue, v_s0, v_slope, v_ue = stagnation_models(arc, q, a, b)
+            use_v = not p_ue <= STAGNATION_UE and (
+                v_ue <= STAGNATION_UE or v_ue <= p_ue or (v_ue >= 0.0 and np.isnan(p_ue))
+            )
+            if q_min <= tol or not (use_v or np.isfinite(p_s0)):
+                s0 = 0.5 * (arc[a] + arc[b])
+                model = (
+                    s0,
+                    np.sqrt(q[a - 1]) / (s0 - arc[a - 1]),
+                    np.sqrt(q[b + 1]) / (arc[b + 1] - s0),
+                    np.sqrt(q_min),
+                )
+                dropped = True
+            elif use_v:
                 model = (arc[a] + v_s0, v_slope, v_slope, v_ue)
-            elif np.isfinite(p_s0):
-                model = (arc[a] + p_s0, p_slope, p_slope, p_ue)
             else:
-                model = (arc[a], np.nan, np.nan, np.sqrt(q[a]))
+                model = (arc[a] + p_s0, p_slope, p_slope, p_ue)
         if not model[3] <= ue_limit:
             continue
         j = min(max(np.searchsorted(arc, model[0]) - 1, 0), n - 2)
         frac = (model[0] - arc[j]) / (arc[j + 1] - arc[j])
         x0 = x[j] + min(max(frac, 0.0), 1.0) * (x[j + 1] - x[j])
         if x0 < best_x:
-            best_x, best_a, best_b, best = x0, a, b, model
-    return best_a, best_b, best[0], best[1], best[2], best[3]
+            best_x, best_a, best_b, best, best_dropped = x0, a, b, model, dropped
+    return best_a, best_b, best[0], best[1], best[2], best[3], best_dropped
 
 
 def _axis_point(x: F64, y: F64, r: F64, arc: F64, closed: bool, radius_from_y: bool) -> float:
@@ -785,7 +799,7 @@ def _split_contour(
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 
-    a, b, s0, slope_before, slope_after, ue_vertex = _stagnation_candidates(
+    a, b, s0, slope_before, slope_after, ue_vertex, plateau = _stagnation_candidates(
         arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
     )
     if a < 0:
@@ -799,6 +813,7 @@ def _split_contour(
         s0 = 0.5 * (arc[a] + arc[b])
         ue_vertex = float(np.sqrt(np.min(q[a : b + 1])))
         slope_before = slope_after = float("nan")
+        plateau = False
         warnings.append(
             Notice(
                 code="no_stagnation_point",
@@ -819,7 +834,6 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    plateau = np.isfinite(slope_before) and (b > a or q[a] <= PLATEAU_Q)
     if axisymmetric:
         r_axis = radius if radius is not None else np.abs(y)
         axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)

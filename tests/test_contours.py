@@ -329,3 +329,21 @@ def test_stagnation_arc_length_along_the_input() -> None:
     perimeter = float(np.sum(np.hypot(np.diff(x), np.diff(y))))
     assert stag["s"] == pytest.approx(0.25 * perimeter, rel=1e-6)
     assert stag["position"] == pytest.approx(18.0, abs=1e-6)
+
+
+@pytest.mark.parametrize("kind", ["planar", "axisymmetric"])
+def test_taps_missing_the_stagnation_point_start_from_it(kind: str) -> None:
+    """Coarse taps every 10 degrees that straddle the front (none at 0 degrees; the largest
+    Cp is 0.97 on a cylinder): the stagnation point is found on the axis between the two
+    front taps, which stay on their sides, each side starts there from Ue = 0, and the
+    result says that the points do not resolve it only if the extrapolated Ue is not small."""
+    phi = np.radians(np.arange(5.0, 360.0, 10.0))
+    phi = np.append(phi, phi[0])
+    factor = 9.0 / 4.0 if kind == "axisymmetric" else 4.0
+    x, y, cp = -np.cos(phi), np.sin(phi), 1.0 - factor * np.sin(phi) ** 2
+    result = ibl.analyze(_case(x, y, cp, body={"kind": kind}))
+    assert result["stagnation"]["y"] == pytest.approx(0.0, abs=1e-12)
+    for side in result["sides"]:
+        assert side["edge_velocity"][0] == 0.0
+        assert side["edge_velocity"][1] == pytest.approx(factor**0.5 * math.sin(math.radians(5)))
+        assert len(side["s"]) == 19 or side["separation"] is not None
