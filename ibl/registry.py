@@ -17,12 +17,37 @@ from ibl.schema import LaminarOptions, MeshOptions, TransitionOptions, Turbulent
 __all__ = ["catalogue", "method_names"]
 
 
+#: How user-facing text spells out a value or law recalled from the literature but not
+#: re-checked against the original (the source code marks them "[memory]").
+RECALLED = "(recalled, not re-checked against the original)"
+
+
+def spell_out(text: str) -> str:
+    """User-facing text with every "[memory]" mark spelled out as ``RECALLED``."""
+    return text.replace("[memory]", RECALLED)
+
+
+def _spell_all(value: Any) -> Any:
+    if isinstance(value, str):
+        return spell_out(value)
+    if isinstance(value, dict):
+        return {key: _spell_all(item) for key, item in value.items()}
+    if isinstance(value, list | tuple):
+        return [_spell_all(item) for item in value]
+    return value
+
+
 def _range(pair: tuple[float, float]) -> dict[str, float]:
     return {"min": pair[0], "max": pair[1]}
 
 
 def catalogue() -> dict[str, Any]:
     """Every method with its options, defaults, validity ranges and source."""
+    spelled: dict[str, Any] = _spell_all(_catalogue())
+    return spelled
+
+
+def _catalogue() -> dict[str, Any]:
     lam_defaults = LaminarOptions()
     turb_defaults = TurbulentOptions()
     return {

@@ -10,9 +10,10 @@ Contents
 The references are computed independently of the integral methods (``ibl.references``:
 similarity solutions by ``scipy.integrate.solve_bvp`` and a finite-difference march of the
 boundary-layer equations) or are published values and laws.  Each tolerance is the known
-accuracy of the method for that flow, given with its reason.  "[memory]" marks values recalled
-rather than re-checked against the original.  Ids match the rows of the reference tables used
-by the test suite where the same comparison is made there.
+accuracy of the method for that flow, given with its reason.  "[memory]" marks values
+recalled rather than re-checked against the original; the output spells it out
+(``registry.spell_out``).  Ids match the rows of the reference tables used by the test
+suite where the same comparison is made there.
 """
 
 from __future__ import annotations
@@ -39,6 +40,7 @@ from ibl.references import (
     surface_case,
     thwaites_wedge,
 )
+from ibl.registry import spell_out
 from ibl.transition import re_theta_transition_michel_1951
 
 __all__ = ["LIMITS", "Check", "falkner_skan_family", "figure", "report_text", "validate"]
@@ -98,9 +100,9 @@ def _check(spec: _Spec) -> Check:
         tolerance_kind=spec.kind,
         unit=spec.unit,
         within=bool(abs(deviation) <= spec.tolerance),
-        source=spec.source,
+        source=spell_out(spec.source),
         against=spec.against,
-        reason=spec.reason,
+        reason=spell_out(spec.reason),
     )
 
 
@@ -746,7 +748,7 @@ def report_text(checks: list[Check]) -> str:
         f"{len(checks) - failed} of {len(checks)} comparisons within tolerance.",
         "",
         "Known limits of the methods:",
-        *(f"  - {limit}" for limit in LIMITS),
+        *(f"  - {spell_out(limit)}" for limit in LIMITS),
         "",
         "CAUTION: " + CAUTION,
     ]

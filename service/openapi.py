@@ -27,6 +27,8 @@ from typing import TYPE_CHECKING, Any
 import msgspec
 from litestar.openapi.plugins import JsonRenderPlugin
 
+from ibl.analysis import CAUTION as RESULT_CAUTION
+
 if TYPE_CHECKING:
     from litestar import Litestar, Request
 
@@ -37,13 +39,8 @@ __all__ = ["CAUTION", "COMMITTED", "ServiceJsonRenderPlugin", "document", "main"
 #: Where the committed copy lives.
 COMMITTED = Path(__file__).resolve().parents[1] / "openapi" / "openapi.json"
 
-CAUTION = (
-    "**Caution.** The results are early-design estimates from integral boundary-layer "
-    "methods and empirical transition criteria. Confirm them by testing or by "
-    "higher-fidelity analysis before relying on them. Where safety, certification or "
-    "regulation is involved, local codes and licensed professional practice take "
-    "precedence over these figures."
-)
+#: The caution of every result, in the API description too (one text everywhere).
+CAUTION = "**Caution.** " + RESULT_CAUTION
 
 _REF = "#/components/schemas/{name}"
 _RETRY_AFTER = {
