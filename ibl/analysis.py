@@ -20,7 +20,7 @@ import orjson
 from numpy.typing import NDArray
 
 from ibl import march as march_module
-from ibl import mesh, transition, turbulent
+from ibl import kernel, mesh, transition, turbulent
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
 from ibl.prepare import Prepared, SideInput, prepare
@@ -348,6 +348,8 @@ def _side(
                 pointer=f"{pointer}/s/{keep}",
             )
         )
+    if math.isfinite(state.thin_layer_s):
+        warnings.append(_thin_layer_notice(side, state, pointer))
     offset = side.offset
     tr = None
     if math.isfinite(state.transition_s):
@@ -407,6 +409,25 @@ def _side(
         laminar_separation=lsep,
         separation=sep,
         mesh=_mesh(side, state),
+    )
+
+
+def _thin_layer_notice(side: SideInput, state: SideState, pointer: str) -> Notice:
+    """The stations of a body of revolution end where the layer is no longer thin."""
+    at = state.thin_layer_s
+    x, y = _xy_at(side, at)
+    where = f"s = {at + side.offset:.4g}" + (f" (x = {x:.4g})" if x is not None else "")
+    last = state.count - 1
+    ratio = kernel.THIN_LAYER_RATIO
+    limit = "the body radius" if ratio == 1.0 else f"{ratio:g} times the body radius"
+    return Notice(
+        code="thin_layer_limit",
+        message=f"{side.name}: downstream of the largest body radius, the boundary-layer "
+        f"thickness delta99 reaches {limit} at {where}: the thin-layer equations of a body "
+        "of revolution (delta99 small against r; transverse curvature neglected) do not "
+        f"hold from there on, so the stations end at s = {float(state.s[last]) + side.offset:.4g}"
+        " and nothing beyond is reported",
+        pointer=f"{pointer}/s/{last}",
     )
 
 
