@@ -46,6 +46,12 @@ CAUTION = (
     "precedence."
 )
 
+#: A laminar inflow's shape factor is not used (Thwaites' method takes H from lambda);
+#: it is reported when it differs from the closure's H at the first station by more than
+#: this fraction: twice the closures' error against exact similarity solutions (up to
+#: about 5 %, Falkner-Skan m = 0.3: README's accuracy table).
+INFLOW_H_TOLERANCE = 0.1
+
 #: Cases per chunk when a large batch is pipelined (see ``run_batch``).
 PIPELINE_CASES = 128
 
@@ -184,6 +190,7 @@ def _results(
             state = next(states)
             built.append(_side(side, state, convert, warnings, f"/sides/{index}"))
             warnings.extend(_range_warnings(side, state))
+            warnings.extend(_laminar_inflow_notice(side, state))
         results.append(
             Result(
                 name=case.name,
@@ -462,6 +469,25 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
         max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
         max_eddy_viscosity_ratio_s=float(state.s[i_ratio]) + side.offset,
     )
+
+
+def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
+    """A laminar inflow whose shape factor disagrees with Thwaites' closure."""
+    if side.start != "inflow" or side.turbulent_start or state.count == 0:
+        return []
+    closure = float(state.shape_factor[0])
+    if abs(side.h0 - closure) <= INFLOW_H_TOLERANCE * closure:
+        return []
+    return [
+        Notice(
+            code="inflow_shape_factor_unused",
+            message=f"{side.name}: a laminar inflow's shape factor is not used: Thwaites' "
+            f"method takes H from lambda = theta^2 Ue'/nu, which gives H = {closure:.3g} at the "
+            f"first station, not {side.h0:.3g}; a laminar layer with that H is not of the "
+            "one-parameter family, so theta alone is marched",
+            pointer="/inflow/shape_factor",
+        )
+    ]
 
 
 def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
