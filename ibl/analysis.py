@@ -19,8 +19,8 @@ import numpy as np
 import orjson
 from numpy.typing import NDArray
 
-from ibl import march as march_module
 from ibl import kernel, mesh, transition, turbulent
+from ibl import march as march_module
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
 from ibl.prepare import Prepared, SideInput, prepare
@@ -422,7 +422,7 @@ def _side(
 def _thin_layer_notice(side: SideInput, state: SideState, pointer: str) -> Notice:
     """The stations of a body of revolution end where the layer is no longer thin."""
     at = state.thin_layer_s
-    x, y = _xy_at(side, at)
+    x, _ = _xy_at(side, at)
     where = f"s = {at + side.offset:.4g}" + (f" (x = {x:.4g})" if x is not None else "")
     last = state.count - 1
     ratio = kernel.THIN_LAYER_RATIO
