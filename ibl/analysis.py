@@ -19,8 +19,8 @@ import numpy as np
 import orjson
 from numpy.typing import NDArray
 
+from ibl import kernel, mesh, transition, turbulent
 from ibl import march as march_module
-from ibl import mesh, transition, turbulent
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
 from ibl.prepare import Prepared, SideInput, prepare
@@ -45,6 +45,12 @@ CAUTION = (
     "or buildings depend on them, local codes and licensed engineering practice take "
     "precedence."
 )
+
+#: A laminar inflow's shape factor is not used (Thwaites' method takes H from lambda);
+#: it is reported when it differs from the closure's H at the first station by more than
+#: this fraction: twice the closures' error against exact similarity solutions (up to
+#: about 5 %, Falkner-Skan m = 0.3: README's accuracy table).
+INFLOW_H_TOLERANCE = 0.1
 
 #: Cases per chunk when a large batch is pipelined (see ``run_batch``).
 PIPELINE_CASES = 128
@@ -184,6 +190,7 @@ def _results(
             state = next(states)
             built.append(_side(side, state, convert, warnings, f"/sides/{index}"))
             warnings.extend(_range_warnings(side, state))
+            warnings.extend(_laminar_inflow_notice(side, state))
         results.append(
             Result(
                 name=case.name,
@@ -348,6 +355,8 @@ def _side(
                 pointer=f"{pointer}/s/{keep}",
             )
         )
+    if math.isfinite(state.thin_layer_s):
+        warnings.append(_thin_layer_notice(side, state, pointer))
     offset = side.offset
     tr = None
     if math.isfinite(state.transition_s):
@@ -410,6 +419,25 @@ def _side(
     )
 
 
+def _thin_layer_notice(side: SideInput, state: SideState, pointer: str) -> Notice:
+    """The stations of a body of revolution end where the layer is no longer thin."""
+    at = state.thin_layer_s
+    x, _ = _xy_at(side, at)
+    where = f"s = {at + side.offset:.4g}" + (f" (x = {x:.4g})" if x is not None else "")
+    last = state.count - 1
+    ratio = kernel.THIN_LAYER_RATIO
+    limit = "the body radius" if ratio == 1.0 else f"{ratio:g} times the body radius"
+    return Notice(
+        code="thin_layer_limit",
+        message=f"{side.name}: downstream of the largest body radius, the boundary-layer "
+        f"thickness delta99 reaches {limit} at {where}: the thin-layer equations of a body "
+        "of revolution (delta99 small against r; transverse curvature neglected) do not "
+        f"hold from there on, so the stations end at s = {float(state.s[last]) + side.offset:.4g}"
+        " and nothing beyond is reported",
+        pointer=f"{pointer}/s/{last}",
+    )
+
+
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
     cells = []
     if math.isfinite(state.max_u_tau):
@@ -441,6 +469,25 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
         max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
         max_eddy_viscosity_ratio_s=float(state.s[i_ratio]) + side.offset,
     )
+
+
+def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
+    """A laminar inflow whose shape factor disagrees with Thwaites' closure."""
+    if side.start != "inflow" or side.turbulent_start or state.count == 0:
+        return []
+    closure = float(state.shape_factor[0])
+    if abs(side.h0 - closure) <= INFLOW_H_TOLERANCE * closure:
+        return []
+    return [
+        Notice(
+            code="inflow_shape_factor_unused",
+            message=f"{side.name}: a laminar inflow's shape factor is not used: Thwaites' "
+            f"method takes H from lambda = theta^2 Ue'/nu, which gives H = {closure:.3g} at the "
+            f"first station, not {side.h0:.3g}; a laminar layer with that H is not of the "
+            "one-parameter family, so theta alone is marched",
+            pointer="/inflow/shape_factor",
+        )
+    ]
 
 
 def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:

@@ -98,37 +98,81 @@ def load_case(path: Path, args: argparse.Namespace | None = None) -> dict[str, A
     return case
 
 
+_JSON_TYPES = {
+    str: "str",
+    int: "int",
+    float: "float",
+    bool: "bool",
+    list: "array",
+    type(None): "null",
+}
+
+
+def _object_member(parent: dict[str, Any], key: str, pointer: str, flag: str) -> dict[str, Any]:
+    """The object member ``key`` of ``parent`` (created empty when missing) that ``flag``
+    writes into; a member of another type is a case error naming it."""
+    value = parent.setdefault(key, {})
+    if not isinstance(value, dict):
+        kind = _JSON_TYPES.get(type(value), type(value).__name__)
+        raise CaseError.at(
+            pointer, f"Expected `object`, got `{kind}`; {flag} sets a member of this object"
+        )
+    return value
+
+
 def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
-    flow = case.setdefault("flow", {})
+    """Write the flags given into the case document.
+
+    Raises
+    ------
+    CaseError
+        If a member a flag writes into is not an object (e.g. ``"flow": 5``).
+    """
+
+    def flow(flag: str) -> dict[str, Any]:
+        return _object_member(case, "flow", "/flow", flag)
+
+    def transition(flag: str) -> dict[str, Any]:
+        return _object_member(case, "transition", "/transition", flag)
+
     if args.reynolds is not None:
-        flow.pop("speed", None)
-        flow.pop("kinematic_viscosity", None)
-        flow["reynolds"] = args.reynolds
+        member = flow("--reynolds")
+        member.pop("speed", None)
+        member.pop("kinematic_viscosity", None)
+        member["reynolds"] = args.reynolds
     if args.speed is not None:
-        flow.pop("reynolds", None)
-        flow["speed"] = args.speed
+        member = flow("--speed")
+        member.pop("reynolds", None)
+        member["speed"] = args.speed
     if args.viscosity is not None:
-        flow.pop("reynolds", None)
-        flow["kinematic_viscosity"] = args.viscosity
+        member = flow("--viscosity")
+        member.pop("reynolds", None)
+        member["kinematic_viscosity"] = args.viscosity
     if args.mach is not None:
-        flow["mach"] = args.mach
+        flow("--mach")["mach"] = args.mach
     if args.turbulence_intensity is not None:
-        flow["turbulence_intensity"] = args.turbulence_intensity
-    transition = case.setdefault("transition", {})
+        flow("--turbulence-intensity")["turbulence_intensity"] = args.turbulence_intensity
     if args.criterion is not None:
-        transition["criterion"] = args.criterion
+        transition("--criterion")["criterion"] = args.criterion
     trips = {"upper": args.trip_upper, "lower": args.trip_lower, "surface": args.trip}
     for side, value in trips.items():
         if value is not None:
-            transition.setdefault("trip", {})[side] = value
+            flag = "--trip" if side == "surface" else f"--trip-{side}"
+            member = _object_member(transition(flag), "trip", "/transition/trip", flag)
+            member[side] = value
     if args.axisymmetric:
-        case.setdefault("body", {})["kind"] = "axisymmetric"
+        _object_member(case, "body", "/body", "--axisymmetric")["kind"] = "axisymmetric"
     if args.y_plus:
         case["mesh"] = {"y_plus": args.y_plus}
     if args.smoothing is not None:
-        case.setdefault("pressure", {})["smoothing"] = (
-            "auto" if args.smoothing == "auto" else float(args.smoothing)
-        )
+        try:
+            smoothing: str | float = "auto" if args.smoothing == "auto" else float(args.smoothing)
+        except ValueError:
+            raise CaseError.at(
+                "/pressure/smoothing",
+                f"--smoothing: {args.smoothing!r} is neither 'auto' nor a number",
+            ) from None
+        _object_member(case, "pressure", "/pressure", "--smoothing")["smoothing"] = smoothing
 
 
 def _fmt(value: float | None, unit: str = "") -> str:
@@ -407,10 +451,12 @@ def _sweep(args: argparse.Namespace) -> int:
         print(f"ibl: {args.case}: no such file", file=sys.stderr)
         return 2
     case = load_case(args.case, args)
-    from ibl.figures import length_unit
-
-    # Coordinates stay in metres when a case given by speed and viscosity is swept in Re.
-    units = length_unit(case)
+    flag = "--" + variable.replace("_", "-")
+    if variable.startswith("trip"):
+        transition = _object_member(case, "transition", "/transition", flag)
+        _object_member(transition, "trip", "/transition/trip", flag)
+    else:
+        _object_member(case, "flow", "/flow", flag)
     progress = sys.stderr.isatty() and not args.quiet
     try:
         result = sweep(
@@ -419,6 +465,11 @@ def _sweep(args: argparse.Namespace) -> int:
     except ImportError as error:
         print(f"ibl: --scheduler needs dask.distributed ({error})", file=sys.stderr)
         return 2
+    from ibl.figures import length_unit
+
+    # Coordinates stay in metres when a case given by speed and viscosity is swept in Re
+    # (the case is known to be valid here).
+    units = length_unit(case)
     if args.format == "json":
         sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
     elif args.format == "csv":

@@ -39,6 +39,7 @@ __all__ = [
     "START_SHARP",
     "START_STAGNATION",
     "START_TURBULENT",
+    "THIN_LAYER_RATIO",
     "march_sides",
     "march_sides_nogil",
 ]
@@ -46,7 +47,7 @@ __all__ = [
 F64 = NDArray[np.float64]
 
 #: Rows of the ``stations`` output and columns of the ``events`` output of ``march_sides``.
-N_STATION_FIELDS, N_EVENT_FIELDS = 7, 23
+N_STATION_FIELDS, N_EVENT_FIELDS = 7, 25
 CRITERION_CODES = {"none": 0, "michel": 1, "granville": 2, "abu_ghannam_shaw": 3}
 CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
 START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
@@ -67,9 +68,21 @@ STEP_UE, STEP_THETA, STEP_H1 = 0.15, 0.15, 0.045
 STEP_ORIGIN = 0.3
 #: Most Runge-Kutta steps (tries included) on one side: a bound on the work for any input.
 MAX_STEPS = 20_000
-#: How a turbulent march ended: normally (attached or separated), out of steps, or on a
-#: state the equations cannot continue from (rough input data).
-STOP_NONE, STOP_BUDGET, STOP_INVALID = 0, 1, 2
+#: How a turbulent march ended: normally (attached or separated), out of steps, on a
+#: state the equations cannot continue from (rough input data), or at the thin-layer limit
+#: of a body of revolution (``THIN_LAYER_RATIO``; handled by ``march_sides``, not reported
+#: as a stop).
+STOP_NONE, STOP_BUDGET, STOP_INVALID, STOP_THIN = 0, 1, 2, 3
+#: The thin-layer limit of a body of revolution.  The axisymmetric forms of the momentum
+#: and entrainment equations used here (Rott & Crabtree 1952; Head 1958; Mangler 1948)
+#: treat the layer as thin against the body radius, delta99 << r; where it is not,
+#: transverse curvature changes the layer at first order and these forms fail (on a tail
+#: closing to a point, r -> 0 drives theta to infinity).  Downstream of a side's largest
+#: radius, the stations end where delta99 reaches this multiple of the local radius r
+#: (delta99 >= r: common practice for where transverse-curvature effects stop being a
+#: correction).  Never applied upstream of the largest radius: at a nose on the axis the
+#: Rott-Crabtree start is exact.
+THIN_LAYER_RATIO = 1.0
 #: Clauser's outer eddy-viscosity constant (twin of ``ibl.mesh.CLAUSER_CONSTANT``).
 CLAUSER = 0.0168
 #: Laminar delta99/theta of the Blasius layer, 4.91/0.664 (common practice).
@@ -166,6 +179,12 @@ def cf_turbulent(law: int, h: float, re_theta: float) -> float:
 
 
 # ----------------------------------------------------------------------------- helpers
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _delta99_turbulent(theta: float, h: float) -> float:
+    """Twin of ``ibl.mesh.delta99_power_law``: delta99 = theta H (H + 1) / (H - 1)."""
+    return theta * h * (h + 1.0) / (h - 1.0)
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -307,16 +326,25 @@ def _head(
     theta_out: F64,
     h_out: F64,
     scale: float,
+    s_peak: float,
 ) -> tuple[float, int, int]:
     """Head's equations from ``start`` by classical Runge-Kutta with limited steps.
 
     Returns the separation position (NaN when attached to the end; where the march
-    stopped for ``STOP_BUDGET`` or ``STOP_INVALID``), the step count and the stop code.
+    stopped for ``STOP_BUDGET``, ``STOP_INVALID`` or ``STOP_THIN``), the step count and
+    the stop code.  Downstream of ``s_peak`` (the largest body radius; inf when planar)
+    the march stops where delta99 reaches ``THIN_LAYER_RATIO`` times the radius.
+    A start at or beyond separation (an inflow with H >= ``h_separation``) fills the
+    station at the start with the start state and separates there.
     """
     origin = s[0]
     end = s[n - 1]
     span = end - origin
+    # The smallest step also resolves the relaxation of H1 over a few theta from a start
+    # with a very thin layer.
     min_step = 1e-9 * span
+    if theta0 > 0.0:
+        min_step = min(min_step, 1e-3 * theta0)
     pos = start
     theta = theta0
     h1 = h1_from_h(h0)
@@ -325,8 +353,16 @@ def _head(
         j += 1
     m = j if s[j] >= pos else j + 1  # next station to fill
     j, u, du, rr, drr = _edge(s, ue, due, r, dr, j, n, pos)
-    if not (u > 0.0 and rr > 0.0) or h0 >= h_separation:
+    if not (u > 0.0 and rr > 0.0):
         return pos, 0, STOP_NONE
+    if h0 >= h_separation:
+        while m < n and s[m] <= pos:
+            theta_out[m] = theta
+            h_out[m] = h0
+            m += 1
+        return pos, 0, STOP_NONE
+    if pos > s_peak and _delta99_turbulent(theta, h0) >= THIN_LAYER_RATIO * rr:
+        return pos, 0, STOP_THIN
     f_theta, f_h1 = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
     steps = 0
     step = 0.0
@@ -391,6 +427,20 @@ def _head(
                     and step * abs(g_h1) <= 2.0 * scale * STEP_H1 * (h1_new - 3.3)
                     and step * abs(du4) <= 2.0 * scale * STEP_UE * u4
                 )
+            if ok and pos + step > s_peak:
+                # The thin-layer limit: where delta99 - ratio r crosses zero (linear).
+                g_new = _delta99_turbulent(theta_new, h_new) - THIN_LAYER_RATIO * r4
+                if g_new >= 0.0:
+                    g_old = _delta99_turbulent(theta, h_from_h1(h1)) - THIN_LAYER_RATIO * rr
+                    frac = g_old / (g_old - g_new) if g_old < 0.0 else 0.0
+                    reached = min(max(pos + frac * step, s_peak), pos + step)
+                    while m < n and s[m] <= reached:
+                        t = (s[m] - pos) / step
+                        theta_out[m], _ = _hermite(t, step, theta, theta_new, f_theta, g_theta)
+                        h1_m, _ = _hermite(t, step, h1, h1_new, f_h1, g_h1)
+                        h_out[m] = h_from_h1(h1_m)
+                        m += 1
+                    return reached, steps, STOP_THIN
             if ok:
                 break
             if step <= min_step or steps >= MAX_STEPS:
@@ -410,7 +460,7 @@ def _head(
         pos += step
         theta, h1 = theta_new, h1_new
         f_theta, f_h1 = g_theta, g_h1
-        j, u, du = jj, u4, du4
+        j, u, du, rr = jj, u4, du4, r4
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -564,7 +614,10 @@ def march_sides(
         turbulent Re_theta, Re_s at transition, mean lambda at transition, stop code of
         the turbulent march, and where it stopped (NaN unless the code is not STOP_NONE),
         then mesh figures: largest u_tau/U_inf (NaN if none) and its station, largest delta99
-        and its station, largest nu_t/nu and its station.
+        and its station, largest nu_t/nu and its station; then the flag of stations cut
+        before a non-finite value, the flag of stations cut at the thin-layer limit
+        (``THIN_LAYER_RATIO``) and where that limit lies (NaN if nowhere).  Events beyond
+        the thin-layer limit are dropped.
     step_scale : multiplies every step limit of the turbulent march (1 by default;
         smaller for convergence checks).
     Positions are NaN when an event does not happen.  Returns the turbulent step count.
@@ -725,6 +778,16 @@ def march_sides(
             tr = natural
             cause = CAUSE_TRIP if trip <= crit else CAUSE_CRITERION
 
+        # The thin-layer limit applies downstream of the last station of largest radius.
+        i_peak = n
+        s_peak = np.inf
+        if axisym:
+            i_peak = 0
+            for i in range(1, n):
+                if rk[i] >= rk[i_peak]:
+                    i_peak = i
+            s_peak = sk[i_peak]
+
         # Head (1958) from transition, theta continuous.
         for i in range(n):
             theta_t[i] = np.nan
@@ -758,14 +821,21 @@ def march_sides(
                 theta_t,
                 h_t,
                 step_scale,
+                s_peak,
             )
             steps += taken
+        thin_s = np.nan  # where the thin-layer limit is reached (NaN if nowhere)
+        if stop == STOP_THIN:
+            thin_s, separation, stop = separation, np.nan, STOP_NONE
         stopped = np.nan
         if stop != STOP_NONE:
             stopped, separation = separation, np.nan
 
-        # Station values up to separation (or where the march stopped).
+        # Station values up to separation (or where the march stopped, or the thin-layer
+        # limit).
         cut = stopped if stop != STOP_NONE else separation
+        if np.isfinite(thin_s):
+            cut = thin_s
         keep = n
         if np.isfinite(cut):
             keep = 1
@@ -782,9 +852,7 @@ def march_sides(
                 hh = h_t[i]
                 re = uk[i] * th / nu
                 cf = cf_turbulent(law, hh, re)
-                d99 = th * hh * (hh + 1.0) / (hh - 1.0)
-                re_min = min(re_min, re)
-                re_max = max(re_max, re)
+                d99 = _delta99_turbulent(th, hh)
             else:
                 th = np.sqrt(theta2[i])
                 hh = h_lam[i]
@@ -793,10 +861,23 @@ def march_sides(
                 # The fits give l slightly below zero at lambda = -0.09 (-0.0015): clip.
                 cf = 2.0 * max(shear(closure, lc), 0.0) / re if re > 0.0 else np.nan
                 d99 = LAMINAR_DELTA99_RATIO * th
-                lam_max_seen = max(lam_max_seen, lam[i])
             if not (np.isfinite(th) and np.isfinite(hh) and np.isfinite(re) and np.isfinite(d99)):
                 keep, cut_non_finite = i, 1.0  # the stations end before the first bad one
                 break
+            if i > i_peak and d99 >= THIN_LAYER_RATIO * rk[i]:
+                # The stations end before the first one past the thin-layer limit, which
+                # lies where delta99 - ratio r crosses zero (linear between stations).
+                g_i = d99 - THIN_LAYER_RATIO * rk[i]
+                g_prev = out[4, i - 1] - THIN_LAYER_RATIO * rk[i - 1]
+                frac = g_prev / (g_prev - g_i) if g_prev < 0.0 else 0.0
+                thin_s = sk[i - 1] + frac * (sk[i] - sk[i - 1])
+                keep = i
+                break
+            if turb:
+                re_min = min(re_min, re)
+                re_max = max(re_max, re)
+            else:
+                lam_max_seen = max(lam_max_seen, lam[i])
             out[0, i] = th
             out[1, i] = hh
             out[2, i] = cf if (uk[i] > 0.0 and np.isfinite(cf)) else np.nan
@@ -804,6 +885,17 @@ def march_sides(
             out[4, i] = d99
             out[5, i] = 1.0 if turb else 0.0
             out[6, i] = lam[i]
+        if np.isfinite(thin_s):
+            # Events beyond the thin-layer limit did not happen on the stations kept.
+            if tr > thin_s:
+                tr = np.inf
+                lam_mean_tr = np.nan
+            if lsep > thin_s:
+                lsep = np.inf
+            if separation > thin_s:
+                separation = np.nan
+            if stopped > thin_s:
+                stop, stopped = STOP_NONE, np.nan
         ev = events[k]
         ev[0] = keep
         if start_kind == START_TURBULENT:
@@ -850,6 +942,8 @@ def march_sides(
         ev[20] = nut_max
         ev[21] = max(i_nut, 0)
         ev[22] = cut_non_finite
+        ev[23] = 1.0 if np.isfinite(thin_s) else 0.0
+        ev[24] = thin_s
     return steps
 
 

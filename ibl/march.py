@@ -88,6 +88,9 @@ class SideState:
     max_eddy_viscosity_ratio: float
     max_eddy_viscosity_ratio_index: int
     cut_non_finite: bool  # the stations end early, before one with a non-finite value
+    # Where the layer reaches the thin-layer limit of a body of revolution (delta99 against
+    # the body radius, ``kernel.THIN_LAYER_RATIO``) and the stations end; NaN if nowhere.
+    thin_layer_s: float
 
 
 def _stack(
@@ -197,6 +200,7 @@ def _march(
                 max_eddy_viscosity_ratio=ev[20],
                 max_eddy_viscosity_ratio_index=int(ev[21]),
                 cut_non_finite=ev[22] > 0.5,
+                thin_layer_s=ev[24] if ev[23] > 0.5 else float("nan"),
             )
         )
     return states

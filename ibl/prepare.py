@@ -29,6 +29,7 @@ __all__ = [
     "CP_NOISE",
     "GAMMA",
     "MIN_POINTS",
+    "MIN_TURBULENT_RE_THETA",
     "Prepared",
     "SideInput",
     "SideOptions",
@@ -68,6 +69,11 @@ REAR_TOLERANCE = 1e-3
 #: A contour whose ends are apart by at most its longest segment (times 1.5) and by less than
 #: this fraction of its length is a closed loop listed without repeating its first point.
 IMPLICIT_CLOSURE = 0.1
+#: Smallest momentum-thickness Reynolds number Ue theta / nu of a turbulent inflow: below
+#: about 320 a turbulent boundary layer does not sustain itself (Preston, J. H. 1958,
+#: J. Fluid Mech. 3, 373-384 [memory]); far below it the skin-friction laws, fitted from
+#: Re_theta = 1e3 up, grow without bound and Head's equations separate a flat-plate layer.
+MIN_TURBULENT_RE_THETA = 320.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -457,15 +463,98 @@ def prepare(case: Case) -> Prepared:
     trips = case.transition.trip or {}
     if not contour:
         ue = np.sqrt(q)
-        return Prepared(
-            [_single_side(case, arc, float(s_in[0]), ue, radius, nu, options, trips)],
-            None,
-            warnings,
-        )
+        side = _single_side(case, arc, float(s_in[0]), ue, radius, nu, options, trips)
+        warnings.extend(_inflow_notices(case, side))
+        warnings.extend(_trip_notices(case, [side]))
+        return Prepared([side], None, warnings)
     sides, stagnation = _split_contour(
         arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings, radius_from_y
     )
+    warnings.extend(_trip_notices(case, sides))
     return Prepared(sides, stagnation, warnings)
+
+
+def _trip_notices(case: Case, sides: list[SideInput]) -> list[Notice]:
+    """Check the trips against the sides built: every trip names a side the input has
+    (else ``CaseError``), and one outside its side's stations is reported.
+
+    Trips are positions in the s of the result: arc length from the stagnation point (or
+    the start of a contour side), or s as given in ``surface.s`` for a single surface.
+    """
+    notices: list[Notice] = []
+    by_name = {side.name: side for side in sides}
+    for name, at in (case.transition.trip or {}).items():
+        pointer = f"/transition/trip/{name}"
+        side = by_name.get(name)
+        if side is None:
+            have = ", ".join(sorted(by_name))
+            raise CaseError.at(
+                pointer,
+                f"the input has no {name} side (the contour gives only: {have}); a trip "
+                "must name a side of the result",
+            )
+        start, end = side.offset, side.offset + float(side.s[-1])
+        if side.turbulent_start:
+            notices.append(
+                Notice(
+                    code="trip_ignored",
+                    message=f"{name}: the inflow is turbulent, so the trip at s = {at:.4g} "
+                    "has no effect",
+                    pointer=pointer,
+                )
+            )
+        elif at < start:
+            if side.x is not None:
+                raise CaseError.at(
+                    pointer, "must be >= 0: arc length from the stagnation point or side start"
+                )
+            notices.append(
+                Notice(
+                    code="trip_outside_surface",
+                    message=f"{name}: the trip at s = {at:.4g} lies before the first station "
+                    f"(s = {start:.4g}); the layer is taken as turbulent from the first station",
+                    pointer=pointer,
+                )
+            )
+        elif at > end:
+            notices.append(
+                Notice(
+                    code="trip_outside_surface",
+                    message=f"{name}: the trip at s = {at:.4g} lies beyond the end of the side "
+                    f"(s = {end:.4g}); it has no effect",
+                    pointer=pointer,
+                )
+            )
+    return notices
+
+
+def _inflow_notices(case: Case, side: SideInput) -> list[Notice]:
+    """Check a turbulent inflow against what a turbulent layer and Head's method admit:
+    ``CaseError`` below ``MIN_TURBULENT_RE_THETA``; a notice at or beyond separation."""
+    inflow = case.inflow
+    if inflow is None or inflow.regime != "turbulent":
+        return []
+    re_theta = float(side.ue[0]) * inflow.theta / side.nu
+    if not re_theta >= MIN_TURBULENT_RE_THETA:
+        raise CaseError.at(
+            "/inflow/theta",
+            f"gives Re_theta = Ue theta / nu = {re_theta:.3g} at the first station; a turbulent "
+            f"layer needs at least {MIN_TURBULENT_RE_THETA:g} (Preston 1958): check theta's "
+            "unit (that of the coordinates), or give a laminar inflow",
+        )
+    h_sep = case.turbulent.separation_shape_factor
+    if inflow.shape_factor >= h_sep:
+        return [
+            Notice(
+                code="inflow_separated",
+                message=f"surface: the turbulent inflow's shape factor {inflow.shape_factor:g} "
+                f"is at or above the separation value {h_sep:g} "
+                "(turbulent.separation_shape_factor): the layer is separated at the first "
+                "station",
+                pointer="/inflow/shape_factor",
+            )
+        ]
+    return []
 
 
 def _single_side(
@@ -520,7 +609,7 @@ def _single_side(
         theta0=inflow.theta if inflow is not None else 0.0,
         h0=inflow.shape_factor if inflow is not None else float("nan"),
         turbulent_start=inflow is not None and inflow.regime == "turbulent",
-        trip=trips.get("surface"),
+        trip=_relative_trip(trips.get("surface"), offset),
         options=options,
     )
 
@@ -596,6 +685,12 @@ def _rotate(columns: list[F64], start: float) -> tuple[list[F64], F64]:
         rotated = [np.concatenate(([e], c[1:], [e])) for e, c in zip(ends, rotated, strict=True)]
         index = np.concatenate(([k + frac], index[1:], [k + m + frac]))
     return rotated, index
+
+
+def _relative_trip(at: float | None, offset: float) -> float | None:
+    """A single surface's trip, given in the s of ``surface.s`` (as the results report it),
+    measured from the first station; one before it trips at the first station."""
+    return None if at is None else max(at - offset, 0.0)
 
 
 @numba.njit(cache=True, error_model="numpy")

@@ -142,11 +142,13 @@ class TransitionOptions(Struct, frozen=True):
 
     criterion: Literal["michel", "granville", "abu_ghannam_shaw", "none"] = "michel"
     trip: Annotated[
-        dict[Literal["upper", "lower", "surface"], Annotated[float, Meta(ge=0.0, le=MAX_LENGTH)]]
-        | None,
+        dict[Literal["upper", "lower", "surface"], Length] | None,
         Meta(
-            description="Forced transition: arc length from the stagnation point or leading "
-            "edge, per side name [length unit]; 0 makes the side turbulent from its start"
+            description="Forced transition per side name, as a position in the s of the "
+            "results [length unit]: arc length from the stagnation point (>= 0) on a "
+            "contour's upper and lower sides; s as given in surface.s on a single surface. "
+            "At the side's start it makes the side turbulent from there; a trip outside the "
+            "side's stations is reported in the warnings"
         ),
     ] = None
 
@@ -184,7 +186,16 @@ class Inflow(Struct, frozen=True):
     theta: Annotated[
         float, Meta(gt=0.0, le=MAX_LENGTH, description="Momentum thickness [length unit]")
     ]
-    shape_factor: Annotated[float, Meta(ge=1.05, le=4.0, description="Shape factor H [-]")]
+    shape_factor: Annotated[
+        float,
+        Meta(
+            gt=1.1,
+            le=4.0,
+            description="Shape factor H [-]; above 1.1, where Head's H1(H) is defined. Used "
+            "by a turbulent inflow; a laminar one takes H from Thwaites' closure (a warning "
+            "says when the value given differs)",
+        ),
+    ]
     regime: Literal["laminar", "turbulent"] = "laminar"
 
 
