@@ -918,6 +918,17 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
+    elif ue_vertex <= STAGNATION_UE < np.sqrt(q[a : b + 1].min()):
+        warnings.append(
+            Notice(
+                code="stagnation_point_between_taps",
+                message="no point reads the stagnation value (the largest Ue/U_inf falls to "
+                f"{np.sqrt(q[a : b + 1].min()):.3g}); the stagnation point is located between "
+                "points by extrapolating their edge velocity to zero, and the sides start "
+                "there with Ue rising linearly from 0",
+                pointer=p_pointer,
+            )
+        )
     elif ue_vertex > STAGNATION_UE:
         warnings.append(
             Notice(

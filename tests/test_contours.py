@@ -343,6 +343,7 @@ def test_taps_missing_the_stagnation_point_start_from_it(kind: str) -> None:
     x, y, cp = -np.cos(phi), np.sin(phi), 1.0 - factor * np.sin(phi) ** 2
     result = ibl.analyze(_case(x, y, cp, body={"kind": kind}))
     assert result["stagnation"]["y"] == pytest.approx(0.0, abs=1e-12)
+    assert "stagnation_point_between_taps" in [w["code"] for w in result["warnings"]]
     for side in result["sides"]:
         assert side["edge_velocity"][0] == 0.0
         assert side["edge_velocity"][1] == pytest.approx(factor**0.5 * math.sin(math.radians(5)))
