@@ -151,6 +151,26 @@ def _where(event: dict[str, Any]) -> str:
     return text
 
 
+def _margin_lines(margins: dict[str, Any] | None, options: dict[str, Any]) -> list[str]:
+    """Closest approach to each separation criterion."""
+    if not margins:
+        return []
+    lines = []
+    lam = margins.get("laminar")
+    if lam:
+        lines.append(
+            f"  laminar margin      smallest lambda = {_fmt(lam['lambda'])} at s = "
+            f"{_fmt(lam['s'])} (separation at {options['separation_lambda']})"
+        )
+    turb = margins.get("turbulent")
+    if turb:
+        lines.append(
+            f"  turbulent margin    largest H = {_fmt(turb['shape_factor'])} at s = "
+            f"{_fmt(turb['s'])} (separation at {options['separation_shape_factor']})"
+        )
+    return lines
+
+
 def summary(result: dict[str, Any]) -> str:
     """A readable summary of a result document, one block per side, with the caution."""
     lines = []
@@ -188,10 +208,21 @@ def summary(result: dict[str, Any]) -> str:
                 + (" (likely to burst: treated as separation)" if ls["bubble"] == "long" else "")
             )
         sep = side["separation"]
+        plateau = side.get("pressure_plateau")
         if sep:
             lines.append(f"  separation          {_where(sep)}, {sep['regime']}")
+        elif plateau:
+            lines.append("  separation          none predicted before the pressure plateau")
         else:
             lines.append("  separation          none: attached to the end of the surface")
+        if plateau:
+            ends_there = not sep and math.isclose(end, plateau["s"], rel_tol=1e-9, abs_tol=1e-12)
+            lines.append(
+                f"  pressure plateau    {_where(plateau)} to s = {_fmt(plateau['end_s'])}, "
+                f"mean Cp = {_fmt(plateau['cp'])}: separated flow in the input data"
+                + ("; the stations end at its onset" if ends_there else "")
+            )
+        lines.extend(_margin_lines(side.get("margins"), options))
         m = side["mesh"]
         for cell in m["first_cell"]:
             lines.append(

@@ -81,7 +81,7 @@ I64 = NDArray[np.int64]
 PLATEAU_BAND = 0.10
 #: Cp is settled on the plateau level within this fraction of the band [-] (rule of
 #: practice); the onset is found before that point (see the module).
-PLATEAU_ONSET_BAND = 0.1
+PLATEAU_ONSET_BAND = 0.25
 #: Shortest plateau, as a fraction of the side's arc length [-] (rule of practice).
 PLATEAU_MIN_LENGTH = 0.15
 #: Fewest input points on a plateau (a level needs three points to be seen) [-].
