@@ -87,11 +87,11 @@ _EVENTS = {
     "short": _Style("laminar separation, short bubble", "^", "#9467bd", ":", 6.5),
     "long": _Style("laminar separation, long bubble (bursts)", "v", "#9467bd", ":", 6.5),
     "plateau": _Style(
-        "pressure plateau onset (separated flow in the data)", "X", "#8c564b", (0, (6, 2, 1, 2)), 9.0
+        "plateau onset (separated in the data)", "X", "#8c564b", (0, (6, 2, 1, 2)), 9.0
     ),
 }
 #: The closest approach to separation on each regime (margins), marked on the H panel.
-_MARGIN = _Style("closest approach to separation (min lambda, max H)", "o", "#555555", "-", 5.0)
+_MARGIN = _Style("nearest to separation (min lambda, max H)", "o", "#555555", "-", 5.0)
 _STAGNATION = _Style("stagnation point", "*", "#ff9900", "-", 13.0)
 
 
@@ -282,11 +282,14 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
     return handles
 
 
-def _legend_panel(ax: Axes, handles: list[Line2D]) -> None:
+def _legend_columns(handles: list[Line2D], sides: int) -> int:
+    """Legend columns: as many as fit the width of the figure's sides."""
+    return max(1, min(3 if sides < 2 else 5, len(handles)))
+
+
+def _legend_panel(ax: Axes, handles: list[Line2D], columns: int) -> None:
     ax.axis("off")
-    ax.legend(
-        handles=handles, loc="center", ncols=min(5, len(handles)), fontsize=8.5, frameon=False
-    )
+    ax.legend(handles=handles, loc="center", ncols=columns, fontsize=8.5, frameon=False)
 
 
 # ---------------------------------------------------------------------------- contour
@@ -497,11 +500,13 @@ def build(
     ncols = len(sides)
     width = 6.2 * ncols + 1.6 / ncols
     top_height = _contour_height(result, width) if contour else 1.1
-    heights = [0.45, top_height, 2.1, 2.1, 2.1]
+    h_sep = float(result.get("options", {}).get("separation_shape_factor", 2.4))
+    handles = _legend_handles(result, h_sep)
+    rows = math.ceil(len(handles) / _legend_columns(handles, ncols))
+    heights = [0.25 + 0.2 * rows, top_height, 2.1, 2.1, 2.1]
     fig = new_figure(width, sum(heights) + 1.4)
     grid = fig.add_gridspec(len(heights), ncols, height_ratios=heights)
-    h_sep = float(result.get("options", {}).get("separation_shape_factor", 2.4))
-    _legend_panel(fig.add_subplot(grid[0, :]), _legend_handles(result, h_sep))
+    _legend_panel(fig.add_subplot(grid[0, :]), handles, _legend_columns(handles, ncols))
     top = fig.add_subplot(grid[1, :])
     if contour:
         _contour_panel(top, result, units, outline)
