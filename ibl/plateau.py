@@ -25,7 +25,8 @@ The rule below is a rule of practice, not a published criterion: its thresholds 
 constants chosen so that it fires on bluff-body data and not on attached flows (tested on
 potential flows about cylinders, ellipses, a sphere, thin sections, on flat plates and on
 bodies with a nose and a long parallel part). A stretch of input points downstream of the
-suction peak (the largest Ue on the side) is a plateau when
+suction peak (the largest Ue on the side; the first point within ``PLATEAU_ONSET_BAND`` times
+the band of its Cp, so that scatter along a plateau does not move it) is a plateau when
 
 (a) the spread of Cp over it (largest minus smallest) is at most ``PLATEAU_BAND`` times the
     side's Cp range, so that every value lies within that band of the stretch's mean;
@@ -87,9 +88,10 @@ PLATEAU_MIN_LENGTH = 0.15
 #: Fewest input points on a plateau (a level needs three points to be seen) [-].
 PLATEAU_MIN_POINTS = 3
 #: Least turning of the wall tangent over a plateau [deg] (rule of practice). Potential flow
-#: about a circular cylinder keeps Cp within the band of its minimum over 18 degrees of
-#: turning, a sphere over the same; the rear of a bluff body turns by 90 degrees or more.
-PLATEAU_MIN_TURNING = 30.0
+#: about a circular cylinder keeps Cp within the band from its minimum over 18 degrees of
+#: turning (27 counted from where Cp first comes near its minimum), a sphere the same; the
+#: rear of a bluff body turns by 90 degrees or more behind separation.
+PLATEAU_MIN_TURNING = 45.0
 
 
 @dataclass(frozen=True, slots=True)
@@ -186,6 +188,12 @@ def _tangent_angle(x: F64, y: F64) -> F64:
     return np.unwrap(np.arctan2(np.diff(y), np.diff(x)))
 
 
+def _peak(cp: F64, band: float) -> int:
+    """The suction peak: the first point within ``PLATEAU_ONSET_BAND`` times the band of the
+    smallest Cp (so that scatter on a plateau as low as the peak does not move it there)."""
+    return int(np.argmax(cp <= cp.min() + PLATEAU_ONSET_BAND * band))
+
+
 def _stretches(s: F64, cp: F64) -> tuple[int, I64, I64, float] | None:
     """Candidate starts (from the suction peak on), the end of each one's stretch within the
     band, and the band; None when the side has no pressure range."""
@@ -196,8 +204,7 @@ def _stretches(s: F64, cp: F64) -> tuple[int, I64, I64, float] | None:
     if not span > 0.0:
         return None
     band = PLATEAU_BAND * span
-    peak = int(np.argmin(cp))
-    first = max(peak, 1)
+    first = max(_peak(cp, band), 1)
     if first > n - PLATEAU_MIN_POINTS:
         return None
     starts = np.arange(first, n)
@@ -256,7 +263,7 @@ def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
         return None
     k = int(np.argmax(ok))
     i0, j0 = int(starts[k]), int(ends[k])
-    onset, m = _onset(s, cp, int(np.argmin(cp)), i0, j0, band)
+    onset, m = _onset(s, cp, _peak(cp, band), i0, j0, band)
     turned = math.degrees(abs(float(angle[max(j0 - 1, m - 1)] - angle[m - 1])))
     if (
         j0 - m < PLATEAU_MIN_POINTS - 1
@@ -289,7 +296,7 @@ def level_stretch(s: F64, cp: F64) -> Plateau | None:
         return None
     k = int(np.argmax(ok))
     i0, j0 = int(starts[k]), int(ends[k])
-    onset, m = _onset(s, cp, int(np.argmin(cp)), i0, j0, band)
+    onset, m = _onset(s, cp, _peak(cp, band), i0, j0, band)
     if j0 - m < PLATEAU_MIN_POINTS - 1 or s[j0] - onset < PLATEAU_MIN_LENGTH * length:
         return None
     return Plateau(
