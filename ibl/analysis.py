@@ -22,9 +22,9 @@ from numpy.typing import NDArray
 
 from ibl import march as march_module
 from ibl import mesh, transition, turbulent
-from ibl.plateau import Plateau, cp_from_edge_velocity, cut_side, find_plateau, level_stretch
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
+from ibl.plateau import Plateau, cp_from_edge_velocity, cut_side, find_plateau
 from ibl.prepare import Prepared, SideInput, prepare
 from ibl.schema import (
     Case,
@@ -192,23 +192,11 @@ def _plateaus(case: Case, prepared: Prepared) -> _Ready:
     sides, plateaus, cut = [], [], []
     for side in prepared.sides:
         cp = cp_from_edge_velocity(side.ue, case.flow.mach)
+        # Single-surface input has no geometry to tell a separated plateau from attached
+        # flow at constant pressure (ibl.plateau, rule (c)): it is not checked.
         found = None
         if side.x is not None and side.y is not None:
             found = find_plateau(side.s, cp, side.x, side.y)
-        else:
-            level = level_stretch(side.s, cp)
-            if level is not None:
-                prepared.warnings.append(
-                    Notice(
-                        code="pressure_plateau_not_checked",
-                        message=f"{side.name}: Cp stays near {level.cp:.3g} from s = "
-                        f"{level.onset_s + side.offset:.4g} to {level.end_s + side.offset:.4g}; "
-                        "without a contour the tool cannot tell a separated region (a base-"
-                        "pressure plateau) from attached flow at constant pressure, so the "
-                        "stations go on through it; give x and y to have it checked",
-                        pointer="/surface/s",
-                    )
-                )
         shorter = cut_side(side, found.onset_s) if found is not None else None
         sides.append(shorter if shorter is not None else side)
         plateaus.append(found)
@@ -279,7 +267,11 @@ def _options(case: Case) -> dict[str, str | float]:
         "skin_friction": case.turbulent.skin_friction,
         "initial_shape_factor": case.turbulent.initial_shape_factor,
         "separation_shape_factor": case.turbulent.separation_shape_factor,
-        "pressure_plateau": "on" if case.separation.pressure_plateau else "off",
+        "pressure_plateau": (
+            "off"
+            if not case.separation.pressure_plateau
+            else ("on" if case.surface.s is None else "not_checked_without_contour")
+        ),
     }
 
 

@@ -4,8 +4,6 @@ Contents
 --------
 - ``find_plateau(s, cp, x, y)``: the constant-pressure region downstream of the suction
   peak of one side, or None.
-- ``level_stretch(s, cp)``: the same search by the pressure level alone (no geometry), for
-  single-surface input, where it is reported but not acted on.
 - ``cut_side(side, onset_s)``: a ``SideInput`` ended at the plateau onset, its last point
   interpolated there.
 - ``cp_from_edge_velocity(ue, mach)``: Cp back from Ue/U_inf (Bernoulli or isentropic).
@@ -39,8 +37,10 @@ Condition (c) is what tells separated from attached flow: attached flow keeps a 
 pressure only along a nearly straight wall (a flat plate, the parallel part of a body),
 while a separated region keeps it while the wall turns away beneath it (the rear of a
 circular cylinder) or round a corner to a base. Single-surface input has no geometry, so (c)
-cannot be tested: the plateau is then not acted on, and a warning says where the level rule
-alone would have found one.
+cannot be tested, and the pressure level alone cannot tell: the rear of Hiemenz's measured
+cylinder distribution up to separation, decelerating wedge flows and the flat part of a
+sphere's potential flow all keep Cp within the band over long stretches while attached. Such
+input is not checked (the result's options say ``not_checked_without_contour``).
 
 The onset is located as in the free-streamline picture, where the constant level begins:
 the plateau level is the median Cp over the stretch; between the suction peak and the first
@@ -70,7 +70,6 @@ __all__ = [
     "cp_from_edge_velocity",
     "cut_side",
     "find_plateau",
-    "level_stretch",
 ]
 
 F64 = NDArray[np.float64]
@@ -153,7 +152,7 @@ def _reach(values: F64, band: float, first: int) -> I64:
     at once (the spread never shrinks as j grows): O(n log n), vectorised.
     """
     n = values.size
-    levels = max(1, int(math.floor(math.log2(n))) + 1)
+    levels = max(1, math.floor(math.log2(n)) + 1)
     high = np.empty((levels, n))
     low = np.empty((levels, n))
     high[0] = low[0] = values
@@ -172,10 +171,10 @@ def _reach(values: F64, band: float, first: int) -> I64:
             break
         mid = np.where(open_, (lo + hi) // 2, lo)
         length = mid - start + 1
-        level = np.floor(np.log2(length)).astype(np.int64)
-        other = mid - (1 << level) + 1
-        spread = np.maximum(high[level, start], high[level, other]) - np.minimum(
-            low[level, start], low[level, other]
+        rank = np.floor(np.log2(length)).astype(np.int64)
+        other = mid - np.left_shift(1, rank) + 1
+        spread = np.maximum(high[rank, start], high[rank, other]) - np.minimum(
+            low[rank, start], low[rank, other]
         )
         ok = spread <= band
         lo = np.where(open_ & ok, mid, lo)
@@ -249,7 +248,7 @@ def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
     found = _stretches(s, cp)
     if found is None:
         return None
-    first, starts, ends, band = found
+    _, starts, ends, band = found
     length = float(s[-1] - s[0])
     angle = _tangent_angle(x, y)
     incoming = angle[starts - 1]
@@ -277,34 +276,6 @@ def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
         cp=float(np.mean(cp[m : j0 + 1])),
         end_s=float(s[j0]),
         turning=turned,
-    )
-
-
-def level_stretch(s: F64, cp: F64) -> Plateau | None:
-    """The first stretch downstream of the suction peak that meets rules (a) and (b) alone
-    (no geometry: rule (c) is not tested), or None: for single-surface input, where such a
-    stretch may be a separated region or attached flow at constant pressure."""
-    found = _stretches(s, cp)
-    if found is None:
-        return None
-    _, starts, ends, band = found
-    length = float(s[-1] - s[0])
-    ok = (ends - starts >= PLATEAU_MIN_POINTS - 1) & (
-        s[ends] - s[starts] >= PLATEAU_MIN_LENGTH * length
-    )
-    if not ok.any():
-        return None
-    k = int(np.argmax(ok))
-    i0, j0 = int(starts[k]), int(ends[k])
-    onset, m = _onset(s, cp, _peak(cp, band), i0, j0, band)
-    if j0 - m < PLATEAU_MIN_POINTS - 1 or s[j0] - onset < PLATEAU_MIN_LENGTH * length:
-        return None
-    return Plateau(
-        onset_s=onset,
-        onset_index=m,
-        cp=float(np.mean(cp[m : j0 + 1])),
-        end_s=float(s[j0]),
-        turning=math.nan,
     )
 
 

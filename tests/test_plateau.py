@@ -79,7 +79,8 @@ def test_circular_mast_plateau_begins_at_the_assumed_separation_angle(step_deg: 
         assert abs(onset_deg - 80.0) <= max(0.5 * step_deg, 2.5), onset_deg
         base = 1.0 - 2.3 * math.sin(math.radians(90.0 * 80.0 / 70.0)) ** 2
         assert plateau["cp"] == pytest.approx(base, abs=0.01)
-        assert plateau["end_s"] == pytest.approx(0.5 * math.pi, rel=1e-9)  # the rear point
+        # The rear point; arc length along the chords: 1 - step^2/24 of the arc (step in rad).
+        assert plateau["end_s"] == pytest.approx(0.5 * math.pi, rel=2e-3)
         assert side["separation"] is None
         assert side["s"][-1] == pytest.approx(plateau["s"], rel=1e-12)  # stations end there
         assert plateau["x"] == pytest.approx(-0.5 * math.cos(plateau["s"] / 0.5), abs=2e-3)
@@ -95,9 +96,10 @@ def rounded_square(corner: float = 0.1, n_face: int = 16, n_corner: int = 10):
     front = np.column_stack((np.full(n_face, -h), np.linspace(0.0, h - corner, n_face)))
     phi = np.linspace(0.0, 0.5 * np.pi, n_corner + 1)[1:]
     c1 = np.column_stack((-h + corner - corner * np.cos(phi), h - corner + corner * np.sin(phi)))
-    top = np.column_stack((np.linspace(-h + corner, h - corner, 2 * n_face)[1:], np.full(2 * n_face - 1, h)))
+    top_x = np.linspace(-h + corner, h - corner, 2 * n_face)[1:]
+    top = np.column_stack((top_x, np.full(top_x.size, h)))
     c2 = np.column_stack((h - corner + corner * np.sin(phi), h - corner + corner * np.cos(phi)))
-    rear = np.column_stack((np.full(n_face, h), np.linspace(h - corner, 0.0, n_face)[1:]))
+    rear = np.column_stack((np.full(n_face - 1, h), np.linspace(h - corner, 0.0, n_face)[1:]))
     upper = np.vstack((front, c1, top, c2, rear))
     arc = np.concatenate(([0.0], np.cumsum(np.hypot(*np.diff(upper, axis=0).T))))
     corner_end = n_face + n_corner - 1
@@ -122,21 +124,24 @@ def mirrored(upper: np.ndarray, cp: np.ndarray):
 
 def test_rounded_square_plateau_begins_where_the_front_corner_ends() -> None:
     # Invented scenario: separation assumed at the end of the front corner rounding (the
-    # suction peak), constant base pressure beyond; onset within one point spacing.
+    # suction peak), a recovery to the constant base pressure within the next spacing; the
+    # onset lies within that spacing.
     upper, cp, corner_end_s, spacing = rounded_square()
     x, y, c = mirrored(upper, cp)
     result = analyze(contour_case(x, y, c))
     for name in ("upper", "lower"):
         plateau = side_of(result, name)["pressure_plateau"]
         assert plateau is not None
-        assert abs(plateau["s"] - corner_end_s) <= spacing
+        assert corner_end_s - 1e-9 <= plateau["s"] <= corner_end_s + spacing + 1e-9
         assert plateau["cp"] == pytest.approx(-1.4, abs=0.01)
 
 
 def test_d_section_plateau_begins_at_the_corners_of_the_base() -> None:
     # Invented D-section: semicircular front (radius 0.5), flat base at x = 0; attached
     # Cp = 1 - 2.2 sin^2(theta) on the front up to the corners (theta = 90 deg), then the
-    # constant base Cp = -1.2 over the base.
+    # constant base Cp = -1.2 over the base. Tolerance one tap spacing (5 deg): the attached
+    # Cp at 85 deg is already within the scatter allowance of the minimum (rule of practice
+    # PLATEAU_ONSET_BAND), so the data cannot place the onset closer.
     theta = np.radians(np.arange(0.0, 90.1, 5.0))
     front = np.column_stack((-0.5 * np.cos(theta), 0.5 * np.sin(theta)))
     base = np.column_stack((np.zeros(10), np.linspace(0.5, 0.0, 11)[1:]))
@@ -147,9 +152,9 @@ def test_d_section_plateau_begins_at_the_corners_of_the_base() -> None:
     for name in ("upper", "lower"):
         plateau = side_of(result, name)["pressure_plateau"]
         assert plateau is not None
-        assert plateau["s"] == pytest.approx(0.25 * math.pi, abs=1e-9)  # the corner
-        assert (plateau["x"], abs(plateau["y"])) == pytest.approx((0.0, 0.5), abs=1e-9)
-        assert plateau["end_s"] == pytest.approx(0.25 * math.pi + 0.5, abs=1e-9)
+        corner_s = 18 * 0.5 * 2.0 * math.sin(math.radians(2.5))  # along the chords
+        assert corner_s - 0.5 * math.radians(5.0) - 1e-9 <= plateau["s"] <= corner_s + 1e-9
+        assert plateau["end_s"] == pytest.approx(corner_s + 0.5, abs=1e-9)
 
 
 def test_transition_and_laminar_separation_before_the_plateau_are_still_found() -> None:
@@ -180,7 +185,7 @@ def test_plateau_detection_can_be_switched_off() -> None:
     result = analyze(contour_case(x, y, cp, separation={"pressure_plateau": False}))
     for side in result["sides"]:
         assert side["pressure_plateau"] is None
-        assert side["s"][-1] == pytest.approx(0.5 * math.pi, rel=1e-9)  # to the rear point
+        assert side["s"][-1] == pytest.approx(0.5 * math.pi, rel=2e-3)  # to the rear point
     assert result["options"]["pressure_plateau"] == "off"
     with pytest.raises(ibl.CaseError) as error:
         ibl.parse_case(contour_case(x, y, cp, separation={"pressure_plateau": "yes"}))
@@ -342,13 +347,14 @@ def test_no_plateau_or_warning_on_single_surface_attached_flows(name: str, ue: A
     result = analyze(surface_case(s, ue(s), 1e5))
     assert result["sides"][0]["pressure_plateau"] is None
     codes = {w["code"] for w in result["warnings"]}
-    assert not codes & {"pressure_plateau", "pressure_plateau_not_checked"}, codes
+    assert "pressure_plateau" not in codes
 
 
-def test_single_surface_plateau_is_reported_not_acted_on() -> None:
-    # The mast's upper side given by arc length only: without geometry the level rule is
-    # only reported (warning), the stations go on to the end.
-    x, y, cp = mast(5.0)
+def test_single_surface_input_is_not_checked_for_a_plateau() -> None:
+    # The mast's upper side given by arc length only: without geometry the level alone
+    # cannot tell separated from attached flow; nothing is found, the stations go on to the
+    # end and the options say so.
+    _, _, cp = mast(5.0)
     half = np.arange(36, 73)
     s = 0.5 * np.radians(np.arange(0.0, 180.1, 5.0))
     result = analyze({"surface": {"s": s.tolist()}, "pressure": {"cp": cp[half].tolist()},
@@ -356,7 +362,7 @@ def test_single_surface_plateau_is_reported_not_acted_on() -> None:
     side = result["sides"][0]
     assert side["pressure_plateau"] is None
     assert side["s"][-1] == pytest.approx(s[-1])
-    assert "pressure_plateau_not_checked" in {w["code"] for w in result["warnings"]}
+    assert result["options"]["pressure_plateau"] == "not_checked_without_contour"
 
 
 def test_no_plateau_on_any_validation_reference_case(monkeypatch: pytest.MonkeyPatch) -> None:
@@ -400,7 +406,9 @@ def thwaites_howarth_lambda(x: float) -> float:
 
 
 @pytest.mark.parametrize(("end", "near"), [(0.08, False), (0.115, True)])
-def test_laminar_margin_matches_thwaites_closed_form_on_howarth_flow(end: float, near: bool) -> None:
+def test_laminar_margin_matches_thwaites_closed_form_on_howarth_flow(
+    end: float, near: bool
+) -> None:
     # Tolerance 1 %: the quadrature is near exact for this polynomial Ue; the three-point
     # end gradient is exact for a linear Ue.
     s = np.linspace(0.0, end, 201)
@@ -424,7 +432,8 @@ def test_turbulent_margin_is_the_largest_turbulent_shape_factor_of_the_stations(
     k = int(np.argmax(np.where(turbulent, h, -np.inf)))
     assert side["margins"]["turbulent"]["shape_factor"] == h[k]
     assert side["margins"]["turbulent"]["s"] == side["s"][k]
-    assert side["margins"]["laminar"] is None  # turbulent from the start
+    laminar = side["margins"]["laminar"]  # only the starting station is laminar
+    assert laminar is None or laminar["s"] == side["s"][0]
 
 
 # ------------------------------------------------------------------ where it is shown
@@ -446,7 +455,8 @@ def test_summary_names_the_plateau_and_the_margins(mast_result: dict[str, Any]) 
 def test_station_table_header_states_the_plateau(mast_result: dict[str, Any]) -> None:
     header = [line for line in stations_csv(mast_result).splitlines() if line.startswith("#")]
     onset = side_of(mast_result, "upper")["pressure_plateau"]["s"]
-    assert any(line.startswith("# pressure plateau, upper") and repr(onset) in line for line in header)
+    assert any(line.startswith("# pressure plateau, upper") and repr(onset) in line
+               for line in header)  # fmt: skip
     assert any(line.startswith("# laminar margin, upper") for line in header)
 
 
