@@ -26,7 +26,7 @@ from ibl import analysis
 from ibl.analysis import NEAR_SEPARATION_FRACTION, analyze
 from ibl.cli import summary
 from ibl.figures import render
-from ibl.plateau import PLATEAU_MIN_TURNING, find_plateau
+from ibl.plateau import PLATEAU_MIN_TURNING, _reach, find_plateau
 from ibl.references import surface_case
 from ibl.sweep import sweep, sweep_csv, sweep_text
 from ibl.table import stations_csv
@@ -388,6 +388,23 @@ def test_no_plateau_on_the_demonstration_case() -> None:
     assert all(side["pressure_plateau"] is None for side in result["sides"])
 
 
+def test_band_reach_matches_a_direct_scan() -> None:
+    # The compiled scan against the definition: the longest stretch from each start whose
+    # spread (max - min) stays within the band, found by brute force.
+    rng = np.random.default_rng(7)
+    for _ in range(300):
+        n = int(rng.integers(1, 60))
+        values = np.cumsum(rng.normal(size=n)) * rng.uniform(0.1, 2.0)
+        band, first = rng.uniform(0.0, 3.0), int(rng.integers(0, n))
+        expected = []
+        for i in range(first, n):
+            j = i
+            while j + 1 < n and np.ptp(values[i : j + 2]) <= band:
+                j += 1
+            expected.append(j)
+        assert _reach(values, band, first).tolist() == expected
+
+
 # ------------------------------------------------------------------------------ margins
 
 
@@ -434,6 +451,26 @@ def test_turbulent_margin_is_the_largest_turbulent_shape_factor_of_the_stations(
     assert side["margins"]["turbulent"]["s"] == side["s"][k]
     laminar = side["margins"]["laminar"]  # only the starting station is laminar
     assert laminar is None or laminar["s"] == side["s"][0]
+
+
+def test_turbulent_near_separation_warning_follows_the_stated_fraction() -> None:
+    # Turbulent from the start on retarded flows Ue = 1 - a s: the warning is given exactly
+    # when the largest H passes H_sep - f (H_sep - H_0) = 2.2 without separating.
+    seen = set()
+    for a in (0.05, 0.3, 0.43, 0.44, 0.45):
+        s = np.linspace(0.0, 1.0, 201)
+        result = analyze(surface_case(s, 1.0 - a * s, 1e6, trip=0.0))
+        side = result["sides"][0]
+        h = side["margins"]["turbulent"]["shape_factor"]
+        separated = side["separation"] is not None
+        near = not separated and h >= 2.4 - NEAR_SEPARATION_FRACTION * (2.4 - 1.4)
+        warned = any(
+            w["code"] == "near_separation" and "turbulent" in w["message"]
+            for w in result["warnings"]
+        )
+        assert warned == near, (a, h, separated)
+        seen.add((near, separated))
+    assert len(seen) == 3  # the gradients span attached, near and separated layers
 
 
 # ------------------------------------------------------------------ where it is shown
