@@ -334,7 +334,8 @@ class MeshAdvice(Struct, frozen=True):
 
 
 class Side(Struct, frozen=True):
-    """Station arrays and events of one side, from its start to separation or its end."""
+    """Station arrays and events of one side, from its start to separation, to the onset of a
+    pressure plateau in the input, or to its end."""
 
     name: Literal["upper", "lower", "surface"]
     s: list[float]
