@@ -64,6 +64,11 @@ PIPELINE_CASES = 128
 NEAR_SEPARATION_FRACTION = 0.2
 
 
+#: A predicted separation this close to a plateau's onset (a fraction of the side's
+#: length) is reported as at the onset: the onset is located to within a tap spacing.
+PLATEAU_SAME_PLACE = 0.005
+
+
 @dataclass(slots=True)
 class _Ready:
     """A prepared case whose sides end at any pressure plateau found in the input."""
@@ -494,7 +499,11 @@ def _plateau_notice(
         "plateau); "
     )
     if math.isfinite(state.separation_s):
-        text += f"separation is predicted before it, at s = {state.separation_s + offset:.4g}"
+        at = state.separation_s + offset
+        if found.onset_s - state.separation_s <= PLATEAU_SAME_PLACE * float(side.s[-1]):
+            text += f"the layer is predicted to separate there too (s = {at:.4g})"
+        else:
+            text += f"separation is predicted before it, at s = {at:.4g}"
     elif cut:
         text += "the stations end at its onset; the layer is attached up to it"
     else:

@@ -151,22 +151,28 @@ def _where(event: dict[str, Any]) -> str:
     return text
 
 
-def _margin_lines(margins: dict[str, Any] | None, options: dict[str, Any]) -> list[str]:
-    """Closest approach to each separation criterion."""
-    if not margins:
-        return []
+def _margin_lines(side: dict[str, Any], options: dict[str, Any]) -> list[str]:
+    """Closest approach to each separation criterion over the stations."""
+    margins = side.get("margins") or {}
+    sep = side.get("separation") or {}
     lines = []
     lam = margins.get("laminar")
     if lam:
+        crossed = side.get("laminar_separation") is not None
         lines.append(
             f"  laminar margin      smallest lambda = {_fmt(lam['lambda'])} at s = "
-            f"{_fmt(lam['s'])} (separation at {options['separation_lambda']})"
+            f"{_fmt(lam['s'])} "
+            + ("(then crossed: laminar separation)" if crossed else "")
+            + f"(separation at {options['separation_lambda']})" * (not crossed)
         )
     turb = margins.get("turbulent")
     if turb:
+        crossed = sep.get("regime") == "turbulent"
         lines.append(
             f"  turbulent margin    largest H = {_fmt(turb['shape_factor'])} at s = "
-            f"{_fmt(turb['s'])} (separation at {options['separation_shape_factor']})"
+            f"{_fmt(turb['s'])} "
+            + ("(crossed: turbulent separation)" if crossed else "")
+            + f"(separation at {options['separation_shape_factor']})" * (not crossed)
         )
     return lines
 
@@ -222,7 +228,7 @@ def summary(result: dict[str, Any]) -> str:
                 f"mean Cp = {_fmt(plateau['cp'])}: separated flow in the input data"
                 + ("; the stations end at its onset" if ends_there else "")
             )
-        lines.extend(_margin_lines(side.get("margins"), options))
+        lines.extend(_margin_lines(side, options))
         m = side["mesh"]
         for cell in m["first_cell"]:
             lines.append(
