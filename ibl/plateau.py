@@ -45,9 +45,14 @@ input is not checked (the result's options say ``not_checked_without_contour``).
 The onset is located as in the free-streamline picture, where the constant level begins:
 the plateau level is the median Cp over the stretch; between the suction peak and the first
 point settled on the level (within ``PLATEAU_ONSET_BAND`` times the band), the onset is where
-the steepest recovery segment, extended, reaches the level (between input points); where Cp
+the steepest recovery segment, extended, reaches the level (between input points, and no
+later than the settled point); where Cp
 does not recover before the level (separation at a corner, at the suction peak itself), the
 onset is that point. The end is the last input point within the band.
+
+The search is pure and works on whole arrays; only the scan for the longest stretch within
+the band from every start (``_reach``) is a compiled loop, as the input scans of
+``ibl.prepare`` are, because its vectorised form cost more than the march of the side.
 """
 
 from __future__ import annotations
