@@ -12,6 +12,7 @@ from __future__ import annotations
 
 import math
 from concurrent.futures import Future, ThreadPoolExecutor
+from dataclasses import dataclass
 from typing import Any, Literal
 
 import msgspec
@@ -23,20 +24,25 @@ from ibl import kernel, mesh, transition, turbulent
 from ibl import march as march_module
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
+from ibl.plateau import Plateau, cp_from_edge_velocity, cut_side, find_plateau
 from ibl.prepare import Prepared, SideInput, prepare
 from ibl.schema import (
     Case,
     FirstCell,
+    LaminarMargin,
     LaminarSeparationEvent,
+    Margins,
     MeshAdvice,
     Notice,
+    PressurePlateauEvent,
     Result,
     SeparationEvent,
     Side,
     TransitionEvent,
+    TurbulentMargin,
 )
 
-__all__ = ["CAUTION", "analyze", "parse_case", "run", "run_batch"]
+__all__ = ["CAUTION", "NEAR_SEPARATION_FRACTION", "analyze", "parse_case", "run", "run_batch"]
 
 #: Carried by every result, the CLI summary and the API description.
 CAUTION = (
@@ -54,6 +60,29 @@ INFLOW_H_TOLERANCE = 0.1
 
 #: Cases per chunk when a large batch is pipelined (see ``run_batch``).
 PIPELINE_CASES = 128
+
+#: A side comes near separation (warning ``near_separation``) when it gets within this
+#: fraction of the way from zero pressure gradient to a separation criterion without
+#: crossing it: Thwaites' lambda from 0 to its separation value (-0.09: warned from -0.072),
+#: the turbulent H from its initial value to the separation value (1.4 to 2.4: warned from
+#: 2.2). Common practice for a margin of an integral method; published turbulent criteria
+#: alone range from H = 1.8 to 2.4.
+NEAR_SEPARATION_FRACTION = 0.2
+
+
+#: A predicted separation this close to a plateau's onset (a fraction of the side's
+#: length) is reported as at the onset: the onset is located to within a tap spacing.
+PLATEAU_SAME_PLACE = 0.005
+
+
+@dataclass(slots=True)
+class _Ready:
+    """A prepared case whose sides end at any pressure plateau found in the input."""
+
+    prepared: Prepared
+    plateaus: list[Plateau | None]
+    cut: list[bool]  # the side's stations were ended at its plateau
+
 
 _JSON_DECODER = msgspec.json.Decoder(Case)
 _MSGPACK_DECODER = msgspec.msgpack.Decoder(Case)
@@ -137,8 +166,8 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
     """
     convert = _ARRAYS[arrays]
     if len(cases) < 2 * PIPELINE_CASES or march_module.THREADS < 2:
-        prepared = _prepare_all(cases)
-        return _results(cases, prepared, march(_sides(prepared)), convert)
+        ready = _prepare_all(cases)
+        return _results(cases, ready, march(_sides(ready)), convert)
     # Pipelined: one chunk marches in a thread, without the interpreter lock, while the
     # next is prepared and the results of the one before are built.
     results: list[Result | CaseError] = []
@@ -156,23 +185,44 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
     return results
 
 
-def _prepare_all(cases: list[Case]) -> list[Prepared | CaseError]:
-    prepared: list[Prepared | CaseError] = []
+def _prepare_all(cases: list[Case]) -> list[_Ready | CaseError]:
+    prepared: list[_Ready | CaseError] = []
     for case in cases:
         try:
-            prepared.append(prepare(case))
+            prepared.append(_plateaus(case, prepare(case)))
         except CaseError as error:
             prepared.append(error)
     return prepared
 
 
-def _sides(prepared: list[Prepared | CaseError]) -> list[SideInput]:
-    return [side for p in prepared if isinstance(p, Prepared) for side in p.sides]
+def _plateaus(case: Case, prepared: Prepared) -> _Ready:
+    """Look for a pressure plateau on each side (``ibl.plateau``) and end the side there."""
+    count = len(prepared.sides)
+    if not case.separation.pressure_plateau:
+        return _Ready(prepared, [None] * count, [False] * count)
+    sides, plateaus, cut = [], [], []
+    for side in prepared.sides:
+        cp = cp_from_edge_velocity(side.ue, case.flow.mach)
+        # Single-surface input has no geometry to tell a separated plateau from attached
+        # flow at constant pressure (ibl.plateau, rule (c)): it is not checked.
+        found = None
+        if side.x is not None and side.y is not None:
+            found = find_plateau(side.s, cp, side.x, side.y)
+        shorter = cut_side(side, found.onset_s) if found is not None else None
+        sides.append(shorter if shorter is not None else side)
+        plateaus.append(found)
+        cut.append(shorter is not None)
+    ready = Prepared(sides, prepared.stagnation, prepared.warnings)
+    return _Ready(ready, plateaus, cut)
+
+
+def _sides(prepared: list[_Ready | CaseError]) -> list[SideInput]:
+    return [side for p in prepared if isinstance(p, _Ready) for side in p.prepared.sides]
 
 
 def _results(
     cases: list[Case],
-    prepared: list[Prepared | CaseError],
+    prepared: list[_Ready | CaseError],
     marched: list[SideState] | Future[list[SideState]],
     convert: _Converter,
 ) -> list[Result | CaseError]:
@@ -180,17 +230,23 @@ def _results(
     error."""
     states = iter(marched.result() if isinstance(marched, Future) else marched)
     results: list[Result | CaseError] = []
-    for case, p in zip(cases, prepared, strict=True):
-        if isinstance(p, CaseError):
-            results.append(p)
+    for case, ready in zip(cases, prepared, strict=True):
+        if isinstance(ready, CaseError):
+            results.append(ready)
             continue
+        p = ready.prepared
         warnings = list(p.warnings)
         built = []
         for index, side in enumerate(p.sides):
             state = next(states)
-            built.append(_side(side, state, convert, warnings, f"/sides/{index}"))
+            pointer = f"/sides/{index}"
+            found = ready.plateaus[index]
+            built.append(_side(side, state, convert, warnings, pointer, found))
+            if found is not None:
+                warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
             warnings.extend(_range_warnings(side, state))
             warnings.extend(_laminar_inflow_notice(side, state))
+            warnings.extend(_near_separation(side, state, built[-1].margins))
         results.append(
             Result(
                 name=case.name,
@@ -223,6 +279,11 @@ def _options(case: Case) -> dict[str, str | float]:
         "skin_friction": case.turbulent.skin_friction,
         "initial_shape_factor": case.turbulent.initial_shape_factor,
         "separation_shape_factor": case.turbulent.separation_shape_factor,
+        "pressure_plateau": (
+            "off"
+            if not case.separation.pressure_plateau
+            else ("on" if case.surface.s is None else "not_checked_without_contour")
+        ),
     }
 
 
@@ -343,6 +404,7 @@ def _side(
     arrays: _Converter,
     warnings: list[Notice],
     pointer: str,
+    found: Plateau | None = None,
 ) -> Side:
     """The result document of one side; a notice in ``warnings`` if its stations were cut."""
     keep = state.count
@@ -415,6 +477,8 @@ def _side(
         transition=tr,
         laminar_separation=lsep,
         separation=sep,
+        pressure_plateau=_plateau_event(side, found),
+        margins=_margins(side, state),
         mesh=_mesh(side, state),
     )
 
@@ -436,6 +500,104 @@ def _thin_layer_notice(side: SideInput, state: SideState, pointer: str) -> Notic
         " and nothing beyond is reported",
         pointer=f"{pointer}/s/{last}",
     )
+
+
+def _plateau_event(side: SideInput, found: Plateau | None) -> PressurePlateauEvent | None:
+    if found is None:
+        return None
+    x, y = _xy_at(side, found.onset_s)
+    return PressurePlateauEvent(
+        s=found.onset_s + side.offset,
+        x=x,
+        y=y,
+        cp=found.cp,
+        end_s=found.end_s + side.offset,
+    )
+
+
+def _plateau_notice(
+    side: SideInput, state: SideState, found: Plateau, cut: bool, pointer: str
+) -> Notice:
+    """What the plateau means for the stations of the side."""
+    offset = side.offset
+    text = (
+        f"{side.name}: the input pressure stops recovering and stays near Cp = {found.cp:.3g} "
+        f"from s = {found.onset_s + offset:.4g} to {found.end_s + offset:.4g} while the wall "
+        f"turns by {found.turning:.0f} deg: the data show separated flow there (a base-pressure "
+        "plateau); "
+    )
+    if math.isfinite(state.separation_s):
+        at = state.separation_s + offset
+        if found.onset_s - state.separation_s <= PLATEAU_SAME_PLACE * float(side.s[-1]):
+            text += f"the layer is predicted to separate there too (s = {at:.4g})"
+        else:
+            text += f"separation is predicted before it, at s = {at:.4g}"
+    elif cut:
+        text += "the stations end at its onset; the layer is attached up to it"
+    else:
+        text += "too few input points precede it to end the stations there"
+    return Notice(code="pressure_plateau", message=text, pointer=f"{pointer}/pressure_plateau")
+
+
+def _margins(side: SideInput, state: SideState) -> Margins:
+    """The smallest Thwaites lambda over the laminar stations and the largest H over the
+    turbulent ones, with where they occur."""
+    laminar = turbulent_margin = None
+    lam = np.where(state.turbulent, np.inf, state.thwaites_lambda)
+    finite = np.isfinite(lam)
+    if finite.any():
+        i = int(np.argmin(np.where(finite, lam, np.inf)))
+        laminar = LaminarMargin(thwaites_lambda=float(lam[i]), s=float(state.s[i]) + side.offset)
+    h = np.where(state.turbulent, state.shape_factor, -np.inf)
+    finite = np.isfinite(h)
+    if finite.any():
+        i = int(np.argmax(np.where(finite, h, -np.inf)))
+        turbulent_margin = TurbulentMargin(
+            shape_factor=float(h[i]), s=float(state.s[i]) + side.offset
+        )
+    return Margins(laminar=laminar, turbulent=turbulent_margin)
+
+
+def _near_separation(side: SideInput, state: SideState, margins: Margins) -> list[Notice]:
+    """A side within ``NEAR_SEPARATION_FRACTION`` of a separation criterion, not crossing it."""
+    notes = []
+    options = side.options
+    keep = 1.0 - NEAR_SEPARATION_FRACTION
+    separated = math.isfinite(state.separation_s)
+    lam = margins.laminar
+    laminar_crossed = math.isfinite(state.laminar_separation_s) or (
+        separated and not state.separation_turbulent
+    )
+    if (
+        lam is not None
+        and not laminar_crossed
+        and lam.thwaites_lambda <= keep * options.separation_lambda
+    ):
+        notes.append(
+            Notice(
+                code="near_separation",
+                message=f"{side.name}: Thwaites' lambda falls to {lam.thwaites_lambda:.3g} at "
+                f"s = {lam.s:.4g}, within {NEAR_SEPARATION_FRACTION:.0%} of the laminar "
+                f"separation value {options.separation_lambda:g} without reaching it: a small "
+                "change in the pressure distribution may separate the laminar layer",
+            )
+        )
+    turb = margins.turbulent
+    h0, h_sep = options.initial_shape_factor, options.separation_shape_factor
+    near_h = h_sep - NEAR_SEPARATION_FRACTION * (h_sep - h0)
+    turbulent_crossed = separated and state.separation_turbulent
+    if turb is not None and not turbulent_crossed and turb.shape_factor >= near_h:
+        notes.append(
+            Notice(
+                code="near_separation",
+                message=f"{side.name}: the turbulent shape factor rises to "
+                f"{turb.shape_factor:.3g} at s = {turb.s:.4g}, within "
+                f"{NEAR_SEPARATION_FRACTION:.0%} of the way from {h0:g} to the separation "
+                f"value {h_sep:g} without reaching it; published criteria range from 1.8 to "
+                "2.4, so the layer may be separating",
+            )
+        )
+    return notes
 
 
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:

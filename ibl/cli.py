@@ -195,6 +195,32 @@ def _where(event: dict[str, Any]) -> str:
     return text
 
 
+def _margin_lines(side: dict[str, Any], options: dict[str, Any]) -> list[str]:
+    """Closest approach to each separation criterion over the stations."""
+    margins = side.get("margins") or {}
+    sep = side.get("separation") or {}
+    lines = []
+    lam = margins.get("laminar")
+    if lam:
+        crossed = side.get("laminar_separation") is not None
+        lines.append(
+            f"  laminar margin      smallest lambda = {_fmt(lam['lambda'])} at s = "
+            f"{_fmt(lam['s'])} "
+            + ("(then crossed: laminar separation)" if crossed else "")
+            + f"(separation at {options['separation_lambda']})" * (not crossed)
+        )
+    turb = margins.get("turbulent")
+    if turb:
+        crossed = sep.get("regime") == "turbulent"
+        lines.append(
+            f"  turbulent margin    largest H = {_fmt(turb['shape_factor'])} at s = "
+            f"{_fmt(turb['s'])} "
+            + ("(crossed: turbulent separation)" if crossed else "")
+            + f"(separation at {options['separation_shape_factor']})" * (not crossed)
+        )
+    return lines
+
+
 def summary(result: dict[str, Any]) -> str:
     """A readable summary of a result document, one block per side, with the caution."""
     lines = []
@@ -233,10 +259,21 @@ def summary(result: dict[str, Any]) -> str:
                 + (" (likely to burst: treated as separation)" if ls["bubble"] == "long" else "")
             )
         sep = side["separation"]
+        plateau = side.get("pressure_plateau")
         if sep:
             lines.append(f"  separation          {_where(sep)}, {sep['regime']}")
+        elif plateau:
+            lines.append("  separation          none predicted before the pressure plateau")
         else:
             lines.append("  separation          none: attached to the end of the surface")
+        if plateau:
+            ends_there = not sep and math.isclose(end, plateau["s"], rel_tol=1e-9, abs_tol=1e-12)
+            lines.append(
+                f"  pressure plateau    {_where(plateau)} to s = {_fmt(plateau['end_s'])}, "
+                f"mean Cp = {_fmt(plateau['cp'])}: separated flow in the input data"
+                + ("; the stations end at its onset" if ends_there else "")
+            )
+        lines.extend(_margin_lines(side, options))
         m = side["mesh"]
         for cell in m["first_cell"]:
             lines.append(

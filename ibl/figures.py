@@ -86,7 +86,12 @@ _EVENTS = {
     "transition": _Style("transition", "D", "#2ca02c", "--", 8.5, filled=False),
     "short": _Style("laminar separation, short bubble", "^", "#9467bd", ":", 6.5),
     "long": _Style("laminar separation, long bubble (bursts)", "v", "#9467bd", ":", 6.5),
+    "plateau": _Style(
+        "plateau onset (separated in the data)", "X", "#8c564b", (0, (6, 2, 1, 2)), 9.0
+    ),
 }
+#: The closest approach to separation on each regime (margins), marked on the H panel.
+_MARGIN = _Style("nearest to separation (min lambda, max H)", "o", "#555555", "-", 5.0)
 _STAGNATION = _Style("stagnation point", "*", "#ff9900", "-", 13.0)
 
 
@@ -200,6 +205,9 @@ def _events(side: Mapping[str, Any]) -> list[tuple[_Style, float, float | None]]
     sep = side.get("separation")
     if sep is not None:
         out.append((_EVENTS[sep["regime"]], sep["s"], sep.get("x")))
+    plateau = side.get("pressure_plateau")
+    if plateau is not None:
+        out.append((_EVENTS["plateau"], plateau["s"], plateau.get("x")))
     return out
 
 
@@ -231,7 +239,7 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
         seen.extend(style for style, _, _ in _events(side) if style not in seen)
     order = [
         _STAGNATION,
-        *(_EVENTS[k] for k in ("transition", "short", "long", "laminar", "turbulent")),
+        *(_EVENTS[k] for k in ("transition", "short", "long", "laminar", "turbulent", "plateau")),
     ]
     for style in sorted(seen, key=order.index):
         handles.append(
@@ -245,6 +253,19 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
                 markersize=style.size * 0.8,
                 markerfacecolor=style.colour if style.filled else "none",
                 label=style.label,
+            )
+        )
+    if any(_margin_points(side) for side in result["sides"]):
+        handles.append(
+            Line2D(
+                [],
+                [],
+                color=_MARGIN.colour,
+                linestyle="none",
+                marker=_MARGIN.marker,
+                markersize=_MARGIN.size,
+                markerfacecolor="white",
+                label=_MARGIN.label,
             )
         )
     if h_sep is not None and "turbulent" in regimes:
@@ -261,11 +282,14 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
     return handles
 
 
-def _legend_panel(ax: Axes, handles: list[Line2D]) -> None:
+def _legend_columns(handles: list[Line2D], sides: int) -> int:
+    """Legend columns: as many as fit the width of the figure's sides."""
+    return max(1, min(3 if sides < 2 else 5, len(handles)))
+
+
+def _legend_panel(ax: Axes, handles: list[Line2D], columns: int) -> None:
     ax.axis("off")
-    ax.legend(
-        handles=handles, loc="center", ncols=min(5, len(handles)), fontsize=8.5, frameon=False
-    )
+    ax.legend(handles=handles, loc="center", ncols=columns, fontsize=8.5, frameon=False)
 
 
 # ---------------------------------------------------------------------------- contour
@@ -328,6 +352,46 @@ def _strip_panel(ax: Axes, result: Mapping[str, Any], units: str) -> None:
 # ------------------------------------------------------------------------- s panels
 
 
+def _margin_points(side: Mapping[str, Any]) -> list[tuple[float, str]]:
+    """(s, label) of the closest approach to laminar and to turbulent separation."""
+    margins = side.get("margins") or {}
+    out = []
+    lam, turb = margins.get("laminar"), margins.get("turbulent")
+    if lam is not None:
+        out.append((float(lam["s"]), f"min $\\lambda$ = {lam['lambda']:.3g}"))
+    if turb is not None:
+        out.append((float(turb["s"]), f"max $H$ = {turb['shape_factor']:.3g}"))
+    return out
+
+
+def _margin_marks(ax: Axes, side: Mapping[str, Any], s: Array, h: Array) -> None:
+    """Mark the closest approaches on the H panel and name them in its corner."""
+    points = _margin_points(side)
+    if not points or not s.size:
+        return
+    for s_m, _ in points:
+        ax.plot(
+            [s_m],
+            [float(np.interp(s_m, s, h))],
+            linestyle="none",
+            marker=_MARGIN.marker,
+            markersize=_MARGIN.size,
+            markeredgecolor=_MARGIN.colour,
+            markerfacecolor="white",
+            zorder=6,
+        )
+    ax.text(
+        0.01,
+        0.96,
+        ", ".join(label for _, label in points),
+        transform=ax.transAxes,
+        fontsize=7.5,
+        va="top",
+        ha="left",
+        color="#333333",
+    )
+
+
 def _vlines(ax: Axes, side: Mapping[str, Any]) -> None:
     for style, s_event, _ in _events(side):
         ax.axvline(s_event, color=style.colour, linestyle=style.linestyle, lw=0.9, zorder=0)
@@ -347,6 +411,7 @@ def _quantity_panels(
         ax.grid(True, lw=0.3, alpha=0.5)
     if turbulent.any():
         axes[1].axhline(h_sep, color="grey", lw=0.9, linestyle="-.")
+    _margin_marks(axes[1], side, s, h)
     axes[2].set_xlabel(f"s [{units}]")
 
 
@@ -435,11 +500,13 @@ def build(
     ncols = len(sides)
     width = 6.2 * ncols + 1.6 / ncols
     top_height = _contour_height(result, width) if contour else 1.1
-    heights = [0.45, top_height, 2.1, 2.1, 2.1]
+    h_sep = float(result.get("options", {}).get("separation_shape_factor", 2.4))
+    handles = _legend_handles(result, h_sep)
+    rows = math.ceil(len(handles) / _legend_columns(handles, ncols))
+    heights = [0.25 + 0.2 * rows, top_height, 2.1, 2.1, 2.1]
     fig = new_figure(width, sum(heights) + 1.4)
     grid = fig.add_gridspec(len(heights), ncols, height_ratios=heights)
-    h_sep = float(result.get("options", {}).get("separation_shape_factor", 2.4))
-    _legend_panel(fig.add_subplot(grid[0, :]), _legend_handles(result, h_sep))
+    _legend_panel(fig.add_subplot(grid[0, :]), handles, _legend_columns(handles, ncols))
     top = fig.add_subplot(grid[1, :])
     if contour:
         _contour_panel(top, result, units, outline)
@@ -504,6 +571,8 @@ def _sweep_panel(ax: Axes, sweep: Sweep, side: str) -> None:
     v, turbulent, laminar = _regime_split(sweep, side)
     _sweep_line(ax, v, turbulent, _EVENTS["turbulent"], "turbulent separation")
     _sweep_line(ax, v, laminar, _EVENTS["laminar"], "laminar separation (layer ends)")
+    v, plateau = _series(sweep, side, "pressure_plateau_s")
+    _sweep_line(ax, v, plateau, _EVENTS["plateau"], "pressure plateau onset (in the data)")
     if VARIABLES[sweep.variable].log:
         ax.set_xscale("log")
     _swept_limits(ax, [point.value for point in sweep.points], VARIABLES[sweep.variable].log)

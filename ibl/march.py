@@ -68,6 +68,7 @@ class SideState:
     re_theta: F64
     delta99: F64
     turbulent: NDArray[np.bool_]
+    thwaites_lambda: F64  # Thwaites' lambda = theta^2 dUe/ds / nu (laminar stations' value)
     transition_s: float  # NaN when none
     transition_cause: str
     transition_re_theta: float
@@ -180,6 +181,7 @@ def _march(
                 re_theta=st[3],
                 delta99=st[4],
                 turbulent=st[5] > 0.5,
+                thwaites_lambda=st[6],
                 transition_s=ev[1],
                 transition_cause=_CAUSE[int(ev[2])],
                 transition_re_theta=ev[3],

@@ -667,9 +667,10 @@ def _rear_point(x: F64, y: F64, arc: F64) -> float:
 
 def _rotate(columns: list[F64], start: float) -> tuple[list[F64], F64]:
     """A closed contour (its last point repeats its first) listed from fractional index
-    ``start`` round to it again.  A start between two points becomes a point of its own,
-    its values interpolated linearly.  Returns the columns and each point's unwrapped
-    fractional index in the listing given."""
+    ``start`` round to it again.  From a start between two points (a cusp between points,
+    the middle of a base with an even number of points) the list runs from the point after
+    it round to the point before it, so each side ends at its own last point.  Returns the
+    columns and each point's unwrapped index in the listing given."""
     m = columns[0].size - 1
     k = int(np.floor(start))
     frac = start - k
@@ -680,10 +681,9 @@ def _rotate(columns: list[F64], start: float) -> tuple[list[F64], F64]:
     rotated = [column[indices % m] for column in columns]
     index = indices.astype(np.float64)
     if frac > 1e-9:
-        # The inserted point, then points k + 1 ... k + m (= k), then the inserted point.
-        ends = [c[k] + frac * (c[(k + 1) % m] - c[k]) for c in columns]
-        rotated = [np.concatenate(([e], c[1:], [e])) for e, c in zip(ends, rotated, strict=True)]
-        index = np.concatenate(([k + frac], index[1:], [k + m + frac]))
+        # Points k + 1 ... k + m (= k): each side ends at the last point before the start.
+        rotated = [c[1:] for c in rotated]
+        index = index[1:]
     return rotated, index
 
 

@@ -11,8 +11,15 @@ from __future__ import annotations
 
 from typing import Any
 
-from ibl import laminar, transition, turbulent
-from ibl.schema import LaminarOptions, MeshOptions, TransitionOptions, TurbulentOptions
+from ibl import laminar, plateau, transition, turbulent
+from ibl.analysis import NEAR_SEPARATION_FRACTION
+from ibl.schema import (
+    LaminarOptions,
+    MeshOptions,
+    SeparationOptions,
+    TransitionOptions,
+    TurbulentOptions,
+)
 
 __all__ = ["catalogue", "method_names"]
 
@@ -114,6 +121,24 @@ def _catalogue() -> dict[str, Any]:
                     },
                 },
             },
+        },
+        "separation": {
+            "pressure_plateau": {
+                "default": SeparationOptions().pressure_plateau,
+                "summary": "a constant-pressure region downstream of the suction peak of a "
+                "contour side, while the wall turns, is separated flow already in the data "
+                "(base-pressure plateau): reported, and the stations end at its onset; not "
+                "checked on single-surface input (rule of practice)",
+                "thresholds": {
+                    "band_of_cp_range": plateau.PLATEAU_BAND,
+                    "min_length_of_side": plateau.PLATEAU_MIN_LENGTH,
+                    "min_points": plateau.PLATEAU_MIN_POINTS,
+                    "min_turning_deg": plateau.PLATEAU_MIN_TURNING,
+                },
+                "reference": "after the free-streamline model of Roshko (1954) NACA TN 3169 "
+                "[memory]",
+            },
+            "near_separation_fraction": NEAR_SEPARATION_FRACTION,
         },
         "mesh": {
             "y_plus_default": MeshOptions().y_plus,

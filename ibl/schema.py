@@ -3,8 +3,10 @@
 Contents
 --------
 - ``Case`` and its parts (``Surface``, ``Pressure``, ``Flow``, ``Body``, ``TransitionOptions``,
-  ``LaminarOptions``, ``TurbulentOptions``, ``Inflow``, ``MeshOptions``): the input.
-- ``Result`` and its parts (``Side``, events, ``MeshAdvice``, ``Notice``): the output.
+  ``LaminarOptions``, ``TurbulentOptions``, ``SeparationOptions``, ``Inflow``, ``MeshOptions``):
+  the input.
+- ``Result`` and its parts (``Side``, events, ``PressurePlateauEvent``, ``Margins``,
+  ``MeshAdvice``, ``Notice``): the output.
 - ``MAX_POINTS``: the largest number of points one surface may carry.
 
 All lengths in a result are in the unit of the input coordinates; velocities are
@@ -28,19 +30,24 @@ __all__ = [
     "FirstCell",
     "Flow",
     "Inflow",
+    "LaminarMargin",
     "LaminarOptions",
     "LaminarSeparationEvent",
+    "Margins",
     "MeshAdvice",
     "MeshOptions",
     "Notice",
     "Pressure",
+    "PressurePlateauEvent",
     "Result",
     "SeparationEvent",
+    "SeparationOptions",
     "Side",
     "Stagnation",
     "Surface",
     "TransitionEvent",
     "TransitionOptions",
+    "TurbulentMargin",
     "TurbulentOptions",
 ]
 
@@ -180,6 +187,19 @@ class TurbulentOptions(Struct, frozen=True):
     skin_friction: Literal["ludwieg_tillmann", "white"] = "ludwieg_tillmann"
 
 
+class SeparationOptions(Struct, frozen=True):
+    """How separation already present in the input data is treated."""
+
+    pressure_plateau: Annotated[
+        bool,
+        Meta(
+            description="Look for a constant-pressure (separated, base-pressure) region "
+            "downstream of the suction peak of each side of a contour, report it and end the "
+            "attached stations at its onset; a rule of practice (see the documentation)"
+        ),
+    ] = True
+
+
 class Inflow(Struct, frozen=True):
     """A measured state at the first station of a single surface, to march from."""
 
@@ -218,6 +238,7 @@ class Case(Struct, frozen=True):
     transition: TransitionOptions = msgspec.field(default_factory=TransitionOptions)
     laminar: LaminarOptions = msgspec.field(default_factory=LaminarOptions)
     turbulent: TurbulentOptions = msgspec.field(default_factory=TurbulentOptions)
+    separation: SeparationOptions = msgspec.field(default_factory=SeparationOptions)
     inflow: Inflow | None = None
     mesh: MeshOptions = msgspec.field(default_factory=MeshOptions)
     name: (
@@ -274,6 +295,40 @@ class SeparationEvent(Struct, frozen=True):
     regime: Literal["laminar", "turbulent"]
 
 
+class PressurePlateauEvent(Struct, frozen=True):
+    """A constant-pressure region in the input: the separated wake the data already show."""
+
+    s: Annotated[
+        float, Meta(description="Onset, where the pressure recovery stops (between input points)")
+    ]
+    x: float | None
+    y: float | None
+    cp: Annotated[float, Meta(description="Mean pressure coefficient over the plateau [-]")]
+    end_s: Annotated[float, Meta(description="Last input point on the plateau")]
+
+
+class LaminarMargin(Struct, frozen=True):
+    """Closest approach to laminar separation: the smallest Thwaites lambda and where."""
+
+    thwaites_lambda: float = msgspec.field(name="lambda")
+    s: float
+
+
+class TurbulentMargin(Struct, frozen=True):
+    """Closest approach to turbulent separation: the largest shape factor H and where."""
+
+    shape_factor: float
+    s: float
+
+
+class Margins(Struct, frozen=True):
+    """How close each regime of a side comes to its separation criterion (null: no station
+    of that regime)."""
+
+    laminar: LaminarMargin | None
+    turbulent: TurbulentMargin | None
+
+
 class FirstCell(Struct, frozen=True):
     """Smallest first-cell height on a side for a y+ target."""
 
@@ -299,7 +354,8 @@ class MeshAdvice(Struct, frozen=True):
 
 
 class Side(Struct, frozen=True):
-    """Station arrays and events of one side, from its start to separation or its end."""
+    """Station arrays and events of one side, from its start to separation, to the onset of a
+    pressure plateau in the input, or to its end."""
 
     name: Literal["upper", "lower", "surface"]
     s: list[float]
@@ -322,6 +378,14 @@ class Side(Struct, frozen=True):
     transition: TransitionEvent | None
     laminar_separation: LaminarSeparationEvent | None
     separation: SeparationEvent | None
+    pressure_plateau: Annotated[
+        PressurePlateauEvent | None,
+        Meta(
+            description="Constant-pressure (separated) region found in the input; when no "
+            "separation is predicted before it, the stations end at its onset"
+        ),
+    ]
+    margins: Margins
     mesh: MeshAdvice
 
 

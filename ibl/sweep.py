@@ -88,6 +88,9 @@ class SidePositions(msgspec.Struct, frozen=True, kw_only=True):
     separation_s: float | None
     separation_x: float | None
     separation_regime: str | None
+    pressure_plateau_s: float | None = None
+    min_lambda: float | None = None
+    max_shape_factor: float | None = None
     end_s: float
 
 
@@ -206,6 +209,19 @@ def _positions(result: Result) -> list[SidePositions]:
                 separation_s=sep[0],
                 separation_x=sep[1],
                 separation_regime=sep[2],
+                pressure_plateau_s=(
+                    side.pressure_plateau.s if side.pressure_plateau is not None else None
+                ),
+                min_lambda=(
+                    side.margins.laminar.thwaites_lambda
+                    if side.margins.laminar is not None
+                    else None
+                ),
+                max_shape_factor=(
+                    side.margins.turbulent.shape_factor
+                    if side.margins.turbulent is not None
+                    else None
+                ),
                 end_s=float(side.s[-1]),
             )
         )
@@ -384,6 +400,9 @@ CSV_COLUMNS = (
     "separation_s",
     "separation_x",
     "separation_regime",
+    "pressure_plateau_s",
+    "min_lambda",
+    "max_shape_factor",
     "end_s",
     "error",
 )
@@ -405,6 +424,9 @@ def sweep_csv(result: Sweep, *, units: str = "coordinate unit") -> str:
         f"# case: {result.name or '(unnamed)'}\n"
         f"# s and x in {units}; s from the stagnation point or leading edge of each side; "
         "empty: the event does not occur\n"
+        "# pressure_plateau_s: onset of a constant-pressure (separated) region in the input; "
+        "min_lambda: smallest Thwaites lambda over the laminar stations; max_shape_factor: "
+        "largest H over the turbulent stations\n"
         f"# CAUTION: {CAUTION}\n"
     )
     writer = csv.writer(buffer, lineterminator="\n")
@@ -435,14 +457,18 @@ def _side_cells(side: SidePositions) -> list[str]:
     separation = _where(side.separation_s, side.separation_x)
     if side.separation_regime:
         separation += " " + ("lam" if side.separation_regime == "laminar" else "turb")
-    return [transition, separation]
+    plateau = "-" if side.pressure_plateau_s is None else f"{side.pressure_plateau_s:.4g}"
+    lam = "-" if side.min_lambda is None else f"{side.min_lambda:.3g}"
+    h = "-" if side.max_shape_factor is None else f"{side.max_shape_factor:.3g}"
+    return [transition, separation, plateau, f"{lam} / {h}"]
 
 
 def sweep_text(result: Sweep, *, units: str = "coordinate unit") -> str:
     """A readable table: transition and separation s (x) on each side at every value."""
     names = [s.side for p in result.points for s in p.sides]
     sides = list(dict.fromkeys(names))
-    header = [result.variable] + [f"{n} {e} s (x)" for n in sides for e in ("transition", "sep.")]
+    events = ("transition s (x)", "sep. s (x)", "plateau s", "min lambda / max H")
+    header = [result.variable] + [f"{n} {e}" for n in sides for e in events]
     rows = []
     for point in result.points:
         row = [f"{point.value:.4g}"]
@@ -451,7 +477,7 @@ def sweep_text(result: Sweep, *, units: str = "coordinate unit") -> str:
         else:
             by_name = {s.side: s for s in point.sides}
             for name in sides:
-                row += _side_cells(by_name[name]) if name in by_name else ["-", "-"]
+                row += _side_cells(by_name[name]) if name in by_name else ["-"] * len(events)
         rows.append(row)
     widths = [max(len(r[i]) for r in [header, *rows] if i < len(r)) for i in range(len(header))]
     lines = [
@@ -464,7 +490,9 @@ def sweep_text(result: Sweep, *, units: str = "coordinate unit") -> str:
         "",
         f"s: arc length from the stagnation point or leading edge; s and x in {units}. "
         "Transition by crit(erion), trip or bubble (at a short laminar separation bubble); "
-        "separation lam(inar) or turb(ulent); '-': does not occur.",
+        "separation lam(inar) or turb(ulent); plateau: onset of a constant-pressure "
+        "(separated) region in the input data; min lambda / max H: the closest approach to "
+        "laminar and turbulent separation; '-': does not occur.",
         "CAUTION: " + CAUTION,
     ]
     return "\n".join(line.rstrip() for line in lines)

@@ -76,6 +76,29 @@ def _header_lines(result: Mapping[str, Any], units: str) -> list[str]:
         "or not applicable (x, y of single-surface input)",
     ]
     lines += [f"# {column}: {unit}" for column, unit in UNITS.items()]
+    for side in result.get("sides", []):
+        plateau = side.get("pressure_plateau")
+        if plateau:
+            where = f"s = {plateau['s']!r}"
+            if plateau.get("x") is not None:
+                where += f" (x = {plateau['x']!r}, y = {plateau['y']!r})"
+            lines.append(
+                f"# pressure plateau, {side['name']}: onset {where}, ends at s = "
+                f"{plateau['end_s']!r}, mean cp = {plateau['cp']!r}: separated flow in the "
+                "input data; the stations end at the onset unless separation comes first"
+            )
+        margins = side.get("margins") or {}
+        lam, turb = margins.get("laminar"), margins.get("turbulent")
+        if lam:
+            lines.append(
+                f"# laminar margin, {side['name']}: smallest Thwaites lambda "
+                f"{lam['lambda']!r} at s = {lam['s']!r}"
+            )
+        if turb:
+            lines.append(
+                f"# turbulent margin, {side['name']}: largest shape factor "
+                f"{turb['shape_factor']!r} at s = {turb['s']!r}"
+            )
     lines.append(f"# CAUTION: {CAUTION}")
     return lines
 
