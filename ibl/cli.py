@@ -75,8 +75,8 @@ def parse_columns(text: str) -> dict[str, str]:
 
 
 def _key(name: str) -> str:
-    """A column name as compared: case-insensitive, runs of white space as one space."""
-    return " ".join(name.split()).lower()
+    """A column name as compared: case-insensitive, white space ignored."""
+    return "".join(name.split()).lower()
 
 
 def _delimiter(header_line: str, given: str | None) -> str:
