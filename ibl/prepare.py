@@ -25,7 +25,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ibl.errors import CaseError, FieldProblem
-from ibl.schema import Case, Notice, Pressure, Stagnation
+from ibl.schema import MAX_LENGTH, Case, Notice, Pressure, Stagnation
 
 __all__ = [
     "CP_NOISE",
@@ -239,11 +239,23 @@ def _dynamic_pressure(case: Case) -> float | None:
     return None
 
 
-def _cp_from_case(case: Case, p: F64) -> F64:
-    """Cp from ``pressure.p`` [Pa] with the case's references (checked before)."""
+def _cp_from_case(case: Case, p: F64, problems: list[FieldProblem]) -> F64:
+    """Cp from ``pressure.p`` [Pa] with the case's references (checked before), within the
+    bounds the schema sets on Cp given directly."""
     p_inf, q_inf = case.pressure.reference_pressure, _dynamic_pressure(case)
     assert p_inf is not None and q_inf is not None
-    return cp_from_pressure(p, p_inf, q_inf)
+    cp = cp_from_pressure(p, p_inf, q_inf)
+    bad = np.flatnonzero(~(np.abs(cp) <= MAX_LENGTH) & np.isfinite(p))
+    if bad.size:
+        i = int(bad[0])
+        problems.append(
+            FieldProblem(
+                f"/pressure/p/{i}",
+                f"gives Cp = {cp[i]:.4g}, beyond +-{MAX_LENGTH:g}; check reference_pressure "
+                "and dynamic_pressure",
+            )
+        )
+    return cp
 
 
 def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None:
@@ -448,7 +460,7 @@ def prepare(case: Case) -> Prepared:
     if pressure.cp is not None:
         p_values = _array(pressure.cp, p_pointer, problems)
     elif pressure.p is not None:
-        p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems))
+        p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems), problems)
     else:
         assert pressure.edge_velocity is not None
         p_values = _array(pressure.edge_velocity, p_pointer, problems)

@@ -91,8 +91,7 @@ class Surface(Struct, frozen=True):
 
 
 class Pressure(Struct, frozen=True):
-    """Surface pressure: pressure coefficient, edge velocity or pressure in pascals, one value
-    per point."""
+    """Surface pressure: Cp, edge velocity or pressure [Pa], one value per point."""
 
     cp: Annotated[Points | None, Meta(description="Pressure coefficient Cp [-], one per point")] = (
         None

@@ -248,6 +248,14 @@ def test_non_finite_pressures_are_422_over_http(client, literal_at, pointer):
     assert [e["pointer"] for e in response.json()["errors"]] == [pointer]
 
 
+def test_references_that_blow_cp_up_are_refused():
+    """A tiny q_inf (a unit slip, kPa for Pa twice over) gives Cp beyond what a case may
+    carry: refused at the first such point, not marched."""
+    case = in_pascals(ellipse_case(), Q, dynamic_pressure=1e-300)
+    problems = problems_of(case)
+    assert list(problems) == ["/pressure/p/0"] and "reference_pressure" in problems["/pressure/p/0"]
+
+
 def test_non_finite_pressures_through_the_library():
     case = in_pascals(ellipse_case(), Q, dynamic_pressure=Q)
     case["pressure"]["p"][4] = math.nan
