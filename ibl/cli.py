@@ -196,6 +196,8 @@ def _read_csv(
                     f"{path}, line {number}: column {header[column]!r} ({quantity}) value "
                     f"{cell!r} is not a number",
                 ) from None
+    if not next(iter(values.values())):
+        raise CaseError.at("", f"{path}: no data rows under the header")
     surface = {"s": values["s"]} if "s" in values else {"x": values["x"], "y": values["y"]}
     pressure = {q: values[q] for q in _PRESSURES if q in values}
     case: dict[str, Any] = {"surface": surface, "pressure": pressure}
@@ -239,14 +241,14 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
         flow["kinematic_viscosity"] = args.viscosity
     if args.mach is not None:
         flow["mach"] = args.mach
-    pressure = case.setdefault("pressure", {})
     if args.reference_pressure is not None:
-        pressure["reference_pressure"] = args.reference_pressure
+        case.setdefault("pressure", {})["reference_pressure"] = args.reference_pressure
     if args.dynamic_pressure is not None:
         flow.pop("density", None)
-        pressure["dynamic_pressure"] = args.dynamic_pressure
+        case.setdefault("pressure", {})["dynamic_pressure"] = args.dynamic_pressure
     if args.density is not None:
-        pressure.pop("dynamic_pressure", None)
+        if isinstance(case.get("pressure"), dict):
+            case["pressure"].pop("dynamic_pressure", None)
         flow["density"] = args.density
     if args.turbulence_intensity is not None:
         flow["turbulence_intensity"] = args.turbulence_intensity
