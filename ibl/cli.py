@@ -14,6 +14,7 @@ import argparse
 import csv
 import json
 import math
+import re
 import sys
 from importlib import resources
 from pathlib import Path
@@ -27,66 +28,194 @@ from ibl.errors import CaseError
 if TYPE_CHECKING:
     from ibl.figures import Format
 
-__all__ = ["DEMO_CASE", "load_case", "main", "summary"]
+__all__ = ["CSV_QUANTITIES", "DEMO_CASE", "load_case", "main", "parse_columns", "summary"]
 
 #: The built-in demonstration case (invented data).
 DEMO_CASE = "strut.json"
 
-_CSV_COLUMNS = {
-    ("x", "y", "cp"): ("contour", "cp"),
-    ("x", "y", "edge_velocity"): ("contour", "edge_velocity"),
-    ("s", "cp"): ("single", "cp"),
-    ("s", "edge_velocity"): ("single", "edge_velocity"),
-}
+#: Quantities a CSV column can carry, by their names in the case document.
+CSV_QUANTITIES = ("x", "y", "s", "cp", "p", "edge_velocity", "radius")
+#: Pressure quantities, in the order a header is searched for one when none is named.
+_PRESSURES = ("cp", "edge_velocity", "p")
+#: Delimiters recognised from the header line when ``--delimiter`` is not given.
+_DELIMITERS = (",", ";", "\t")
+#: Units (in square brackets in a header name) each quantity may be given in.
+_UNITS = {"p": {"pa"}, "cp": {"-", "1"}, "edge_velocity": {"-", "1"}}
+_UNIT = re.compile(r"\[\s*([^\]]*?)\s*\]")
 
 
-def _read_csv(path: Path) -> dict[str, Any]:
-    with path.open(newline="") as handle:
-        rows = list(csv.reader(line for line in handle if not line.lstrip().startswith("#")))
-    if not rows:
-        raise CaseError.at("", f"{path}: empty CSV file")
-    header = tuple(name.strip().lower() for name in rows[0])
-    kind = None
-    for names, value in _CSV_COLUMNS.items():
-        if set(names) <= set(header):
-            kind = value
-            break
-    if kind is None:
+def parse_columns(text: str) -> dict[str, str]:
+    """``--columns`` text to {quantity: column name}.
+
+    >>> parse_columns('x=X [ m ],y=Y [ m ], p = "Pressure [ Pa ]"')
+    {'x': 'X [ m ]', 'y': 'Y [ m ]', 'p': 'Pressure [ Pa ]'}
+
+    Raises
+    ------
+    CaseError
+        For an item that is not QUANTITY=COLUMN, an unknown quantity or one named twice.
+    """
+    mapping: dict[str, str] = {}
+    for item in re.split(r",(?=\s*\w+\s*=)", text):
+        key, equals, name = item.partition("=")
+        key, name = key.strip().lower(), name.strip()
+        if len(name) > 1 and name[0] == name[-1] and name[0] in "\"'":
+            name = name[1:-1].strip()
+        if not equals or not key or not name:
+            raise CaseError.at("", f"--columns: {item.strip()!r} is not QUANTITY=COLUMN")
+        if key not in CSV_QUANTITIES:
+            raise CaseError.at(
+                "",
+                f"--columns: unknown quantity {key!r}; use {', '.join(CSV_QUANTITIES)}",
+            )
+        if key in mapping:
+            raise CaseError.at("", f"--columns: {key!r} is named twice")
+        mapping[key] = name
+    return mapping
+
+
+def _key(name: str) -> str:
+    """A column name as compared: case-insensitive, white space ignored."""
+    return "".join(name.split()).lower()
+
+
+def _delimiter(header_line: str, given: str | None) -> str:
+    if given is not None:
+        named = {"tab": "\t", "\\t": "\t", "comma": ",", "semicolon": ";"}
+        delimiter = named.get(given.lower(), given)
+        if len(delimiter) != 1 or delimiter in '"\r\n':
+            raise CaseError.at("", f"--delimiter: {given!r} is not one character")
+        return delimiter
+    counts = {d: len(next(csv.reader([header_line], delimiter=d))) for d in _DELIMITERS}
+    return max(_DELIMITERS, key=lambda d: counts[d])  # a tie keeps the comma
+
+
+def _select(path: Path, header: list[str], mapping: dict[str, str]) -> dict[str, int]:
+    """The column index of each quantity read: those named by ``--columns``, and the others
+    found by their own names in the header where they do not conflict with a named one."""
+    keys = [_key(name) for name in header]
+    index: dict[str, int] = {}
+    for quantity, name in mapping.items():
+        if _key(name) not in keys:
+            raise CaseError.at(
+                "",
+                f"{path}: the header has no column {name!r} (--columns {quantity}=...); it holds "
+                + ", ".join(repr(h) for h in header),
+            )
+        index[quantity] = keys.index(_key(name))
+    found = {q: keys.index(q) for q in CSV_QUANTITIES if q in keys and q not in index}
+    if not {"x", "y", "s"} & index.keys():  # no geometry named: x and y before s
+        drop = ("s",) if {"x", "y"} <= found.keys() else ("x", "y")
+    else:
+        drop = ("x", "y") if "s" in index else ("s",)
+    for q in drop:
+        found.pop(q, None)
+    pressures = [q for q in _PRESSURES if q in found]
+    for q in pressures[1:] if not set(_PRESSURES) & index.keys() else pressures:
+        found.pop(q)
+    index.update(found)
+    contour = "x" in index or "y" in index
+    if (contour and not {"x", "y"} <= index.keys()) or not (contour or "s" in index):
+        wanted = "y" if "x" in index else "x" if contour else "x and y (or s)"
         raise CaseError.at(
             "",
-            f"{path}: the CSV header must hold x,y,cp or x,y,edge_velocity or s,cp or "
-            f"s,edge_velocity; it holds {','.join(header)}",
+            f"{path}: the header has no column for {wanted}; it holds "
+            + ", ".join(repr(h) for h in header)
+            + ". Name them with --columns, e.g. --columns 'x=X [ m ],y=Y [ m ],p=Pressure [ Pa ]'",
         )
-    columns: dict[str, list[float]] = {name: [] for name in header}
-    for number, row in enumerate(rows[1:], start=2):
+    if not set(_PRESSURES) & index.keys():
+        raise CaseError.at(
+            "",
+            f"{path}: the header has no column for the pressure (cp, edge_velocity or p); it holds "
+            + ", ".join(repr(h) for h in header)
+            + ". Name it with --columns, e.g. --columns 'p=Pressure [ Pa ]'",
+        )
+    for quantity, column in index.items():
+        units = _UNIT.findall(header[column])
+        allowed = _UNITS.get(quantity)
+        if allowed and units and units[-1].lower() not in allowed:
+            raise CaseError.at(
+                "",
+                f"{path}: column {header[column]!r} is in {units[-1]}; {quantity} is read "
+                + ("in Pa" if quantity == "p" else "as a ratio [-]"),
+            )
+    return index
+
+
+def _number(cell: str, decimal_comma: bool) -> float:
+    text = cell.strip()
+    if decimal_comma and "," in text and "." not in text:
+        text = text.replace(",", ".", 1)
+    return float(text)
+
+
+def _read_csv(
+    path: Path, columns: str | None = None, delimiter: str | None = None
+) -> dict[str, Any]:
+    """A case from a CSV table: one column per quantity, named in the header by its case
+    document name (x, y, s, cp, p, edge_velocity, radius) or mapped by ``columns``
+    (``--columns``). A UTF-8 byte-order mark, ``#`` comment lines, quoted header names and
+    other columns are allowed; the delimiter is ``,``, ``;`` or a tab, from the header
+    unless given, and with ``;`` or a tab a decimal comma is read as a decimal point."""
+    try:
+        text = path.read_text(encoding="utf-8-sig")
+    except UnicodeDecodeError:
+        text = path.read_text(encoding="cp1252", errors="replace")
+    lines = [
+        (number, line)
+        for number, line in enumerate(text.splitlines(), start=1)
+        if line.strip() and not line.lstrip().startswith("#")
+    ]
+    if not lines:
+        raise CaseError.at("", f"{path}: empty CSV file")
+    sep = _delimiter(lines[0][1], delimiter)
+
+    def split(line: str) -> list[str]:
+        return next(csv.reader([line], delimiter=sep, skipinitialspace=True), [])
+
+    header = [name.strip() for name in split(lines[0][1])]
+    index = _select(path, header, parse_columns(columns) if columns else {})
+    values: dict[str, list[float]] = {quantity: [] for quantity in index}
+    for number, line in lines[1:]:
+        row = split(line)
         if not any(cell.strip() for cell in row):
             continue
-        if len(row) != len(header):
+        if len(row) != len(header) and (
+            len(row) < len(header) or any(c.strip() for c in row[len(header) :])
+        ):
             raise CaseError.at(
                 "", f"{path}, line {number}: {len(row)} values, expected {len(header)}"
             )
-        for name, cell in zip(header, row, strict=True):
+        for quantity, column in index.items():
+            cell = row[column]
             try:
-                columns[name].append(float(cell))
+                values[quantity].append(_number(cell, sep != ","))
             except ValueError:
                 raise CaseError.at(
-                    "", f"{path}, line {number}: `{name}` value {cell!r} is not a number"
+                    "",
+                    f"{path}, line {number}: column {header[column]!r} ({quantity}) value "
+                    f"{cell!r} is not a number",
                 ) from None
-    geometry, pressure = kind
-    surface = (
-        {"x": columns["x"], "y": columns["y"]} if geometry == "contour" else {"s": columns["s"]}
-    )
-    case: dict[str, Any] = {"surface": surface, "pressure": {pressure: columns[pressure]}}
-    if "radius" in columns:
-        case["body"] = {"kind": "axisymmetric", "radius": columns["radius"]}
+    if not next(iter(values.values())):
+        raise CaseError.at("", f"{path}: no data rows under the header")
+    surface = {"s": values["s"]} if "s" in values else {"x": values["x"], "y": values["y"]}
+    pressure = {q: values[q] for q in _PRESSURES if q in values}
+    case: dict[str, Any] = {"surface": surface, "pressure": pressure}
+    if "radius" in values:
+        case["body"] = {"kind": "axisymmetric", "radius": values["radius"]}
     return case
 
 
 def load_case(path: Path, args: argparse.Namespace | None = None) -> dict[str, Any]:
     """Read a case from a JSON case document or a CSV table, then apply flag overrides."""
+    columns = getattr(args, "columns", None)
+    delimiter = getattr(args, "delimiter", None)
     if path.suffix.lower() == ".csv":
-        case = _read_csv(path)
+        case = _read_csv(path, columns, delimiter)
     else:
+        if columns is not None or delimiter is not None:
+            flag = "--columns" if columns is not None else "--delimiter"
+            raise CaseError.at("", f"{flag} applies to CSV input only")
         try:
             case = json.loads(path.read_text())
         except json.JSONDecodeError as error:
@@ -135,6 +264,9 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
     def transition(flag: str) -> dict[str, Any]:
         return _object_member(case, "transition", "/transition", flag)
 
+    def pressure(flag: str) -> dict[str, Any]:
+        return _object_member(case, "pressure", "/pressure", flag)
+
     if args.reynolds is not None:
         member = flow("--reynolds")
         member.pop("speed", None)
@@ -150,6 +282,14 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
         member["kinematic_viscosity"] = args.viscosity
     if args.mach is not None:
         flow("--mach")["mach"] = args.mach
+    if args.reference_pressure is not None:
+        pressure("--reference-pressure")["reference_pressure"] = args.reference_pressure
+    if args.dynamic_pressure is not None:
+        flow("--dynamic-pressure").pop("density", None)
+        pressure("--dynamic-pressure")["dynamic_pressure"] = args.dynamic_pressure
+    if args.density is not None:
+        pressure("--density").pop("dynamic_pressure", None)
+        flow("--density")["density"] = args.density
     if args.turbulence_intensity is not None:
         flow("--turbulence-intensity")["turbulence_intensity"] = args.turbulence_intensity
     if args.criterion is not None:
@@ -308,7 +448,9 @@ _SWEEPABLE = {
 }
 
 
-def _add_case_flags(parser: argparse.ArgumentParser, *, sweep: bool = False) -> None:
+def _add_case_flags(
+    parser: argparse.ArgumentParser, *, sweep: bool = False, csv_input: bool = True
+) -> None:
     if sweep:
         parser.add_argument("--format", choices=["text", "csv", "json"], default="text")
         for name, text in _SWEEPABLE.items():
@@ -332,6 +474,35 @@ def _add_case_flags(parser: argparse.ArgumentParser, *, sweep: bool = False) -> 
         parser.add_argument("--trip", type=float, help=_SWEEPABLE["trip"])
     parser.add_argument("--speed", type=float, help="free-stream speed [m/s]")
     parser.add_argument("--viscosity", type=float, help="kinematic viscosity [m^2/s]")
+    parser.add_argument(
+        "--reference-pressure",
+        type=float,
+        metavar="PA",
+        help="free-stream static pressure p_inf [Pa], for pressure given as p",
+    )
+    parser.add_argument(
+        "--dynamic-pressure",
+        type=float,
+        metavar="PA",
+        help="free-stream dynamic pressure q_inf [Pa], for p (or give --density and --speed)",
+    )
+    parser.add_argument(
+        "--density",
+        type=float,
+        metavar="KG_M3",
+        help="free-stream density [kg/m^3]: q_inf = 0.5 rho U_inf^2 with --speed",
+    )
+    if csv_input:
+        parser.add_argument(
+            "--columns",
+            metavar="Q=COLUMN,...",
+            help="CSV columns by header name (case-insensitive) for the quantities x, y, s, "
+            "cp, p, edge_velocity, radius, e.g. 'x=X [ m ],y=Y [ m ],p=Pressure [ Pa ]'",
+        )
+        parser.add_argument(
+            "--delimiter",
+            help="CSV delimiter: one character, or tab (default: ',', ';' or tab, from the header)",
+        )
     parser.add_argument("--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"])
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
     parser.add_argument("--y-plus", type=float, nargs="+", help="first-cell y+ targets")
@@ -350,11 +521,14 @@ def _parser() -> argparse.ArgumentParser:
     commands = parser.add_subparsers(dest="command", required=True)
     run = commands.add_parser("run", help="analyse a case (JSON case document or CSV taps)")
     run.add_argument(
-        "case", type=Path, help="CASE.json, or a CSV with header x,y,cp or s,edge_velocity"
+        "case",
+        type=Path,
+        help="CASE.json, or a CSV with columns x,y (or s) and cp, p or edge_velocity "
+        "(see --columns)",
     )
     _add_case_flags(run)
     demo = commands.add_parser("demo", help="analyse the built-in demonstration case")
-    _add_case_flags(demo)
+    _add_case_flags(demo, csv_input=False)
     sweep = commands.add_parser(
         "sweep",
         help="run a case over a range of one variable (e.g. --reynolds 1e5:1e7:20)",

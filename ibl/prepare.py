@@ -5,6 +5,7 @@ Contents
 - ``prepare(case)``: checks across fields, Cp to edge velocity, optional smoothing,
   the stagnation point between input points, the split into sides and arc lengths.
 - ``edge_velocity_from_cp``: Bernoulli, or the isentropic edge when the Mach number is set.
+- ``cp_from_pressure``: pressure in pascals to Cp, with the free-stream references.
 - ``stagnation_cp``: Cp at a stagnation point for a free-stream Mach number.
 - ``SideInput``, ``SideOptions``, ``Prepared``: what the march receives.
 
@@ -14,6 +15,7 @@ everything this module changes on the way (clipping, smoothing) becomes a warnin
 
 from __future__ import annotations
 
+import math
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Literal
@@ -23,7 +25,7 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 from ibl.errors import CaseError, FieldProblem
-from ibl.schema import Case, Notice, Stagnation
+from ibl.schema import MAX_LENGTH, Case, Notice, Pressure, Stagnation
 
 __all__ = [
     "CP_NOISE",
@@ -33,6 +35,7 @@ __all__ = [
     "Prepared",
     "SideInput",
     "SideOptions",
+    "cp_from_pressure",
     "edge_velocity_from_cp",
     "prepare",
     "stagnation_cp",
@@ -202,6 +205,126 @@ def edge_velocity_from_cp(cp: ArrayLike, mach: float = 0.0, gamma: float = GAMMA
     return np.asarray(np.sqrt(me2) / mach * np.sqrt(t_ratio), dtype=np.float64)
 
 
+def cp_from_pressure(p: ArrayLike, reference_pressure: float, dynamic_pressure: float) -> F64:
+    r"""Pressure coefficient from the surface pressure in pascals.
+
+    .. math::
+        C_p = \frac{p - p_\infty}{q_\infty}, \qquad q_\infty = \tfrac12 \rho_\infty U_\infty^2
+
+    This is the definition of Cp at any Mach number: at M > 0, q_inf is still built on the
+    free-stream static density (it equals gamma p_inf M^2 / 2), not the pitot rise p0 - p_inf.
+
+    Parameters
+    ----------
+    p : float or array
+        Surface static pressure [Pa], absolute or gauge.
+    reference_pressure : float
+        Free-stream static pressure p_inf [Pa], on the same basis (absolute or gauge) as p.
+    dynamic_pressure : float
+        Free-stream dynamic pressure q_inf [Pa], > 0.
+
+    Returns
+    -------
+    array
+        Cp [-].
+
+    >>> cp_from_pressure([101325.0 + 61.25, 101325.0 - 122.5], 101325.0, 61.25).tolist()
+    [1.0, -2.0]
+
+    References
+    ----------
+    Definition of the pressure coefficient (e.g. Anderson, Fundamentals of Aerodynamics)
+    [common practice].
+    """
+    p = np.asarray(p, dtype=np.float64)
+    return np.asarray((p - reference_pressure) / dynamic_pressure, dtype=np.float64)
+
+
+def _pressure_pointer(pressure: Pressure) -> str:
+    """The JSON pointer of the pressure values the case gives (cp, p or edge_velocity)."""
+    if pressure.cp is not None:
+        return "/pressure/cp"
+    if pressure.p is not None:
+        return "/pressure/p"
+    return "/pressure/edge_velocity"
+
+
+def _dynamic_pressure(case: Case) -> float | None:
+    """q_inf [Pa]: ``pressure.dynamic_pressure``, else 0.5 rho_inf U_inf^2 from the flow."""
+    if case.pressure.dynamic_pressure is not None:
+        return case.pressure.dynamic_pressure
+    flow = case.flow
+    if flow.density is not None and flow.speed is not None:
+        return 0.5 * flow.density * flow.speed**2
+    return None
+
+
+def _cp_from_case(case: Case, p: F64, problems: list[FieldProblem]) -> F64:
+    """Cp from ``pressure.p`` [Pa] with the case's references (checked before), within the
+    bounds the schema sets on Cp given directly."""
+    p_inf, q_inf = case.pressure.reference_pressure, _dynamic_pressure(case)
+    assert p_inf is not None and q_inf is not None
+    cp = cp_from_pressure(p, p_inf, q_inf)
+    bad = np.flatnonzero(~(np.abs(cp) <= MAX_LENGTH) & np.isfinite(p))
+    if bad.size:
+        i = int(bad[0])
+        problems.append(
+            FieldProblem(
+                f"/pressure/p/{i}",
+                f"gives Cp = {cp[i]:.4g}, beyond +-{MAX_LENGTH:g}; check reference_pressure "
+                "and dynamic_pressure",
+            )
+        )
+    return cp
+
+
+def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None:
+    """With ``pressure.p``: the reference pressure and one source of q_inf, finite and > 0.
+    Without it: no references."""
+    pressure, flow = case.pressure, case.flow
+    if pressure.p is None:
+        for name in ("reference_pressure", "dynamic_pressure"):
+            if getattr(pressure, name) is not None:
+                problems.append(FieldProblem(f"/pressure/{name}", "applies to pressure.p only"))
+        return
+    p_inf = pressure.reference_pressure
+    if p_inf is None:
+        problems.append(
+            FieldProblem(
+                "/pressure/reference_pressure",
+                "is required with p: the free-stream static pressure [Pa]",
+            )
+        )
+    elif not math.isfinite(p_inf):
+        problems.append(FieldProblem("/pressure/reference_pressure", "is not a finite number"))
+    if pressure.dynamic_pressure is not None and flow.density is not None:
+        problems.append(
+            FieldProblem(
+                "/pressure/dynamic_pressure",
+                "give either pressure.dynamic_pressure or flow.density (with flow.speed), not both",
+            )
+        )
+        return
+    if flow.density is not None and not math.isfinite(flow.density):
+        problems.append(FieldProblem("/flow/density", "is not a finite number"))
+        return
+    q_inf = _dynamic_pressure(case)
+    if q_inf is None:
+        problems.append(
+            FieldProblem(
+                "/pressure/dynamic_pressure",
+                "is required with p: give it [Pa], or flow.density with flow.speed",
+            )
+        )
+    elif not math.isfinite(q_inf):
+        problems.append(FieldProblem("/pressure/dynamic_pressure", "is not a finite number"))
+    elif q_inf <= 0.0:
+        where = "/pressure/dynamic_pressure" if flow.density is None else "/flow/density"
+        problems.append(
+            FieldProblem(where, f"gives a dynamic pressure {q_inf:g} Pa; it must be > 0")
+        )
+
+
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
     array = np.array(values, dtype=np.float64)
     if not np.isfinite(array.sum()):
@@ -310,8 +433,10 @@ def _check_structure(case: Case) -> list[FieldProblem]:
         problems.append(FieldProblem(missing, "is required with a contour (x and y)"))
     elif not contour and surface.s is None:
         problems.append(FieldProblem("/surface", "give either x and y, or s"))
-    if (pressure.cp is None) == (pressure.edge_velocity is None):
-        problems.append(FieldProblem("/pressure", "give exactly one of cp or edge_velocity"))
+    given = [v is not None for v in (pressure.cp, pressure.edge_velocity, pressure.p)]
+    if sum(given) != 1:
+        problems.append(FieldProblem("/pressure", "give exactly one of cp, edge_velocity or p"))
+    _check_pressure_references(case, problems)
     if flow.reynolds is not None:
         if flow.speed is not None or flow.kinematic_viscosity is not None:
             problems.append(
@@ -369,13 +494,15 @@ def prepare(case: Case) -> Prepared:
         assert surface.s is not None
         s_in = _array(surface.s, "/surface/s", problems)
         n = s_in.size
+    p_pointer = _pressure_pointer(pressure)
+    given_cp = pressure.edge_velocity is None  # Cp, or pascals converted to Cp
     if pressure.cp is not None:
-        p_values = _array(pressure.cp, "/pressure/cp", problems)
-        p_pointer = "/pressure/cp"
+        p_values = _array(pressure.cp, p_pointer, problems)
+    elif pressure.p is not None:
+        p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems), problems)
     else:
         assert pressure.edge_velocity is not None
-        p_values = _array(pressure.edge_velocity, "/pressure/edge_velocity", problems)
-        p_pointer = "/pressure/edge_velocity"
+        p_values = _array(pressure.edge_velocity, p_pointer, problems)
         if not contour:
             _check_one_sign(p_values, problems)
     _check_length(p_values, n, p_pointer, "surface", problems)
@@ -408,13 +535,13 @@ def prepare(case: Case) -> Prepared:
 
     # Edge velocity squared, q = (Ue/U_inf)^2, smooth through a stagnation point.
     mach = flow.mach
-    if pressure.cp is not None:
+    if given_cp:
         cp_max = stagnation_cp(mach)
         over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
         if over >= 0:
             i = over
             raise CaseError.at(
-                f"/pressure/cp/{i}",
+                f"{p_pointer}/{i}",
                 f"Cp = {p_values[i]:.4g} exceeds the stagnation value {cp_max:.4g} at "
                 f"M = {mach:g} by more than measurement noise ({CP_NOISE:g})",
             )
@@ -424,7 +551,7 @@ def prepare(case: Case) -> Prepared:
                     code="cp_clipped",
                     message=f"{clipped} Cp value(s) above the stagnation value {cp_max:.4g} "
                     f"clipped to it (largest {p_values.max():.4g})",
-                    pointer="/pressure/cp",
+                    pointer=p_pointer,
                 )
             )
         if mach > 0.0:
@@ -568,7 +695,7 @@ def _single_side(
     trips: Mapping[Literal["upper", "lower", "surface"], float],
 ) -> SideInput:
     inflow = case.inflow
-    p_pointer = "/pressure/cp" if case.pressure.cp is not None else "/pressure/edge_velocity"
+    p_pointer = _pressure_pointer(case.pressure)
     inner_zero = np.flatnonzero(ue[1:] <= 0.0)
     if inner_zero.size:
         i = int(inner_zero[0]) + 1

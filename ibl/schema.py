@@ -25,6 +25,7 @@ from msgspec import Meta
 __all__ = [
     "MAX_LENGTH",
     "MAX_POINTS",
+    "MAX_PRESSURE",
     "Body",
     "Case",
     "FirstCell",
@@ -74,6 +75,9 @@ Length = Annotated[float, Meta(ge=-MAX_LENGTH, le=MAX_LENGTH)]
 Points = Annotated[list[Length], Meta(min_length=3, max_length=MAX_POINTS)]
 CpValue = Annotated[float, Meta(ge=-1e4, le=1e4)]
 SpeedRatio = Annotated[float, Meta(ge=-100.0, le=100.0)]
+#: Largest magnitude of a pressure, absolute or gauge [Pa].
+MAX_PRESSURE = 1e9
+Pascals = Annotated[float, Meta(ge=-MAX_PRESSURE, le=MAX_PRESSURE)]
 
 
 class Surface(Struct, frozen=True):
@@ -94,7 +98,7 @@ class Surface(Struct, frozen=True):
 
 
 class Pressure(Struct, frozen=True):
-    """Surface pressure: pressure coefficient or edge velocity, one value per point."""
+    """Surface pressure: Cp, edge velocity or pressure [Pa], one value per point."""
 
     cp: Annotated[Points | None, Meta(description="Pressure coefficient Cp [-], one per point")] = (
         None
@@ -102,6 +106,28 @@ class Pressure(Struct, frozen=True):
     edge_velocity: Annotated[
         Annotated[list[SpeedRatio], Meta(min_length=3, max_length=MAX_POINTS)] | None,
         Meta(description="Edge velocity Ue/U_inf [-], one per point (sign ignored)"),
+    ] = None
+    p: Annotated[
+        Annotated[list[Pascals], Meta(min_length=3, max_length=MAX_POINTS)] | None,
+        Meta(
+            description="Surface static pressure [Pa], absolute or gauge (on the same basis as "
+            "reference_pressure), one per point; converted to Cp = (p - p_inf) / q_inf"
+        ),
+    ] = None
+    reference_pressure: Annotated[
+        Pascals | None,
+        Meta(
+            description="Free-stream static pressure p_inf [Pa], on the same basis as p; "
+            "required with p"
+        ),
+    ] = None
+    dynamic_pressure: Annotated[
+        Annotated[float, Meta(gt=0.0, le=MAX_PRESSURE)] | None,
+        Meta(
+            description="Free-stream dynamic pressure q_inf = 0.5 rho_inf U_inf^2 [Pa], with p; "
+            "may instead come from flow.density and flow.speed. At Mach > 0 it is still "
+            "0.5 rho_inf U_inf^2 (= gamma p_inf M^2 / 2), not the pitot rise p0 - p_inf"
+        ),
     ] = None
     smoothing: Annotated[
         Annotated[float, Meta(ge=0.0)] | Literal["auto"] | None,
@@ -132,6 +158,13 @@ class Flow(Struct, frozen=True):
         Meta(description="Free-stream turbulence intensity Tu, a fraction [-]"),
     ] = None
     mach: Annotated[float, Meta(ge=0.0, lt=1.0, description="Free-stream Mach number [-]")] = 0.0
+    density: Annotated[
+        Annotated[float, Meta(gt=0.0, le=1e5)] | None,
+        Meta(
+            description="Free-stream static density rho_inf [kg/m^3]; with speed it gives the "
+            "dynamic pressure 0.5 rho_inf U_inf^2 that converts pressure.p to Cp (at any Mach)"
+        ),
+    ] = None
 
 
 class Body(Struct, frozen=True):

@@ -94,6 +94,7 @@ POINT_ARRAYS = (
     ("surface", "s"),
     ("pressure", "cp"),
     ("pressure", "edge_velocity"),
+    ("pressure", "p"),
     ("body", "radius"),
 )
 

@@ -65,7 +65,7 @@ BAD = [
         "/transition/criterion",
         "magic",
     ),
-    ("unknown field", _single, "/flow/density", 1.2, "/flow", "density"),
+    ("unknown field", _single, "/flow/colour", "red", "/flow", "colour"),
     ("negative reynolds", _single, "/flow/reynolds", -5.0, "/flow/reynolds", ">"),
     ("no viscosity", _single, "/flow", {"speed": 10.0}, "/flow/kinematic_viscosity", "required"),
     ("both pressures", _single, "/pressure/cp", [0.0] * 21, "/pressure", "exactly one"),
