@@ -22,8 +22,9 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from ibl import smoothing as smoothing_module
 from ibl.errors import CaseError, FieldProblem
-from ibl.schema import Case, Notice, Stagnation
+from ibl.schema import SMOOTHING_MAX, Case, Notice, Stagnation
 
 __all__ = [
     "CP_NOISE",
@@ -54,6 +55,13 @@ REPEAT_TOLERANCE = 1e-10
 #: above, the data hold no stagnation point and the sides start as from a sharp edge.
 STAGNATION_UE = 0.05
 STAGNATION_COARSE = 0.5
+#: The ``pressure_noisy`` warning: estimated noise of (Ue/U_inf)^2 (``smoothing.noise_estimate``)
+#: above NOISE_SIGMA (0.1 % of the dynamic pressure: below the accuracy of good tap data,
+#: common practice) and above NOISE_RATIO times the median change between neighbouring
+#: points (then the point-to-point gradient, which drives Thwaites' lambda and Head's
+#: equations, carries 5 % noise or more). Chosen here (project constants).
+NOISE_SIGMA = 1e-3
+NOISE_RATIO = 0.05
 
 
 @dataclass(frozen=True, slots=True)
@@ -228,22 +236,55 @@ def _check_length(
         )
 
 
-def _smooth(q: F64, s: F64, smoothing: float | str) -> tuple[F64, Notice]:
-    """Smooth 1 - Cp (= (Ue/U_inf)^2 at M = 0) along the arc length with a smoothing spline."""
-    from scipy.interpolate import make_smoothing_spline
-
-    lam = None if smoothing == "auto" else float(smoothing)
-    spline = make_smoothing_spline(s, q, lam=lam)
-    smoothed = np.asarray(spline(s), dtype=np.float64)
-    change = smoothed - q
-    how = "generalised cross-validation" if lam is None else f"penalty {lam:g}"
-    return smoothed, Notice(
+def _smooth(q: F64, arc: F64, smoothing: float | str, periodic: bool) -> tuple[F64, Notice]:
+    """Smooth q = (Ue/U_inf)^2 (= 1 - Cp at M = 0) along the arc length (see
+    ``ibl.smoothing``); a failure of the algebra is a case error, never a crash."""
+    penalty = None if smoothing == "auto" else float(smoothing)
+    if penalty is not None and not 0.0 <= penalty <= SMOOTHING_MAX:
+        raise CaseError.at(
+            "/pressure/smoothing",
+            f"a penalty must lie between 0 and {SMOOTHING_MAX:g} (normalised arc length and "
+            "edge velocity; see the schema)",
+        )
+    length = float(arc[-1] - arc[0])
+    t = (arc - arc[0]) / length
+    try:
+        with np.errstate(divide="raise", over="raise", invalid="raise"):
+            smoothed = smoothing_module.smooth(t, q, penalty, periodic)
+    except (ValueError, ArithmeticError, np.linalg.LinAlgError) as error:
+        raise CaseError.at(
+            "/pressure/smoothing", f"the smoothing spline could not be computed ({error})"
+        ) from None
+    change = smoothed.values - q
+    if smoothed.chosen:
+        how = f"penalty {smoothed.penalty:.3g} chosen by generalised cross-validation"
+        if smoothed.at_limit:
+            how += f", the largest admissible ({SMOOTHING_MAX:g})"
+    else:
+        how = f"penalty {smoothed.penalty:.3g}"
+    return smoothed.values, Notice(
         code="input_smoothed",
         message=(
-            f"pressure smoothed by a cubic smoothing spline ({how}); change in Cp: "
-            f"RMS {np.sqrt(np.mean(change**2)):.3g}, largest {np.max(np.abs(change)):.3g}"
+            f"pressure smoothed by a cubic smoothing spline ({how}); change in "
+            f"(Ue/U_inf)^2 (= -change in Cp at M = 0): RMS {np.sqrt(np.mean(change**2)):.3g}, "
+            f"largest {np.max(np.abs(change)):.3g}"
         ),
-        pointer="/pressure",
+        pointer="/pressure/smoothing",
+    )
+
+
+def _noise_notice(arc: F64, q: F64, pointer: str) -> Notice | None:
+    """A warning when the pressure data look noisy enough to upset the march."""
+    sigma, ratio = smoothing_module.noise_estimate(arc, q)
+    if sigma <= NOISE_SIGMA or ratio <= NOISE_RATIO:
+        return None
+    return Notice(
+        code="pressure_noisy",
+        message=f"the pressure data look noisy: point-to-point noise of (Ue/U_inf)^2 "
+        f"(= 1 - Cp at M = 0) about {sigma:.2g}, {ratio:.2g} times the typical change "
+        "between neighbouring points; transition and separation may jump with it. "
+        'Consider pressure.smoothing: "auto"',
+        pointer=pointer,
     )
 
 
@@ -404,9 +445,14 @@ def prepare(case: Case) -> Prepared:
     if pressure.smoothing is not None:
         if n < 5:
             raise CaseError.at("/pressure/smoothing", "needs at least 5 points")
-        q, notice = _smooth(q, arc, pressure.smoothing)
+        closed = contour and bool(np.hypot(x[-1] - x[0], y[-1] - y[0]) <= 1e-9 * arc[-1])
+        q, notice = _smooth(q, arc, pressure.smoothing, closed)
         q = np.maximum(q, 0.0)
         warnings.append(notice)
+    else:
+        noisy = _noise_notice(arc, q, p_pointer)
+        if noisy is not None:
+            warnings.append(noisy)
     if not q.max() > 0.0:
         raise CaseError.at(p_pointer, "the edge velocity is zero everywhere")
 
@@ -634,7 +680,9 @@ def _split_contour(
     if not slope > 0.0:
         # No curvature to fit (a plateau of clipped Cp = 1): the slope from the nearest
         # point that moves.
-        moving = np.flatnonzero(q > 1e-12)
+        # Points at the stagnation point itself (within 1e-9 of the contour length) give no
+        # slope.
+        moving = np.flatnonzero((q > 1e-12) & (np.abs(arc - s0) > 1e-9 * total))
         if moving.size:
             j = int(moving[np.argmin(np.abs(arc[moving] - s0))])
             slope = float(np.sqrt(q[j]) / max(abs(arc[j] - s0), 1e-300))
