@@ -151,12 +151,17 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
 
 
 def _prepare_all(cases: list[Case]) -> list[Prepared | CaseError]:
+    """Each case prepared, or its error: whatever goes wrong with one case (even a failure
+    that is not a ``CaseError``) stays with that case."""
     prepared: list[Prepared | CaseError] = []
     for case in cases:
         try:
             prepared.append(prepare(case))
         except CaseError as error:
             prepared.append(error)
+        except Exception as error:  # noqa: BLE001 - one case must not fail a batch
+            reason = f"could not be prepared ({type(error).__name__}: {error})"
+            prepared.append(CaseError(FieldProblem("", reason)))
     return prepared
 
 

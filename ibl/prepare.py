@@ -256,7 +256,9 @@ def _smooth(q: F64, arc: F64, smoothing: float | str, periodic: bool) -> tuple[F
             "/pressure/smoothing", f"the smoothing spline could not be computed ({error})"
         ) from None
     change = smoothed.values - q
-    if smoothed.chosen:
+    if smoothed.undetermined:
+        how = "too few points for generalised cross-validation: left unsmoothed"
+    elif smoothed.chosen:
         how = f"penalty {smoothed.penalty:.3g} chosen by generalised cross-validation"
         if smoothed.at_limit:
             how += f", the largest admissible ({SMOOTHING_MAX:g})"
