@@ -159,7 +159,7 @@ def _prepare_all(cases: list[Case]) -> list[Prepared | CaseError]:
             prepared.append(prepare(case))
         except CaseError as error:
             prepared.append(error)
-        except Exception as error:  # noqa: BLE001 - one case must not fail a batch
+        except Exception as error:  # one case must not fail a batch
             reason = f"could not be prepared ({type(error).__name__}: {error})"
             prepared.append(CaseError(FieldProblem("", reason)))
     return prepared

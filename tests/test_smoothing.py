@@ -270,8 +270,9 @@ def test_noise_warning_fires_on_noisy_cp_and_estimates_sigma(points: int) -> Non
     # The estimate itself: the MAD of about n residuals has a relative standard error near
     # 1.17 / sqrt(n) for Gaussian noise (common practice): 20 % is over 3 standard errors.
     doc = cylinder(points, noise=sigma)
-    s = np.concatenate(([0.0], np.cumsum(np.hypot(*np.diff(
-        [doc["surface"]["x"], doc["surface"]["y"]], axis=1)))))
+    s = np.concatenate(
+        ([0.0], np.cumsum(np.hypot(*np.diff([doc["surface"]["x"], doc["surface"]["y"]], axis=1))))
+    )
     estimate, _ = smoothing.noise_estimate(s, 1.0 - np.array(doc["pressure"]["cp"]))
     assert estimate == pytest.approx(sigma, rel=0.2)
     # Asked for smoothing, the data are no longer reported as noisy.
@@ -289,7 +290,9 @@ def client() -> Any:
 
 def post(client: TestClient[Any], path: str, doc: Any, accept: str = MSGPACK) -> Any:
     return client.post(
-        path, content=msgspec.msgpack.encode(doc), headers={"content-type": MSGPACK, "accept": accept}
+        path,
+        content=msgspec.msgpack.encode(doc),
+        headers={"content-type": MSGPACK, "accept": accept},
     )
 
 
