@@ -688,6 +688,8 @@ def _split_contour(
         if moving.size:
             j = int(moving[np.argmin(np.abs(arc[moving] - s0))])
             slope = float(np.sqrt(q[j]) / max(abs(arc[j] - s0), 1e-300))
+    if not np.isfinite(slope):
+        slope = float("nan")  # no usable slope: the sides start as from a sharp edge
     ue_vertex = float(np.sqrt(max(q_vertex, 0.0)))
     if ue_vertex > STAGNATION_COARSE:
         warnings.append(
