@@ -339,3 +339,30 @@ def test_an_unexpected_failure_preparing_one_case_fails_that_case_alone(
     assert isinstance(outcomes[1], ibl.CaseError)
     assert not isinstance(outcomes[0], ibl.CaseError)
     assert not isinstance(outcomes[2], ibl.CaseError)
+
+
+@pytest.mark.parametrize("wavelength", [0.02, 0.05, 0.112])
+def test_penalty_halves_the_documented_wavelength(wavelength: float) -> None:
+    # The documented meaning of the penalty: for periodic, uniformly sampled data the
+    # minimiser of (1/n) sum (q - f)^2 + p int f''^2 keeps a sinusoid of angular wavenumber
+    # k = 2 pi / w with the factor 1 / (1 + p k^4) (substitute f = A sin(k t) into the
+    # functional and minimise over A: a two-line derivation). At p = (w / 2 pi)^4 the
+    # factor is 1/2; the spline on at most MAX_BASIS intervals approximates the exact
+    # minimiser, so 3 % is asked for.
+    t = np.linspace(0.0, 1.0, 4001)
+    k = 2 * np.pi / wavelength
+    q = 2.0 + np.sin(k * t)
+    penalty = (wavelength / (2 * np.pi)) ** 4
+    out = smoothing.smooth(t, q, penalty, periodic=True)
+    amplitude = 2 * np.mean((out.values[:-1] - 2.0) * np.sin(k * t[:-1]))
+    assert amplitude == pytest.approx(0.5, rel=0.03)
+
+
+@pytest.mark.parametrize("penalty", ["auto", 1e-10])
+def test_smoothing_does_not_depend_on_the_length_unit(penalty: Any) -> None:
+    # Invariance: the same contour in millimetres and in kilometres (Re per unit length
+    # scaled with it) gives the same smoothed edge velocity.
+    small = ibl.analyze(cylinder(181, 1e-3, noise=0.01, smoothing_=penalty))
+    large = ibl.analyze(cylinder(181, 1e3, noise=0.01, smoothing_=penalty))
+    for a, b in zip(small["sides"], large["sides"], strict=True):
+        np.testing.assert_allclose(a["edge_velocity"], b["edge_velocity"], rtol=1e-9, atol=1e-12)
