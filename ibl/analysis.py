@@ -186,12 +186,17 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
 
 
 def _prepare_all(cases: list[Case]) -> list[_Ready | CaseError]:
+    """Each case prepared, or its error: whatever goes wrong with one case (even a failure
+    that is not a ``CaseError``) stays with that case."""
     prepared: list[_Ready | CaseError] = []
     for case in cases:
         try:
             prepared.append(_plateaus(case, prepare(case)))
         except CaseError as error:
             prepared.append(error)
+        except Exception as error:  # one case must not fail a batch
+            reason = f"could not be prepared ({type(error).__name__}: {error})"
+            prepared.append(CaseError(FieldProblem("", reason)))
     return prepared
 
 

@@ -305,14 +305,17 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
     if args.y_plus:
         case["mesh"] = {"y_plus": args.y_plus}
     if args.smoothing is not None:
-        try:
-            smoothing: str | float = "auto" if args.smoothing == "auto" else float(args.smoothing)
-        except ValueError:
-            raise CaseError.at(
-                "/pressure/smoothing",
-                f"--smoothing: {args.smoothing!r} is neither 'auto' nor a number",
-            ) from None
-        _object_member(case, "pressure", "/pressure", "--smoothing")["smoothing"] = smoothing
+        _object_member(case, "pressure", "/pressure", "--smoothing")["smoothing"] = args.smoothing
+
+
+def _smoothing_argument(text: str) -> str | float:
+    """``--smoothing``: 'auto' or a number (its range is checked with the case)."""
+    if text == "auto":
+        return text
+    try:
+        return float(text)
+    except ValueError:
+        raise argparse.ArgumentTypeError("expected 'auto' or a number") from None
 
 
 def _fmt(value: float | None, unit: str = "") -> str:
@@ -506,7 +509,11 @@ def _add_case_flags(
     parser.add_argument("--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"])
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
     parser.add_argument("--y-plus", type=float, nargs="+", help="first-cell y+ targets")
-    parser.add_argument("--smoothing", help="'auto' or a smoothing-spline penalty")
+    parser.add_argument(
+        "--smoothing",
+        type=_smoothing_argument,
+        help="'auto' or a smoothing-spline penalty from 0 to 1e-7 (normalised; see README)",
+    )
     parser.add_argument(
         "--plot", type=Path, metavar="FILE", help="write a figure (.png or .svg) to FILE"
     )

@@ -24,8 +24,9 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
+from ibl import smoothing as smoothing_module
 from ibl.errors import CaseError, FieldProblem
-from ibl.schema import MAX_LENGTH, Case, Notice, Pressure, Stagnation
+from ibl.schema import MAX_LENGTH, SMOOTHING_MAX, Case, Notice, Pressure, Stagnation
 
 __all__ = [
     "CP_NOISE",
@@ -77,6 +78,13 @@ IMPLICIT_CLOSURE = 0.1
 #: J. Fluid Mech. 3, 373-384 [memory]); far below it the skin-friction laws, fitted from
 #: Re_theta = 1e3 up, grow without bound and Head's equations separate a flat-plate layer.
 MIN_TURBULENT_RE_THETA = 320.0
+#: The ``pressure_noisy`` warning: estimated noise of (Ue/U_inf)^2 (``smoothing.noise_estimate``)
+#: above NOISE_SIGMA (0.1 % of the dynamic pressure: below the accuracy of good tap data,
+#: common practice) and above NOISE_RATIO times the median change between neighbouring
+#: points (then the point-to-point gradient, which drives Thwaites' lambda and Head's
+#: equations, carries 5 % noise or more). Chosen here (project constants).
+NOISE_SIGMA = 1e-3
+NOISE_RATIO = 0.05
 
 
 @dataclass(frozen=True, slots=True)
@@ -390,22 +398,57 @@ def _check_one_sign(ue: F64, problems: list[FieldProblem]) -> None:
         )
 
 
-def _smooth(q: F64, s: F64, smoothing: float | str) -> tuple[F64, Notice]:
-    """Smooth 1 - Cp (= (Ue/U_inf)^2 at M = 0) along the arc length with a smoothing spline."""
-    from scipy.interpolate import make_smoothing_spline
-
-    lam = None if smoothing == "auto" else float(smoothing)
-    spline = make_smoothing_spline(s, q, lam=lam)
-    smoothed = np.asarray(spline(s), dtype=np.float64)
-    change = smoothed - q
-    how = "generalised cross-validation" if lam is None else f"penalty {lam:g}"
-    return smoothed, Notice(
+def _smooth(q: F64, arc: F64, smoothing: float | str, periodic: bool) -> tuple[F64, Notice]:
+    """Smooth q = (Ue/U_inf)^2 (= 1 - Cp at M = 0) along the arc length (see
+    ``ibl.smoothing``); a failure of the algebra is a case error, never a crash."""
+    penalty = None if smoothing == "auto" else float(smoothing)
+    if penalty is not None and not 0.0 <= penalty <= SMOOTHING_MAX:
+        raise CaseError.at(
+            "/pressure/smoothing",
+            f"a penalty must lie between 0 and {SMOOTHING_MAX:g} (normalised arc length and "
+            "edge velocity; see the schema)",
+        )
+    length = float(arc[-1] - arc[0])
+    t = (arc - arc[0]) / length
+    try:
+        with np.errstate(divide="raise", over="raise", invalid="raise"):
+            smoothed = smoothing_module.smooth(t, q, penalty, periodic)
+    except (ValueError, ArithmeticError, np.linalg.LinAlgError) as error:
+        raise CaseError.at(
+            "/pressure/smoothing", f"the smoothing spline could not be computed ({error})"
+        ) from None
+    change = smoothed.values - q
+    if smoothed.undetermined:
+        how = "too few points for generalised cross-validation: left unsmoothed"
+    elif smoothed.chosen:
+        how = f"penalty {smoothed.penalty:.3g} chosen by generalised cross-validation"
+        if smoothed.at_limit:
+            how += f", the largest admissible ({SMOOTHING_MAX:g})"
+    else:
+        how = f"penalty {smoothed.penalty:.3g}"
+    return smoothed.values, Notice(
         code="input_smoothed",
         message=(
-            f"pressure smoothed by a cubic smoothing spline ({how}); change in Cp: "
-            f"RMS {np.sqrt(np.mean(change**2)):.3g}, largest {np.max(np.abs(change)):.3g}"
+            f"pressure smoothed by a cubic smoothing spline ({how}); change in "
+            f"(Ue/U_inf)^2 (= -change in Cp at M = 0): RMS {np.sqrt(np.mean(change**2)):.3g}, "
+            f"largest {np.max(np.abs(change)):.3g}"
         ),
-        pointer="/pressure",
+        pointer="/pressure/smoothing",
+    )
+
+
+def _noise_notice(arc: F64, q: F64, pointer: str) -> Notice | None:
+    """A warning when the pressure data look noisy enough to upset the march."""
+    sigma, ratio = smoothing_module.noise_estimate(arc, q)
+    if sigma <= NOISE_SIGMA or ratio <= NOISE_RATIO:
+        return None
+    return Notice(
+        code="pressure_noisy",
+        message=f"the pressure data look noisy: point-to-point noise of (Ue/U_inf)^2 "
+        f"(= 1 - Cp at M = 0) about {sigma:.2g}, {ratio:.2g} times the typical change "
+        "between neighbouring points; transition and separation may jump with it. "
+        'Consider pressure.smoothing: "auto"',
+        pointer=pointer,
     )
 
 
@@ -572,9 +615,21 @@ def prepare(case: Case) -> Prepared:
     if pressure.smoothing is not None:
         if n < 5:
             raise CaseError.at("/pressure/smoothing", "needs at least 5 points")
-        q, notice = _smooth(q, arc, pressure.smoothing)
+        closed, implicit = _closure(x, y, arc) if contour else (False, False)
+        if implicit:  # a closed loop listed without its first point repeated
+            period = arc[-1] + float(np.hypot(x[-1] - x[0], y[-1] - y[0]))
+            looped, notice = _smooth(
+                np.append(q, q[0]), np.append(arc, period), pressure.smoothing, True
+            )
+            q = looped[:-1]
+        else:
+            q, notice = _smooth(q, arc, pressure.smoothing, closed)
         q = np.maximum(q, 0.0)
         warnings.append(notice)
+    else:
+        noisy = _noise_notice(arc, q, p_pointer)
+        if noisy is not None:
+            warnings.append(noisy)
     if not q.max() > 0.0:
         raise CaseError.at(p_pointer, "the edge velocity is zero everywhere")
 
@@ -1024,6 +1079,8 @@ def _split_contour(
     a, b, s0, slope_before, slope_after, ue_vertex, plateau = _stagnation_candidates(
         arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
     )
+    if not (np.isfinite(slope_before) and np.isfinite(slope_after)):
+        slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
     if a < 0:
         # No stagnation point in the data: the sides start at the most upstream point as
         # from a sharp leading edge (the middle of a flat front face).

@@ -26,6 +26,7 @@ __all__ = [
     "MAX_LENGTH",
     "MAX_POINTS",
     "MAX_PRESSURE",
+    "SMOOTHING_MAX",
     "Body",
     "Case",
     "FirstCell",
@@ -54,6 +55,9 @@ __all__ = [
 
 #: Largest number of points accepted on one surface (a contour counts as one surface).
 MAX_POINTS = 20_000
+#: Largest admissible smoothing penalty (normalised; see ``Pressure.smoothing`` and
+#: ``ibl.smoothing``).
+SMOOTHING_MAX = 1e-7
 
 
 class Struct(
@@ -130,10 +134,14 @@ class Pressure(Struct, frozen=True):
         ),
     ] = None
     smoothing: Annotated[
-        Annotated[float, Meta(ge=0.0)] | Literal["auto"] | None,
+        Annotated[float, Meta(ge=0.0, le=SMOOTHING_MAX)] | Literal["auto"] | None,
         Meta(
-            description="Smoothing of noisy tap data: null for none, 'auto' for a "
-            "generalised-cross-validation smoothing spline, or a spline penalty >= 0"
+            description="Smoothing of noisy tap data by a cubic smoothing spline of "
+            "(Ue/U_inf)^2: null for none, 'auto' for the penalty chosen by generalised "
+            "cross-validation, or a penalty from 0 to 1e-7. The penalty is on normalised "
+            "data (arc length scaled to 0..1, (Ue/U_inf)^2 to its largest value, the fit "
+            "term averaged over the points): a sinusoid of wavelength w (fraction of the arc "
+            "length) is halved at penalty (w / 2 pi)^4, so 1e-7 halves one of 0.11"
         ),
     ] = None
 

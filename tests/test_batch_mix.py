@@ -116,7 +116,11 @@ def noisy(draw):
 @st.composite
 def bad(draw):
     x, y, cp = _circle(36)
-    which = draw(st.sampled_from(["cp_over", "trip_side", "length"]))
+    which = draw(st.sampled_from(["cp_over", "trip_side", "length", "smoothing"]))
+    if which == "smoothing":
+        doc = _case(x, y, cp)
+        doc["pressure"]["smoothing"] = draw(st.sampled_from([math.inf, 1.0, 1e12]))
+        return doc, "/pressure/smoothing"
     if which == "cp_over":
         cp[5] = 1.3
         return _case(x, y, cp), "/pressure/cp/5"

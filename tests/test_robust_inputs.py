@@ -462,8 +462,12 @@ def test_flag_on_a_member_of_the_wrong_type_is_a_clean_error(
 
 
 def test_smoothing_flag_that_is_not_a_number_is_a_clean_error(capsys):
-    assert main(["run", str(EXAMPLE), "--smoothing", "lots"]) == 2
-    assert "/pressure/smoothing" in capsys.readouterr().err
+    # A usage error from the flag's own type check: exit status 2, no traceback.
+    with pytest.raises(SystemExit) as info:
+        main(["run", str(EXAMPLE), "--smoothing", "lots"])
+    assert info.value.code == 2
+    err = capsys.readouterr().err
+    assert "--smoothing" in err and "Traceback" not in err
 
 
 @pytest.mark.parametrize(
