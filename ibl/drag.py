@@ -84,20 +84,19 @@ def friction_drag(
     """
     if x.size < 2:
         return None
-    g = cf * ue**2
+    g = cf * ue * ue
     if weight is not None:
-        g = g * weight
-    total = 0.0
+        g *= weight
     start = 0
+    total = 0.0
     if not math.isfinite(float(g[0])):
-        if x.size < 3 or not np.all(np.isfinite(g[1:3])) or g[1] <= 0.0 or g[2] <= 0.0:
-            return _trapezoid(x[1:], g[1:]) if x.size > 2 else None
         start = 1
-        total += _first_panel(s, x, g)
-    rest = _trapezoid(x[start:], g[start:])
-    if rest is None:
+        if x.size > 2 and g[1] > 0.0 and g[2] > 0.0:  # False for NaN too
+            total = _first_panel(s, x, g)
+    if x.size - start < 2:
         return None
-    return total + rest
+    total += _trapezoid(x[start:], g[start:])
+    return total if math.isfinite(total) else None
 
 
 def _first_panel(s: F64, x: F64, g: F64) -> float:
@@ -113,10 +112,9 @@ def _first_panel(s: F64, x: F64, g: F64) -> float:
     return float(g[1]) * dx / (1.0 + p)
 
 
-def _trapezoid(x: F64, g: F64) -> float | None:
-    if x.size < 2 or not np.all(np.isfinite(g)):
-        return None
-    return float(np.sum(0.5 * (g[1:] + g[:-1]) * np.diff(x)))
+def _trapezoid(x: F64, g: F64) -> float:
+    """Trapezoidal integral of g dx (NaN if any g is NaN)."""
+    return 0.5 * float(np.dot(g[1:] + g[:-1], x[1:] - x[:-1]))
 
 
 def profile_drag_squire_young_1938(theta: float, ue: float, h: float) -> float:
@@ -160,7 +158,7 @@ def profile_drag_squire_young_1938(theta: float, ue: float, h: float) -> float:
     >>> profile_drag_squire_young_1938(0.002, 1.0, 1.4)
     0.004
     >>> round(profile_drag_squire_young_1938(0.002, 0.9, 1.6), 6)
-    0.002832
+    0.002825
     """
     return 2.0 * theta * ue ** (0.5 * (h + 5.0))
 
