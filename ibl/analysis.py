@@ -501,9 +501,10 @@ def _no_trailing_edge(p: Prepared, states: list[SideState]) -> str:
         )
     if len(sides) != 2:
         return "the contour yields one side only: profile drag needs both sides"
-    ends = [(float(side.x[-1]), float(side.y[-1])) for side in sides if side.x is not None]
-    xs = np.concatenate([side.x for side in sides if side.x is not None])
-    ys = np.concatenate([side.y for side in sides if side.y is not None])
+    xs_ys = [(side.x, side.y) for side in sides if side.x is not None and side.y is not None]
+    ends = [(float(x[-1]), float(y[-1])) for x, y in xs_ys]
+    xs = np.concatenate([x for x, _ in xs_ys])
+    ys = np.concatenate([y for _, y in xs_ys])
     scale = float(max(np.ptp(xs), np.ptp(ys)))
     if math.dist(ends[0], ends[1]) > MEET_TOLERANCE * scale:
         return (
@@ -529,7 +530,9 @@ def _no_trailing_edge(p: Prepared, states: list[SideState]) -> str:
         if not float(state.ue[-1]) > 0.0:
             return "the edge velocity vanishes where the sides meet: a rear stagnation point"
         if side.axisymmetric and not float(side.r[-1]) > 0.0:
-            return "the tail closes on the axis: the momentum area there is not that of a thin layer"
+            return (
+                "the tail closes on the axis: the momentum area there is not that of a thin layer"
+            )
     return ""
 
 

@@ -264,7 +264,9 @@ def summary(result: dict[str, Any]) -> str:
         lines.append(f"Drag (D/{per}, L the coordinate unit):")
         lines.append(f"  friction            {_fmt(drag['friction'])}")
         if drag["profile"] is not None:
-            lines.append(f"  profile             {_fmt(drag['profile'])} ({drag['profile_method']})")
+            lines.append(
+                f"  profile             {_fmt(drag['profile'])} ({drag['profile_method']})"
+            )
         else:
             lines.append("  profile             -")
         lines.append(f"  {drag['note']}")

@@ -38,9 +38,7 @@ F64 = NDArray[np.float64]
 FIRST_PANEL_EXPONENTS = (-0.9, 3.0)
 
 
-def friction_drag(
-    s: F64, x: F64, ue: F64, cf: F64, weight: F64 | None = None
-) -> float | None:
+def friction_drag(s: F64, x: F64, ue: F64, cf: F64, weight: F64 | None = None) -> float | None:
     r"""Friction drag of one side: wall shear projected on +x, integrated along it.
 
     .. math::
@@ -160,7 +158,7 @@ def profile_drag_squire_young_1938(theta: float, ue: float, h: float) -> float:
     >>> round(profile_drag_squire_young_1938(0.002, 0.9, 1.6), 6)
     0.002825
     """
-    return 2.0 * theta * ue ** (0.5 * (h + 5.0))
+    return float(2.0 * theta * ue ** (0.5 * (h + 5.0)))
 
 
 def profile_drag_young_1939(r: float, theta: float, ue: float, h: float) -> float:
@@ -198,4 +196,4 @@ def profile_drag_young_1939(r: float, theta: float, ue: float, h: float) -> floa
     >>> round(profile_drag_young_1939(0.5, 0.001, 1.0, 1.4), 8)
     0.00628319
     """
-    return 4.0 * math.pi * r * theta * ue ** (0.5 * (h + 5.0))
+    return float(4.0 * math.pi * r * theta * ue ** (0.5 * (h + 5.0)))

@@ -24,8 +24,8 @@ from msgspec import UNSET, Meta, UnsetType
 __all__ = [
     "MAX_LENGTH",
     "MAX_POINTS",
-    "Body",
     "STATION_QUANTITIES",
+    "Body",
     "Case",
     "Drag",
     "FirstCell",
@@ -347,11 +347,11 @@ class Side(Struct, frozen=True, kw_only=True):
         Meta(description="Arc length of each station in the s of the results [length unit]"),
     ] = UNSET
     x: Annotated[
-        list[float] | None | UnsetType,
+        list[float] | UnsetType | None,
         Meta(description="x of each station [length unit]; null for a single surface"),
     ] = UNSET
     y: Annotated[
-        list[float] | None | UnsetType,
+        list[float] | UnsetType | None,
         Meta(description="y of each station [length unit]; null for a single surface"),
     ] = UNSET
     edge_velocity: Annotated[
@@ -396,7 +396,7 @@ class Side(Struct, frozen=True, kw_only=True):
             "the surface this side's meridian sweeps, D_f/(q_inf L^2). Single surface (no "
             "geometry): x is taken along s. Null with fewer than two stations"
         ),
-    ] = None
+    ]
 
 
 class Notice(Struct, frozen=True):
@@ -433,9 +433,7 @@ class Drag(Struct, frozen=True):
         ),
     ]
     profile_method: Literal["squire_young_1938", "young_1939"] | None
-    note: Annotated[
-        str, Meta(description="How the figures were obtained, or why profile is null")
-    ]
+    note: Annotated[str, Meta(description="How the figures were obtained, or why profile is null")]
 
 
 class Result(Struct, frozen=True):

@@ -234,9 +234,7 @@ def run_chunk(
         except CaseError as error:
             cases.append(error)
     # Events and the end of each side are all a sweep keeps: s is the one array built.
-    good = [
-        msgspec.structs.replace(c, output=_ENDS_ONLY) for c in cases if isinstance(c, Case)
-    ]
+    good = [msgspec.structs.replace(c, output=_ENDS_ONLY) for c in cases if isinstance(c, Case)]
     results = iter(run_batch(good) if good else [])
     points = []
     for value, case in zip(values, cases, strict=True):
