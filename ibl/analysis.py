@@ -469,8 +469,8 @@ def _friction(side: SideInput, state: SideState) -> float | None:
 
 
 #: Sides end at one point (a trailing edge or rear point) when their last stations are
-#: closer than this fraction of the contour's extent (rounding only: both sides end on
-#: the same point of the input).
+#: closer than this fraction of the longer side's length (rounding only: both sides end
+#: on the same point of the input).
 MEET_TOLERANCE = 1e-9
 
 
@@ -501,11 +501,12 @@ def _no_trailing_edge(p: Prepared, states: list[SideState]) -> str:
         )
     if len(sides) != 2:
         return "the contour yields one side only: profile drag needs both sides"
-    xs_ys = [(side.x, side.y) for side in sides if side.x is not None and side.y is not None]
-    ends = [(float(x[-1]), float(y[-1])) for x, y in xs_ys]
-    xs = np.concatenate([x for x, _ in xs_ys])
-    ys = np.concatenate([y for _, y in xs_ys])
-    scale = float(max(np.ptp(xs), np.ptp(ys)))
+    ends = [
+        (float(side.x[-1]), float(side.y[-1]))
+        for side in sides
+        if side.x is not None and side.y is not None
+    ]
+    scale = max(float(side.s[-1]) for side in sides)  # the sides' lengths
     if math.dist(ends[0], ends[1]) > MEET_TOLERANCE * scale:
         return (
             "the sides end apart (an open contour, or a side ended where its edge velocity "
