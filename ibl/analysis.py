@@ -20,20 +20,23 @@ import numpy as np
 import orjson
 from numpy.typing import NDArray
 
-from ibl import kernel, mesh, transition, turbulent
+from ibl import drag, kernel, mesh, transition, turbulent
 from ibl import march as march_module
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
 from ibl.plateau import Plateau, cp_from_edge_velocity, cut_side, find_plateau
 from ibl.prepare import Prepared, SideInput, prepare
 from ibl.schema import (
+    STATION_QUANTITIES,
     Case,
+    Drag,
     FirstCell,
     LaminarMargin,
     LaminarSeparationEvent,
     Margins,
     MeshAdvice,
     Notice,
+    Output,
     PressurePlateauEvent,
     Result,
     SeparationEvent,
@@ -118,6 +121,8 @@ def parse_case(doc: Any, *, encoding: Literal["json", "msgpack"] = "json") -> Ca
         value = _lookup(doc, pointer)
         if isinstance(value, float) and not math.isfinite(value):
             reason = "is not a finite number"
+        elif pointer.startswith("/output/stations/") and reason.startswith("Invalid enum"):
+            reason += "; the station arrays are " + ", ".join(STATION_QUANTITIES)
         return _raise(FieldProblem(pointer, reason))
     except msgspec.DecodeError as error:
         name = "MessagePack" if encoding == "msgpack" else "JSON"
@@ -160,6 +165,9 @@ def run_batch(cases: list[Case], *, arrays: Arrays = "list") -> list[Result | Ca
     the march's arrays, not lists: ``msgspec.json.encode`` (``msgspec.msgpack.encode``)
     then writes the same bytes as for the ``"list"`` result, several times faster, but the
     result is good for nothing else.
+
+    Each case's ``output.stations`` chooses the station arrays its sides carry (all, none
+    or some); those left out are not built (``msgspec.UNSET``, absent when encoded).
 
     A batch of at least ``2 * PIPELINE_CASES`` cases is pipelined in chunks of that many
     when the process may use two cores or more; the results are the same.
@@ -217,7 +225,7 @@ def _plateaus(case: Case, prepared: Prepared) -> _Ready:
         sides.append(shorter if shorter is not None else side)
         plateaus.append(found)
         cut.append(shorter is not None)
-    ready = Prepared(sides, prepared.stagnation, prepared.warnings)
+    ready = Prepared(sides, prepared.stagnation, prepared.warnings, prepared.closed)
     return _Ready(ready, plateaus, cut)
 
 
@@ -242,11 +250,14 @@ def _results(
         p = ready.prepared
         warnings = list(p.warnings)
         built = []
+        marched = []
+        wanted = _wanted(case.output)
         for index, side in enumerate(p.sides):
             state = next(states)
+            marched.append(state)
             pointer = f"/sides/{index}"
             found = ready.plateaus[index]
-            built.append(_side(side, state, convert, warnings, pointer, found))
+            built.append(_side(side, state, convert, warnings, pointer, found, wanted))
             if found is not None:
                 warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
             warnings.extend(_range_warnings(side, state))
@@ -257,6 +268,7 @@ def _results(
                 name=case.name,
                 stagnation=p.stagnation,
                 sides=built,
+                drag=_drag(p, marched, [side.friction_drag for side in built]),
                 options=_options(case),
                 warnings=warnings,
                 caution=CAUTION,
@@ -410,6 +422,7 @@ def _side(
     warnings: list[Notice],
     pointer: str,
     found: Plateau | None = None,
+    wanted: frozenset[str] = frozenset(STATION_QUANTITIES),
 ) -> Side:
     """The result document of one side; a notice in ``warnings`` if its stations were cut."""
     keep = state.count
@@ -451,40 +464,187 @@ def _side(
             y=xy[1],
             regime="turbulent" if state.separation_turbulent else "laminar",
         )
-    laminar = keep - int(np.count_nonzero(state.turbulent))
-    columns = [
-        state.s + offset,
-        state.ue,
-        state.theta,
-        state.theta * state.shape_factor,
-        state.shape_factor,
-        state.re_theta,
-        state.delta99,
-    ]
-    if side.x is not None and side.y is not None:
-        columns += [side.x[:keep], side.y[:keep]]
-    rows = arrays.rows(columns)
-    s, ue, theta, delta_star, shape_factor, re_theta, delta99 = rows[:7]
-    x, y = rows[7:] if len(rows) == 9 else (None, None)
+    arrays_out: dict[str, Any] = {}
+    if wanted:
+        laminar = keep - int(np.count_nonzero(state.turbulent))
+        names = [name for name in _FLOAT_STATIONS if name in wanted]
+        contour = side.x is not None and side.y is not None
+        if not contour:
+            for name in ("x", "y"):
+                if name in wanted:
+                    names.remove(name)
+                    arrays_out[name] = None
+        if names:
+            columns = [_column(name, side, state, keep) for name in names]
+            arrays_out.update(zip(names, arrays.rows(columns), strict=True))
+        if "cf" in wanted:
+            arrays_out["cf"] = arrays.nullable(state.cf)
+        if "regime" in wanted:
+            arrays_out["regime"] = arrays.regime(laminar, keep - laminar)
     return Side(
         name=side.name,
-        s=s,
-        x=x,
-        y=y,
-        edge_velocity=ue,
-        theta=theta,
-        delta_star=delta_star,
-        shape_factor=shape_factor,
-        cf=arrays.nullable(state.cf),
-        re_theta=re_theta,
-        delta99=delta99,
-        regime=arrays.regime(laminar, keep - laminar),
+        **arrays_out,
         transition=tr,
         laminar_separation=lsep,
         separation=sep,
         pressure_plateau=_plateau_event(side, found),
         margins=_margins(side, state),
         mesh=_mesh(side, state),
+        friction_drag=_friction(side, state),
+    )
+
+
+#: The float station arrays built by ``_Converter.rows`` (cf and regime have their own).
+_FLOAT_STATIONS = tuple(n for n in STATION_QUANTITIES if n not in ("cf", "regime"))
+_ALL_STATIONS = frozenset(STATION_QUANTITIES)
+
+
+def _wanted(output: Output) -> frozenset[str]:
+    """The station arrays a case's ``output`` asks for."""
+    stations = output.stations
+    if stations is True:
+        return _ALL_STATIONS
+    if stations is False:
+        return frozenset()
+    return frozenset(stations)
+
+
+def _column(name: str, side: SideInput, state: SideState, keep: int) -> NDArray[np.float64]:
+    """One float station array of a marched side (x and y of a contour side only)."""
+    if name == "s":
+        return state.s + side.offset
+    if name == "x":
+        assert side.x is not None
+        return side.x[:keep]
+    if name == "y":
+        assert side.y is not None
+        return side.y[:keep]
+    if name == "edge_velocity":
+        return state.ue
+    if name == "delta_star":
+        return state.theta * state.shape_factor
+    value: NDArray[np.float64] = getattr(state, name)  # theta, shape_factor, re_theta, delta99
+    return value
+
+
+def _friction(side: SideInput, state: SideState) -> float | None:
+    """The side's friction drag (see ``ibl.drag.friction_drag``), over its stations."""
+    keep = state.count
+    if keep < 2:
+        return None
+    x = side.x[:keep] if side.x is not None else state.s
+    weight = 2.0 * math.pi * side.r[:keep] if side.axisymmetric else None
+    return drag.friction_drag(state.s, x, state.ue, state.cf, weight)
+
+
+#: Sides end at one point (a trailing edge or rear point) when their last stations are
+#: closer than this fraction of the longer side's length (rounding only: both sides end
+#: on the same point of the input).
+MEET_TOLERANCE = 1e-9
+
+
+def _one_body(sides: list[SideInput]) -> bool:
+    """Whether the two sides of a body of revolution are the meridian given on both sides
+    of the axis (the radius is |y| and the sides lie on opposite sides): they describe the
+    same surface, not two surfaces (as the inner and outer side of a ring do)."""
+    if len(sides) != 2 or sides[0].y is None or sides[1].y is None:
+        return False
+    middle = [float(np.median(side.y[1:])) for side in sides if side.y is not None]
+    if not middle[0] * middle[1] < 0.0:
+        return False
+    scale = max(float(np.max(side.r)) for side in sides)
+    return all(
+        side.y is not None
+        and bool(np.allclose(side.r, np.abs(side.y), rtol=0.0, atol=1e-6 * scale))
+        for side in sides
+    )
+
+
+def _no_trailing_edge(p: Prepared, states: list[SideState]) -> str:
+    """Why profile drag cannot be had from the state where the sides meet ("" if it can)."""
+    sides = p.sides
+    if p.stagnation is None or sides[0].x is None:
+        return (
+            "a single surface has no trailing edge: profile drag needs both sides of a "
+            "section where they meet"
+        )
+    if len(sides) != 2:
+        return "the contour yields one side only: profile drag needs both sides"
+    if not p.closed:
+        return "the contour is open: its sides end apart, with no trailing edge where they meet"
+    for side, state in zip(sides, states, strict=True):
+        name = side.name
+        if math.isfinite(state.separation_s):
+            regime = "turbulent" if state.separation_turbulent else "laminar"
+            return (
+                f"the {name} side separates ({regime}) at s = "
+                f"{state.separation_s + side.offset:.4g}, before the trailing edge: the wake "
+                "relation needs attached flow there"
+            )
+        if state.count < side.s.size:
+            if math.isfinite(state.thin_layer_s):
+                return (
+                    f"the {name} side's stations end at the thin-layer limit of a body of "
+                    "revolution (warning thin_layer_limit), before the tail"
+                )
+            return f"the {name} side's stations end before the trailing edge (see warnings)"
+        if not float(state.ue[-1]) > 0.0:
+            return "the edge velocity vanishes where the sides meet: a rear stagnation point"
+        if side.axisymmetric and not float(side.r[-1]) > 0.0:
+            return (
+                "the tail closes on the axis: the momentum area there is not that of a thin layer"
+            )
+    return ""
+
+
+#: Said of every friction drag.
+_FRICTION_NOTE = (
+    "Friction drag: wall shear projected on +x over the stations of each side, up to "
+    "separation or the side's end (nothing beyond separation is counted)"
+)
+
+
+def _drag(p: Prepared, states: list[SideState], frictions: list[float | None]) -> Drag:
+    """The case's drag: friction over the sides, and profile drag where the sides meet."""
+    sides = p.sides
+    axisymmetric = sides[0].axisymmetric
+    one_body = axisymmetric and _one_body(sides)
+    known = [f for f in frictions if f is not None]
+    friction = (sum(known) / len(known) if one_body else sum(known)) if known else None
+    note = _FRICTION_NOTE
+    if p.stagnation is None:
+        note += "; a single surface has no geometry: x is taken along s"
+    if one_body:
+        note += (
+            "; the two sides are one body of revolution's meridian on both sides of the "
+            "axis: the mean of the sides"
+        )
+    reason = _no_trailing_edge(p, states)
+    if reason:
+        return Drag(
+            friction=friction,
+            profile=None,
+            profile_method=None,
+            note=f"{note}. No profile drag: {reason}.",
+        )
+    shares = []
+    for side, state in zip(sides, states, strict=True):
+        theta, ue, h = (float(a[-1]) for a in (state.theta, state.ue, state.shape_factor))
+        if axisymmetric:
+            shares.append(drag.profile_drag_young_1939(float(side.r[-1]), theta, ue, h))
+        else:
+            shares.append(drag.profile_drag_squire_young_1938(theta, ue, h))
+    profile = sum(shares) / 2.0 if one_body else sum(shares)
+    method: Literal["squire_young_1938", "young_1939"] = (
+        "young_1939" if axisymmetric else "squire_young_1938"
+    )
+    cite = "Young (1939)" if axisymmetric else "Squire & Young (1938)"
+    return Drag(
+        friction=friction,
+        profile=profile,
+        profile_method=method,
+        note=f"{note}. Profile drag by {cite} from theta, H and Ue where the sides meet, "
+        "summed over the two sides.",
     )
 
 

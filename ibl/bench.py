@@ -7,7 +7,9 @@ Contents
 - ``reference_side(side)``: a straightforward per-side implementation with scipy
   (CubicSpline, cumulative Simpson quadrature, ``solve_ivp`` with a separation event),
   timed in the same run and used to show that the fast march gives the same answers.
-- ``main()``: prints microseconds per side at N = 200 and 400, single and batched.
+- ``main()``: prints microseconds per side at N = 200 and 400, single and batched; sides
+  per second in a batch for full and summary answers (``output.stations = false``), and
+  the size of one answer, full and summary, in JSON and MessagePack.
 """
 
 from __future__ import annotations
@@ -15,13 +17,15 @@ from __future__ import annotations
 import statistics
 import time
 from collections.abc import Callable
-from typing import Any
+from typing import Any, Literal
 
+import msgspec
 import numpy as np
 
 from ibl.analysis import analyze, parse_case, run, run_batch
 from ibl.march import march
 from ibl.prepare import SideInput, prepare
+from ibl.schema import Output
 
 __all__ = ["ellipse_case", "main", "reference_side"]
 
@@ -148,10 +152,18 @@ def _figures(n: int, repeat: int, batch: int) -> None:
         )
     march_rate = len(many) / _time(lambda: march(many), 3)
     run_rate = len(many) / _time(lambda: run_batch(cases), 3)
+    summary = msgspec.structs.replace(case, output=Output(stations=False))
+    summaries = [summary] * len(cases)
+    summary_rate = len(many) / _time(lambda: run_batch(summaries), 3)
     print(
         f"{'':>7} sides per second in a batch: {march_rate:,.0f} (march), "
-        f"{run_rate:,.0f} (run_batch)"
+        f"{run_rate:,.0f} (run_batch), {summary_rate:,.0f} (run_batch, summary answers)"
     )
+    for fmt, encode in (("JSON", msgspec.json.encode), ("MessagePack", msgspec.msgpack.encode)):
+        arrays: Literal["json", "msgpack"] = "json" if fmt == "JSON" else "msgpack"
+        full = len(encode(run(case, arrays=arrays)))
+        short = len(encode(run(summary, arrays=arrays)))
+        print(f"{'':>7} one answer in {fmt}: {full:,} bytes full, {short:,} bytes summary")
 
 
 def main(repeat: int = 200, batch: int = 2000) -> int:

@@ -304,6 +304,8 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
         _object_member(case, "body", "/body", "--axisymmetric")["kind"] = "axisymmetric"
     if args.y_plus:
         case["mesh"] = {"y_plus": args.y_plus}
+    if getattr(args, "summary", False):
+        _object_member(case, "output", "/output", "--summary")["stations"] = False
     if args.smoothing is not None:
         _object_member(case, "pressure", "/pressure", "--smoothing")["smoothing"] = args.smoothing
 
@@ -384,8 +386,11 @@ def summary(result: dict[str, Any]) -> str:
     )
     for side in result["sides"]:
         lines.append("")
-        end = side["s"][-1]
-        lines.append(f"[{side['name']}]  {len(side['s'])} stations, s = 0 to {_fmt(end)}")
+        if side.get("s"):
+            end = side["s"][-1]
+            lines.append(f"[{side['name']}]  {len(side['s'])} stations, s = 0 to {_fmt(end)}")
+        else:
+            lines.append(f"[{side['name']}]")
         tr = side["transition"]
         if tr:
             cause = _CAUSES[tr["cause"]]
@@ -430,6 +435,21 @@ def summary(result: dict[str, Any]) -> str:
             f"  peak nu_t/nu        {_fmt(m['max_eddy_viscosity_ratio'])}"
             + (" (turbulent part)" if m["max_eddy_viscosity_ratio"] > 0 else " (laminar only)")
         )
+        if "friction_drag" in side:
+            lines.append(f"  friction drag       {_fmt(side['friction_drag'])} (up to separation)")
+    drag = result.get("drag")
+    if drag:
+        per = "q_inf L^2" if options["laminar_method"].endswith("crabtree_1952") else "q_inf L"
+        lines.append("")
+        lines.append(f"Drag (D/{per}, L the coordinate unit):")
+        lines.append(f"  friction            {_fmt(drag['friction'])}")
+        if drag["profile"] is not None:
+            lines.append(
+                f"  profile             {_fmt(drag['profile'])} ({drag['profile_method']})"
+            )
+        else:
+            lines.append("  profile             -")
+        lines.append(f"  {drag['note']}")
     if result["warnings"]:
         lines.append("")
         lines.append("Warnings:")
@@ -475,6 +495,12 @@ def _add_case_flags(
         parser.add_argument("--trip-upper", type=float, help=_SWEEPABLE["trip_upper"])
         parser.add_argument("--trip-lower", type=float, help=_SWEEPABLE["trip_lower"])
         parser.add_argument("--trip", type=float, help=_SWEEPABLE["trip"])
+        parser.add_argument(
+            "--summary",
+            action="store_true",
+            help="leave the station arrays out of the result (output.stations = false): "
+            "stagnation point, events, drag, mesh advice and warnings only",
+        )
     parser.add_argument("--speed", type=float, help="free-stream speed [m/s]")
     parser.add_argument("--viscosity", type=float, help="kinematic viscosity [m^2/s]")
     parser.add_argument(
@@ -611,6 +637,14 @@ def _analyse(args: argparse.Namespace) -> int:
             print(f"ibl: {args.case}: no such file", file=sys.stderr)
             return 2
         case = load_case(args.case, args)
+    if args.format == "csv" or args.plot is not None:
+        # The table and the figure are the stations, whatever the case's output asks.
+        if args.summary:
+            what = "--format csv" if args.format == "csv" else "--plot"
+            print(f"ibl: --summary leaves out the stations that {what} needs", file=sys.stderr)
+            return 2
+        if isinstance(case.get("output"), dict):
+            case["output"] = dict(case["output"], stations=True)
     result = analyze(case)
     from ibl.figures import length_unit
 

@@ -485,6 +485,10 @@ def _check_format(fmt: str) -> None:
         raise ValueError(f"format {fmt!r}: use one of {', '.join(FORMATS)}")
 
 
+#: The station arrays a figure is drawn from.
+_NEEDED = ("s", "x", "y", "theta", "shape_factor", "cf", "regime")
+
+
 def build(
     document: Mapping[str, Any] | Result,
     *,
@@ -496,6 +500,12 @@ def build(
         document if isinstance(document, Mapping) else msgspec.to_builtins(document)
     )
     sides = result["sides"]
+    missing = [name for name in _NEEDED if any(name not in side for side in sides)]
+    if missing:
+        raise ValueError(
+            f"the figure is drawn from the station arrays; the result lacks {', '.join(missing)}"
+            ": analyse the case with output.stations = true"
+        )
     contour = any(side.get("x") is not None for side in sides)
     ncols = len(sides)
     width = 6.2 * ncols + 1.6 / ncols

@@ -130,6 +130,7 @@ class Prepared:
     sides: list[SideInput]
     stagnation: Stagnation | None
     warnings: list[Notice] = field(default_factory=list)
+    closed: bool = False  # a closed contour: its sides meet at its rear point
 
 
 def stagnation_cp(mach: float, gamma: float = GAMMA) -> float:
@@ -653,7 +654,7 @@ def prepare(case: Case) -> Prepared:
         arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings, radius_from_y
     )
     warnings.extend(_trip_notices(case, sides))
-    return Prepared(sides, stagnation, warnings)
+    return Prepared(sides, stagnation, warnings, _closure(x, y, arc)[0])
 
 
 def _trip_notices(case: Case, sides: list[SideInput]) -> list[Notice]:

@@ -3,10 +3,11 @@
 Contents
 --------
 - ``Case`` and its parts (``Surface``, ``Pressure``, ``Flow``, ``Body``, ``TransitionOptions``,
-  ``LaminarOptions``, ``TurbulentOptions``, ``SeparationOptions``, ``Inflow``, ``MeshOptions``):
-  the input.
+  ``LaminarOptions``, ``TurbulentOptions``, ``SeparationOptions``, ``Inflow``, ``MeshOptions``,
+  ``Output``): the input.
 - ``Result`` and its parts (``Side``, events, ``PressurePlateauEvent``, ``Margins``,
-  ``MeshAdvice``, ``Notice``): the output.
+  ``MeshAdvice``, ``Drag``, ``Notice``): the output.
+- ``STATION_QUANTITIES``: the names of a side's station arrays (``Output.stations``).
 - ``MAX_POINTS``: the largest number of points one surface may carry.
 
 All lengths in a result are in the unit of the input coordinates; velocities are
@@ -20,15 +21,17 @@ from __future__ import annotations
 from typing import Annotated, Literal
 
 import msgspec
-from msgspec import Meta
+from msgspec import UNSET, Meta, UnsetType
 
 __all__ = [
     "MAX_LENGTH",
     "MAX_POINTS",
     "MAX_PRESSURE",
     "SMOOTHING_MAX",
+    "STATION_QUANTITIES",
     "Body",
     "Case",
+    "Drag",
     "FirstCell",
     "Flow",
     "Inflow",
@@ -39,6 +42,7 @@ __all__ = [
     "MeshAdvice",
     "MeshOptions",
     "Notice",
+    "Output",
     "Pressure",
     "PressurePlateauEvent",
     "Result",
@@ -269,6 +273,38 @@ class MeshOptions(Struct, frozen=True):
     ] = msgspec.field(default_factory=lambda: [1.0, 30.0])
 
 
+#: A side's station arrays, by name (``Output.stations``; the members of ``Side``).
+StationName = Literal[
+    "s",
+    "x",
+    "y",
+    "edge_velocity",
+    "theta",
+    "delta_star",
+    "shape_factor",
+    "cf",
+    "re_theta",
+    "delta99",
+    "regime",
+]
+STATION_QUANTITIES: tuple[str, ...] = StationName.__args__  # type: ignore[attr-defined]
+
+
+class Output(Struct, frozen=True):
+    """What the result carries: all station arrays (the default), none, or some."""
+
+    stations: Annotated[
+        bool | Annotated[list[StationName], Meta(max_length=len(STATION_QUANTITIES))],
+        Meta(
+            description="Station arrays of each side in the result: true for all (the "
+            "default); false for none, the summary answer (stagnation point, events, drag, "
+            "mesh advice, warnings), cheaper to compute and much smaller; or a list of the "
+            "names wanted (s, x, y, edge_velocity, theta, delta_star, shape_factor, cf, "
+            "re_theta, delta99, regime). Arrays left out are absent from the sides"
+        ),
+    ] = True
+
+
 class Case(Struct, frozen=True):
     """One analysis: geometry, pressure, flow and options."""
 
@@ -285,6 +321,7 @@ class Case(Struct, frozen=True):
     name: (
         Annotated[str, Meta(max_length=200, description="A label carried into the result")] | None
     ) = None
+    output: Output = msgspec.field(default_factory=Output)
 
 
 # ----------------------------------------------------------------------------- result
@@ -394,28 +431,53 @@ class MeshAdvice(Struct, frozen=True):
     max_eddy_viscosity_ratio_s: float
 
 
-class Side(Struct, frozen=True):
+class Side(Struct, frozen=True, kw_only=True):
     """Station arrays and events of one side, from its start to separation, to the onset of a
-    pressure plateau in the input, or to its end."""
+    pressure plateau in the input, or to its end.
+
+    The station arrays (``s`` to ``regime``) are present as the case's ``output.stations``
+    asks (all of them by default) and absent otherwise."""
 
     name: Literal["upper", "lower", "surface"]
-    s: list[float]
-    x: list[float] | None
-    y: list[float] | None
-    edge_velocity: list[float]
-    theta: list[float]
-    delta_star: list[float]
-    shape_factor: list[float]
+    s: Annotated[
+        list[float] | UnsetType,
+        Meta(description="Arc length of each station in the s of the results [length unit]"),
+    ] = UNSET
+    x: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="x of each station [length unit]; null for a single surface"),
+    ] = UNSET
+    y: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="y of each station [length unit]; null for a single surface"),
+    ] = UNSET
+    edge_velocity: Annotated[
+        list[float] | UnsetType, Meta(description="Edge velocity Ue/U_inf [-]")
+    ] = UNSET
+    theta: Annotated[
+        list[float] | UnsetType, Meta(description="Momentum thickness [length unit]")
+    ] = UNSET
+    delta_star: Annotated[
+        list[float] | UnsetType, Meta(description="Displacement thickness [length unit]")
+    ] = UNSET
+    shape_factor: Annotated[
+        list[float] | UnsetType, Meta(description="Shape factor H = delta*/theta [-]")
+    ] = UNSET
     cf: Annotated[
-        list[float | None],
+        list[float | None] | UnsetType,
         Meta(
             description="Skin-friction coefficient tau_w / (0.5 rho Ue^2) [-]; null where it is "
             "undefined (Ue = 0 at a stagnation point, theta = 0 at a sharp leading edge)"
         ),
-    ]
-    re_theta: list[float]
-    delta99: list[float]
-    regime: list[Literal["laminar", "turbulent"]]
+    ] = UNSET
+    re_theta: Annotated[
+        list[float] | UnsetType, Meta(description="Reynolds number Ue theta / nu [-]")
+    ] = UNSET
+    delta99: Annotated[
+        list[float] | UnsetType,
+        Meta(description="Boundary-layer thickness delta99 estimate [length unit]"),
+    ] = UNSET
+    regime: list[Literal["laminar", "turbulent"]] | UnsetType = UNSET
     transition: TransitionEvent | None
     laminar_separation: LaminarSeparationEvent | None
     separation: SeparationEvent | None
@@ -428,6 +490,18 @@ class Side(Struct, frozen=True):
     ]
     margins: Margins
     mesh: MeshAdvice
+    friction_drag: Annotated[
+        float | None,
+        Meta(
+            description="Friction drag of the side: the wall shear projected on the free-stream "
+            "direction (+x), the integral of tau_w dx/ds ds over the stations, from the start "
+            "to separation or the end (nothing is counted beyond separation), referred to the "
+            "free-stream dynamic pressure q_inf. Planar: D_f/(q_inf L) per unit span, L the "
+            "unit of the coordinates. Body of revolution: over the wetted area 2 pi r ds of "
+            "the surface this side's meridian sweeps, D_f/(q_inf L^2). Single surface (no "
+            "geometry): x is taken along s. Null with fewer than two stations"
+        ),
+    ]
 
 
 class Notice(Struct, frozen=True):
@@ -438,12 +512,42 @@ class Notice(Struct, frozen=True):
     pointer: str | None = None
 
 
+class Drag(Struct, frozen=True):
+    """Drag estimates of the case, referred to the free-stream dynamic pressure q_inf and the
+    unit of the coordinates L: D/(q_inf L) per unit span for a planar section,
+    D/(q_inf L^2) for a body of revolution."""
+
+    friction: Annotated[
+        float | None,
+        Meta(
+            description="Friction drag: the sides' friction_drag summed (on a body of "
+            "revolution whose meridian is given on both sides of the axis, the two sides "
+            "describe one body and their mean is taken); counted up to separation only; null "
+            "when no side has a value"
+        ),
+    ]
+    profile: Annotated[
+        float | None,
+        Meta(
+            description="Profile drag (friction and pressure drag) from the momentum "
+            "thickness at the trailing edge: Squire & Young (1938), 2 theta (Ue/U_inf)^((H + "
+            "5)/2) per side, summed, for a planar section; Young (1939), 4 pi r theta "
+            "(Ue/U_inf)^((H + 5)/2), for a body of revolution. Only when both sides reach "
+            "the point where they meet without separating; null otherwise, with the reason "
+            "in note"
+        ),
+    ]
+    profile_method: Literal["squire_young_1938", "young_1939"] | None
+    note: Annotated[str, Meta(description="How the figures were obtained, or why profile is null")]
+
+
 class Result(Struct, frozen=True):
     """The result document."""
 
     name: str | None
     stagnation: Stagnation | None
     sides: list[Side]
+    drag: Drag
     options: dict[str, str | float]
     warnings: list[Notice]
     caution: str

@@ -28,7 +28,7 @@ import numpy as np
 
 from ibl.analysis import CAUTION, parse_case, run, run_batch
 from ibl.errors import CaseError
-from ibl.schema import Case, Result
+from ibl.schema import Case, Output, Result
 
 if TYPE_CHECKING:
     from distributed import Client
@@ -222,7 +222,7 @@ def _positions(result: Result) -> list[SidePositions]:
                     if side.margins.turbulent is not None
                     else None
                 ),
-                end_s=float(side.s[-1]),
+                end_s=float(side.s[-1]) if isinstance(side.s, list) else math.nan,
             )
         )
     return out
@@ -230,6 +230,10 @@ def _positions(result: Result) -> list[SidePositions]:
 
 def _error_text(error: CaseError) -> str:
     return "; ".join(f"{p.pointer or '/'}: {p.reason}" for p in error.problems)
+
+
+#: The output a sweep asks of each case: the arc length of the stations only.
+_ENDS_ONLY = Output(stations=["s"])
 
 
 def run_chunk(
@@ -245,7 +249,8 @@ def run_chunk(
             cases.append(parse_case(set_variable(case_doc, variable, value)))
         except CaseError as error:
             cases.append(error)
-    good = [c for c in cases if isinstance(c, Case)]
+    # Events and the end of each side are all a sweep keeps: s is the one array built.
+    good = [msgspec.structs.replace(c, output=_ENDS_ONLY) for c in cases if isinstance(c, Case)]
     results = iter(run_batch(good) if good else [])
     points = []
     for value, case in zip(values, cases, strict=True):

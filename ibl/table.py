@@ -109,6 +109,12 @@ def stations_csv(result: Mapping[str, Any], *, units: str = "coordinate unit") -
     buffer.write("\n".join(_header_lines(result, units)) + "\n")
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(COLUMNS)
+    missing = [c for c in COLUMNS[1:] if any(c not in side for side in result["sides"])]
+    if missing:
+        raise ValueError(
+            f"the station table needs the station arrays; the result lacks {', '.join(missing)}"
+            ": analyse the case with output.stations = true"
+        )
     for side in result["sides"]:
         count = len(side["s"])
         for i in range(count):

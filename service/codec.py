@@ -416,7 +416,11 @@ class _Repairer:
 
         Arrays whose entries may be null are left to the general rule (null).
         """
-        count = len(side.s)
+        present = [getattr(side, f.name) for f in side_t.fields]
+        lists = [value for value in present if isinstance(value, list)]
+        if not lists:  # no station arrays (a summary answer), or encoded fragments
+            return side
+        count = len(lists[0])
         arrays = {
             f.name: getattr(side, f.name)
             for f in side_t.fields

@@ -89,6 +89,23 @@ def _apply_limits(schemas: dict[str, Any], settings: Settings) -> None:
                 option["maxItems"] = min(option["maxItems"], settings.max_points)
 
 
+def _lift_single_alternatives(node: Any) -> None:
+    """Replace ``oneOf`` lists of one schema by that schema (Litestar writes them for optional
+    members, e.g. the station arrays a case's ``output`` may leave out): one type reads
+    better and gives generated clients a plain member."""
+    if isinstance(node, dict):
+        options = node.get("oneOf")
+        if isinstance(options, list) and len(options) == 1 and isinstance(options[0], dict):
+            del node["oneOf"]
+            for key, value in options[0].items():
+                node.setdefault(key, value)
+        for value in node.values():
+            _lift_single_alternatives(value)
+    elif isinstance(node, list):
+        for value in node:
+            _lift_single_alternatives(value)
+
+
 def document(app: Litestar) -> dict[str, Any]:
     """The complete OpenAPI document of ``app``, with the limits of its settings."""
     from service.codec import BODY_MEDIA_TYPES
@@ -133,6 +150,7 @@ def document(app: Litestar) -> dict[str, Any]:
             for status, response in operation.get("responses", {}).items():
                 if status == "503":
                     response["headers"] = {"Retry-After": _RETRY_AFTER}
+    _lift_single_alternatives(schemas)
     return doc
 
 

@@ -12,7 +12,7 @@ import threading
 import msgspec
 
 import ibl
-from ibl.schema import Case, Result
+from ibl.schema import Case, Output, Result
 from service import codec
 from service.config import Settings
 from service.errors import problem_from_case_error
@@ -78,7 +78,8 @@ def figure(
     speed and viscosity, and a contour drawn whole beneath its analysed stations.
     """
     case = codec.decode_case(body, settings, content)
-    result = codec.sanitise(ibl.run(case))
+    # The figure is drawn from the stations, whatever the case's output asks.
+    result = codec.sanitise(ibl.run(msgspec.structs.replace(case, output=Output())))
     from ibl.figures import length_unit, render  # matplotlib: loaded on first use only
 
     units = length_unit({"flow": msgspec.to_builtins(case.flow)})

@@ -118,9 +118,12 @@ def bad(draw):
     x, y, cp = _circle(36)
     which = draw(st.sampled_from(["cp_over", "trip_side", "length", "smoothing"]))
     if which == "smoothing":
-        doc = _case(x, y, cp)
-        doc["pressure"]["smoothing"] = draw(st.sampled_from([math.inf, 1.0, 1e12]))
-        return doc, "/pressure/smoothing"
+        # Built as a Case directly (as a Python caller may), so the schema's bound is not
+        # checked on the way in: the preparation must refuse it.
+        case = ibl.parse_case(_case(x, y, cp))
+        smoothing = draw(st.sampled_from([math.inf, 1.0, 1e12]))
+        pressure = msgspec.structs.replace(case.pressure, smoothing=smoothing)
+        return msgspec.structs.replace(case, pressure=pressure), "/pressure/smoothing"
     if which == "cp_over":
         cp[5] = 1.3
         return _case(x, y, cp), "/pressure/cp/5"

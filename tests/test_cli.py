@@ -92,3 +92,38 @@ def test_invalid_case_names_the_field(tmp_path, capsys):
     path.write_text(json.dumps(case))
     assert main(["run", str(path)]) == 2
     assert "/pressure/cp/5" in capsys.readouterr().err
+
+
+def test_summary_flag_leaves_the_arrays_out(capsys):
+    assert main(["run", str(EXAMPLE), "--format", "json"]) == 0
+    full = json.loads(capsys.readouterr().out)
+    assert main(["run", str(EXAMPLE), "--format", "json", "--summary"]) == 0
+    summary = json.loads(capsys.readouterr().out)
+    for side in full["sides"]:
+        for name in ("s", "x", "y", "edge_velocity", "theta", "delta_star", "shape_factor"):
+            del side[name]
+        for name in ("cf", "re_theta", "delta99", "regime"):
+            del side[name]
+    assert summary == full
+
+
+def test_text_summary_shows_drag(capsys):
+    assert main(["run", str(EXAMPLE), "--summary"]) == 0
+    out = capsys.readouterr().out
+    assert "friction drag" in out and "Drag (D/q_inf L" in out and "profile" in out
+    assert "CAUTION" in out
+
+
+@pytest.mark.parametrize("flags", [["--format", "csv"], ["--plot", "figure.svg"]])
+def test_summary_flag_with_a_station_output_exits_2(flags, capsys):
+    assert main(["run", str(EXAMPLE), "--summary", *flags]) == 2
+    assert "--summary" in capsys.readouterr().err
+
+
+def test_case_output_is_overridden_for_the_table(tmp_path, capsys):
+    case = json.loads(EXAMPLE.read_text())
+    case["output"] = {"stations": False}
+    path = tmp_path / "case.json"
+    path.write_text(json.dumps(case))
+    assert main(["run", str(path), "--format", "csv"]) == 0
+    assert "shape_factor" in capsys.readouterr().out

@@ -3,7 +3,8 @@
 The reference is msgspec's own JSON and MessagePack encoders applied to the Python lists
 of the ``"list"`` result; array lengths cover every MessagePack array header (fixarray up
 to 15 entries, array 16 up to 65,535, array 32 beyond).  Whole results are compared in
-``tests/test_properties.py`` on random cases.
+``tests/test_properties.py`` on random cases, and results that carry some of the arrays
+(``output.stations``) here.
 """
 
 from __future__ import annotations
@@ -14,7 +15,10 @@ import msgspec
 import numpy as np
 import pytest
 
+import ibl
 from ibl.analysis import _Json, _Lists, _Msgpack
+from ibl.bench import ellipse_case
+from ibl.schema import STATION_QUANTITIES
 
 LENGTHS = [0, 1, 15, 16, 17, 65_535, 65_536]
 
@@ -60,3 +64,30 @@ def test_rows_equal_each_row_on_its_own(n: int, fragments: type) -> None:
     for row, values in zip(rows, columns, strict=True):
         expected = fragments.rows([values])[0]
         assert (bytes(row) == bytes(expected)) if fragments is not _Lists else row == expected
+
+
+@pytest.mark.parametrize(
+    "stations",
+    [["s"], ["cf", "x", "regime"], ["y", "delta_star", "theta"], [], list(STATION_QUANTITIES)],
+)
+@pytest.mark.parametrize("surface", [False, True], ids=["contour", "surface"])
+def test_a_subset_of_arrays_is_exactly_those_arrays(stations: list[str], surface: bool) -> None:
+    """``output.stations`` as a list: the sides carry exactly the arrays named, equal to the
+    full answer's, written alike from lists and from fragments (JSON and MessagePack)."""
+    doc = ellipse_case(40)
+    if surface:
+        doc = {
+            "surface": {"s": np.linspace(0.0, 1.0, 60).tolist()},
+            "pressure": {"edge_velocity": [1.0] * 60},
+            "flow": {"reynolds": 1e6},
+        }
+    full = msgspec.to_builtins(ibl.run(ibl.parse_case(doc)))
+    case = ibl.parse_case(dict(doc, output={"stations": stations}))
+    typed = ibl.run(case)
+    subset = msgspec.to_builtins(typed)
+    for side, whole in zip(subset["sides"], full["sides"], strict=True):
+        assert set(STATION_QUANTITIES) & set(side) == set(stations)
+        assert side == {k: v for k, v in whole.items() if k in side}
+        assert set(whole) - set(side) == set(STATION_QUANTITIES) - set(stations)
+    assert msgspec.json.encode(ibl.run(case, arrays="json")) == msgspec.json.encode(typed)
+    assert msgspec.msgpack.encode(ibl.run(case, arrays="msgpack")) == msgspec.msgpack.encode(typed)

@@ -15,6 +15,7 @@ from hypothesis import HealthCheck, assume, given, settings
 from hypothesis import strategies as st
 
 import ibl
+from ibl.schema import STATION_QUANTITIES, Output
 
 SETTINGS = settings(
     max_examples=150,
@@ -74,6 +75,20 @@ def _analyze_or_error(doc: dict) -> None:
     assert msgspec.json.encode(ibl.run(case, arrays="json")) == msgspec.json.encode(typed)
     packed = msgspec.msgpack.encode(typed)
     assert msgspec.msgpack.encode(ibl.run(case, arrays="msgpack")) == packed
+    # A summary answer is the full answer without the station arrays, in every form; the
+    # drag is finite or null.
+    full = msgspec.to_builtins(typed)
+    for side in full["sides"]:
+        for name in STATION_QUANTITIES:
+            del side[name]
+    summary = msgspec.structs.replace(case, output=Output(stations=False))
+    assert msgspec.to_builtins(ibl.run(summary)) == full
+    assert msgspec.json.decode(msgspec.json.encode(ibl.run(summary, arrays="json"))) == full
+    assert msgspec.msgpack.decode(msgspec.msgpack.encode(ibl.run(summary, arrays="msgpack"))) == (
+        full
+    )
+    for value in [full["drag"]["friction"], full["drag"]["profile"]]:
+        assert value is None or math.isfinite(value)
 
 
 @st.composite

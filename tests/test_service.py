@@ -677,6 +677,110 @@ def test_msgpack_batch_matches_the_json_batch(client: TestClient[Any]) -> None:
     assert as_json["results"][1]["errors"][0]["pointer"] == "/cases/1/pressure/edge_velocity"
 
 
+# ---------------------------------------------------------------------- answer shapes
+
+STATION_ARRAYS = ibl.schema.STATION_QUANTITIES
+
+
+def _without_arrays(result: dict[str, Any], keep: tuple[str, ...] = ()) -> dict[str, Any]:
+    """A result document with the station arrays not in ``keep`` taken out of its sides."""
+    out = dict(result, sides=[dict(side) for side in result["sides"]])
+    for side in out["sides"]:
+        for name in STATION_ARRAYS:
+            if name not in keep:
+                side.pop(name)
+    return out
+
+
+def _answer(client: TestClient[Any], path: str, doc: Any, fmt: str) -> Any:
+    if fmt == "json":
+        response = post_json(client, path, doc)
+        assert response.status_code == 200, response.text
+        return response.json()
+    response = post_msgpack(client, path, doc)
+    assert response.status_code == 200, response.text
+    return msgspec.msgpack.decode(response.content)
+
+
+@pytest.mark.parametrize("fmt", ["json", "msgpack"])
+@pytest.mark.parametrize("make_doc", [strut, plate], ids=["contour", "surface"])
+def test_summary_answer_is_the_full_answer_without_arrays(
+    client: TestClient[Any], fmt: str, make_doc: Any
+) -> None:
+    full = _answer(client, "/v1/analyses", make_doc(), fmt)
+    summary = _answer(client, "/v1/analyses", dict(make_doc(), output={"stations": False}), fmt)
+    assert summary == _without_arrays(full)
+    assert summary["drag"] == full["drag"]
+    assert all("friction_drag" in side for side in summary["sides"])
+
+
+@pytest.mark.parametrize("fmt", ["json", "msgpack"])
+def test_subset_of_arrays_in_a_batch(client: TestClient[Any], fmt: str) -> None:
+    keep = ("x", "cf", "regime")
+    doc = {
+        "cases": [
+            dict(strut(), output={"stations": list(keep)}),
+            dict(plate(), output={"stations": ["theta", "y"]}),
+            strut(),
+        ]
+    }
+    results = _answer(client, "/v1/analyses/batch", doc, fmt)["results"]
+    full = post_json(client, "/v1/analyses", strut()).json()
+    assert results[0] == _without_arrays(full, keep)
+    assert results[2] == full
+    side = results[1]["sides"][0]
+    assert set(STATION_ARRAYS) & set(side) == {"theta", "y"}
+    assert side["y"] is None  # a single surface has no geometry
+
+
+@pytest.mark.parametrize(
+    ("output", "pointer"),
+    [
+        ({"stations": ["s", "pressure"]}, "/output/stations/1"),
+        ({"stations": "none"}, "/output/stations"),
+        ({"stations": [1]}, "/output/stations/0"),
+        ({"stations": True, "arrays": False}, "/output"),
+        ("summary", "/output"),
+    ],
+)
+def test_bad_output_is_422_with_pointer(client: TestClient[Any], output: Any, pointer: str) -> None:
+    problem = problem_of(post_json(client, "/v1/analyses", dict(plate(), output=output)), 422)
+    assert pointers(problem) == [pointer]
+    batch = post_json(
+        client, "/v1/analyses/batch", {"cases": [plate(), dict(plate(), output=output)]}
+    )
+    assert batch.status_code == 200
+    entries = batch.json()["results"]
+    assert "sides" in entries[0]
+    assert [e["pointer"] for e in entries[1]["errors"]] == ["/cases/1" + pointer]
+
+
+def test_unknown_station_name_lists_the_names(client: TestClient[Any]) -> None:
+    doc = dict(plate(), output={"stations": ["theta", "momentum"]})
+    problem = problem_of(post_json(client, "/v1/analyses", doc), 422)
+    assert "delta_star" in problem.errors[0].reason
+
+
+def test_figure_of_a_summary_case_draws_the_stations(client: TestClient[Any]) -> None:
+    doc = dict(strut(), output={"stations": False})
+    response = post_json(client, "/v1/analyses/figure", doc)
+    assert response.status_code == 200, response.text
+    assert response.content.lstrip().startswith(b"<?xml") or b"<svg" in response.content[:500]
+
+
+def test_sanitise_repairs_a_side_without_arrays() -> None:
+    case = ibl.parse_case(dict(strut(), output={"stations": False}))
+    result = ibl.run(case, arrays="json")
+    assert codec.sanitise(result) is result
+    broken = msgspec.structs.replace(result.sides[0], friction_drag=math.nan)
+    repaired = codec.sanitise(msgspec.structs.replace(result, sides=[broken, *result.sides[1:]]))
+    assert repaired.sides[0].friction_drag is None
+    assert [w.pointer for w in repaired.warnings if w.code == "non_finite"] == [
+        "/sides/0/friction_drag"
+    ]
+    assert msgspec.json.decode(codec.encode(repaired), type=Result).sides[0].name == "upper"
+
+
 @pytest.mark.parametrize("content_type", ["application/msgpack", "application/x-msgpack"])
 def test_msgpack_request_with_json_answer(client: TestClient[Any], content_type: str) -> None:
     response = client.post(
