@@ -80,6 +80,7 @@ CLAUSER = 0.0168
 #: Laminar delta99/theta of the Blasius layer, 4.91/0.664 (common practice).
 LAMINAR_DELTA99_RATIO = 4.91 / 0.664
 
+_LN10 = float(np.log(10.0))
 _GN = GAUSS_NODES.copy()
 _GW = GAUSS_WEIGHTS.copy()
 _G_LAM = GRANVILLE_INSTABILITY_TABLE[:, 0].copy()
@@ -167,7 +168,8 @@ def entrainment(h1: float) -> float:
 def cf_turbulent(law: int, h: float, re_theta: float) -> float:
     """Twins of ``ibl.turbulent.cf_ludwieg_tillmann_1949`` (law 0), ``cf_white_1974`` (1)."""
     if law == 0:
-        return 0.246 * 10.0 ** (-0.678 * h) * max(re_theta, 1e-300) ** -0.268
+        # 0.246 10^(-0.678 H) Re_theta^-0.268, with one exp and one log
+        return 0.246 * np.exp(-0.678 * _LN10 * h - 0.268 * np.log(max(re_theta, 1e-300)))
     log_re = np.log10(max(re_theta, 20.0))
     return 0.3 * np.exp(-1.33 * h) / log_re ** (1.74 + 0.31 * h)
 
@@ -270,8 +272,9 @@ def _rhs(
     inv_nu: float,
     law: int,
     axisymmetric: bool,
-) -> tuple[float, float]:
-    r"""Head (1958): d theta/ds and d H1/ds (r eliminated from the entrainment equation)."""
+) -> tuple[float, float, float]:
+    r"""Head (1958): d theta/ds and d H1/ds (r eliminated from the entrainment equation),
+    and H."""
     h = h_from_h1(h1)
     cf = cf_turbulent(law, h, ue * theta * inv_nu)
     grad = theta * due / ue
@@ -279,16 +282,19 @@ def _rhs(
     if axisymmetric:
         dtheta -= theta * dr / r
     dh1 = (entrainment(h1) - h1 * (0.5 * cf - (h + 1.0) * grad)) / theta
-    return dtheta, dh1
+    return dtheta, dh1, h
 
 
 @numba.njit(cache=True, error_model="numpy")
 def _edge(
-    s: F64, ue: F64, due: F64, r: F64, dr: F64, j: int, t: float
+    s: F64, ue: F64, due: F64, r: F64, dr: F64, j: int, t: float, axisymmetric: bool
 ) -> tuple[float, float, float, float]:
-    """Hermite-interpolated Ue, Ue', r, r' at fraction ``t`` of the interval from s[j]."""
+    """Hermite-interpolated Ue, Ue', r, r' at fraction ``t`` of the interval from s[j]
+    (r = 1, r' = 0 when planar)."""
     length = s[j + 1] - s[j]
     u, du = _hermite(t, length, ue[j], ue[j + 1], due[j], due[j + 1])
+    if not axisymmetric:
+        return u, du, 1.0, 0.0
     rr, drr = _hermite(t, length, r[j], r[j + 1], dr[j], dr[j + 1])
     return u, du, rr, drr
 
@@ -395,10 +401,10 @@ def _head(
     while j < n - 2 and s[j + 1] <= pos:
         j += 1
     m = j if s[j] >= pos else j + 1  # next station to fill
-    u, du, rr, drr = _edge(s, ue, due, r, dr, j, (pos - s[j]) / (s[j + 1] - s[j]))
+    u, du, rr, drr = _edge(s, ue, due, r, dr, j, (pos - s[j]) / (s[j + 1] - s[j]), axisymmetric)
     if not (u > 0.0 and rr > 0.0) or h0 >= h_separation:
         return pos, 0, STOP_NONE
-    f_theta, f_h1 = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
+    f_theta, f_h1, _ = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
     steps = 0
     while True:
         while m < n and s[m] <= pos:
@@ -422,24 +428,26 @@ def _head(
             land = step >= room
             at_end = s[j + 1] if land else pos + step
             # Classical Runge-Kutta inside interval j.
-            u2, du2, r2, dr2 = _edge(s, ue, due, r, dr, j, (pos + 0.5 * step - left) / length)
+            u2, du2, r2, dr2 = _edge(
+                s, ue, due, r, dr, j, (pos + 0.5 * step - left) / length, axisymmetric
+            )
             th2 = theta + 0.5 * step * f_theta
             hh2 = h1 + 0.5 * step * f_h1
             ok = u2 > 0.0 and th2 > 0.0 and hh2 > 3.3 and r2 > 0.0
             if ok:
-                a_theta, a_h1 = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                a_theta, a_h1, _ = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
                 th3 = theta + 0.5 * step * a_theta
                 hh3 = h1 + 0.5 * step * a_h1
                 ok = th3 > 0.0 and hh3 > 3.3
             if ok:
-                b_theta, b_h1 = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                b_theta, b_h1, _ = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
                 t_end = 1.0 if land else (at_end - left) / length
-                u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, j, t_end)
+                u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, j, t_end, axisymmetric)
                 th4 = theta + step * b_theta
                 hh4 = h1 + step * b_h1
                 ok = u4 > 0.0 and th4 > 0.0 and hh4 > 3.3 and r4 > 0.0
             if ok:
-                c_theta, c_h1 = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+                c_theta, c_h1, _ = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
                 theta_new = theta + step / 6.0 * (f_theta + 2.0 * (a_theta + b_theta) + c_theta)
                 h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
                 ok = theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)
@@ -453,7 +461,9 @@ def _head(
                     return pos, steps, STOP_INVALID
                 step = max(0.5 * step, min_step)
                 continue
-            g_theta, g_h1 = _rhs(theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+            g_theta, g_h1, h_new = _rhs(
+                theta_new, h1_new, u4, du4, r4, dr4, inv_nu, law, axisymmetric
+            )
             if retakes < RETAKES and steps < budget:
                 shorter = RETAKE_FACTOR * _step_limit(
                     scale,
@@ -472,25 +482,17 @@ def _head(
                     retakes += 1
                     continue
             break
-        h_new = h_from_h1(h1_new)
         if h_new >= h_separation:
             frac = _crossing(step, h1, h1_new, f_h1, g_h1, h_separation)
             separation = pos + frac * step
-            while m < n and s[m] <= separation:
+            while m < n and s[m] <= separation:  # the step's end, when separation is there
                 t = (s[m] - pos) / step
                 theta_out[m], _ = _hermite(t, step, theta, theta_new, f_theta, g_theta)
                 h1_m, _ = _hermite(t, step, h1, h1_new, f_h1, g_h1)
                 h_out[m] = min(h_from_h1(h1_m), h_separation)
                 m += 1
             return separation, steps, STOP_NONE
-        # Cubic Hermite dense output at the stations passed in this step (none when
-        # steps end on the stations; kept for starts between stations).
-        while m < n and s[m] < at_end:
-            t = (s[m] - pos) / step
-            theta_out[m], _ = _hermite(t, step, theta, theta_new, f_theta, g_theta)
-            h1_m, _ = _hermite(t, step, h1, h1_new, f_h1, g_h1)
-            h_out[m] = h_from_h1(h1_m)
-            m += 1
+        # No station lies inside a step: the station at its end is filled from the state.
         pos = at_end
         theta, h1 = theta_new, h1_new
         f_theta, f_h1 = g_theta, g_h1
