@@ -42,7 +42,7 @@ import numpy as np
 import pytest
 
 import ibl
-from ibl import kernel
+from ibl import kernel, turbulent
 from ibl.bench import ellipse_case
 from ibl.march import _stack
 from ibl.prepare import prepare
@@ -203,3 +203,25 @@ def test_turbulent_march_is_converged_on_noisy_taps(doc):
     turb = (st[:, 5] > 0.5) & (st_ref[:, 5] > 0.5)
     np.testing.assert_allclose(st[:, 0][turb], st_ref[:, 0][turb], rtol=5e-3)
     np.testing.assert_allclose(st[:, 1][turb], st_ref[:, 1][turb], rtol=5e-3)
+
+
+def test_head_inverse_is_continuous():
+    # H(H1) must have no step: a step in the right-hand side makes a Runge-Kutta step
+    # jump when one of its stages crosses it.  The published fits of H1(H) (Cebeci &
+    # Bradshaw 1977) meet H = 1.6 at two values of H1; the inverse maps the gap between
+    # them to 1.6 and continues each fit's inverse on its side.
+    inverse = turbulent.shape_factor_from_h1_head_1958
+    low_fit_end = turbulent.entrainment_shape_factor_head_1958(1.6)
+    high_fit_start = turbulent.entrainment_shape_factor_head_1958(np.nextafter(1.6, 2.0))
+    assert high_fit_start < low_fit_end
+    for edge in (high_fit_start, low_fit_end):
+        for twin in (inverse, np.vectorize(kernel.h_from_h1)):
+            values = twin(edge + np.array([-1e-12, 0.0, 1e-12]))
+            np.testing.assert_allclose(values, 1.6, rtol=0.0, atol=1e-11)
+    h1 = np.linspace(3.35, 12.0, 100_001)
+    assert np.all(np.diff(inverse(h1)) <= 0.0)  # non-increasing, as H1(H) is
+    # No jump near the gap: neighbours differ by at most the largest slope there times
+    # the spacing (|dH/dH1| <= 0.194 for 5 < H1 < 5.6, at H1 = 5 [derived from the
+    # fits]; a switch between the fits made a step of 0.004, 700 times this bound).
+    h1 = np.linspace(5.0, 5.6, 100_001)
+    assert np.max(np.abs(np.diff(inverse(h1)))) < 0.25 * (h1[1] - h1[0])
