@@ -9,8 +9,9 @@ Contents
   separate cores.
 - ``SideState``: the station arrays and events of one marched side.
 
-Events are located between stations by linear interpolation of the quantity that
-crosses its threshold (lambda, Re_theta margin, H).
+Events are located between stations on the interpolated state, converged to rounding:
+laminar ones by regula falsi on their margin (lambda, Re_theta), turbulent separation on
+the cubic Hermite interpolant of H1 over the step where H reaches its threshold.
 """
 
 from __future__ import annotations

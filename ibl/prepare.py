@@ -947,8 +947,9 @@ def _stagnation_candidates(
     other (one point, or several of equal Cp).  A run is modelled by
     ``stagnation_models``; a run at the stagnation value itself (q <= ``tol``: a tap on
     the stagnation point, or a plateau of taps clipped to Cp = 1), or one that neither
-    model fits, puts the stagnation point at its arc-length middle, with the slope of
-    each side the secant to the first point beyond it, and its points are left out.
+    model fits, puts the stagnation point at its
+    arc-length middle, with the slope of each side the secant to the first point beyond it,
+    and its points are left out.
     Runs at the first or last point count only where ``ends`` is set, and put the
     stagnation point at that end.
     Every run whose vertex reaches Ue <= ``ue_limit`` is a stagnation point; where there
@@ -1018,6 +1019,23 @@ def _stagnation_candidates(
     return best_a, best_b, best[0], best[1], best[2], best[3], best_dropped
 
 
+def _stagnation_region(q: F64, a: int, b: int, tol: float, noise: float) -> tuple[int, int]:
+    """The run a..b widened to the farthest points with q <= ``tol`` that are reached from it
+    through points with q <= ``noise``."""
+    lo, hi = a, b
+    j = a - 1
+    while j >= 0 and q[j] <= noise:
+        if q[j] <= tol:
+            lo = j
+        j -= 1
+    j = b + 1
+    while j < q.size and q[j] <= noise:
+        if q[j] <= tol:
+            hi = j
+        j += 1
+    return lo, hi
+
+
 def _axis_point(x: F64, y: F64, r: F64, arc: F64, closed: bool, radius_from_y: bool) -> float:
     """Arc length of the most upstream point where the body of revolution meets its axis
     (radius 0, or y changing sign when the radius is |y|) inside the contour, or NaN."""
@@ -1080,6 +1098,17 @@ def _split_contour(
     a, b, s0, slope_before, slope_after, ue_vertex, plateau = _stagnation_candidates(
         arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
     )
+    if a >= 0:
+        # Noisy taps round the stagnation point, some clipped to its value: every point at
+        # the stagnation value reached through points within tap noise of it belongs to
+        # the stagnation region, which becomes a plateau.
+        lo, hi = _stagnation_region(q, a, b, PLATEAU_Q, CP_NOISE)
+        if (lo < a or hi > b) and lo > 0 and hi < n - 1:
+            a, b, plateau = lo, hi, True
+            s0 = 0.5 * (arc[a] + arc[b])
+            slope_before = float(np.sqrt(q[a - 1]) / (s0 - arc[a - 1]))
+            slope_after = float(np.sqrt(q[b + 1]) / (arc[b + 1] - s0))
+            ue_vertex = float(np.sqrt(q[a : b + 1].min()))
     if not (np.isfinite(slope_before) and np.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
     if a < 0:

@@ -29,7 +29,9 @@ import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
 __all__ = [
-    "H1_SWITCH",
+    "H1_HIGH_BRANCH_MAX",
+    "H1_LOW_BRANCH_MIN",
+    "H_BRANCH",
     "SKIN_FRICTION",
     "SkinFrictionLaw",
     "cf_ludwieg_tillmann_1949",
@@ -41,9 +43,15 @@ __all__ = [
 
 F64 = NDArray[np.float64]
 
-#: H1 at which the inverse H(H1) switches branch. The two fits of H1(H) meet H = 1.6 at
-#: H1 = 5.3094 and 5.2868 [derived]; switching at 5.3 leaves a step of 0.004 in H.
-H1_SWITCH = 5.3
+#: Shape factor H at which Cebeci & Bradshaw's two fits of H1(H) join.
+H_BRANCH = 1.6
+#: H1 of the two fits at H = 1.6 [derived]: the fit for H <= 1.6 ends at 5.3094 (its
+#: smallest H1), the fit for H > 1.6 starts at 5.2868 (its largest H1).  H1(H) has a
+#: step there; the inverse H(H1) fills the gap between them with H = 1.6, so that it is
+#: continuous (a step in H(H1) would make the turbulent march jump under tiny changes
+#: of its input).
+H1_LOW_BRANCH_MIN = 3.3 + 0.8234 * (H_BRANCH - 1.1) ** -1.287
+H1_HIGH_BRANCH_MAX = 3.3 + 1.5501 * (H_BRANCH - 0.6778) ** -3.064
 #: Smallest Re_theta given to White's law, whose log10(Re_theta) vanishes at 1.
 _WHITE_MIN_RE_THETA = 20.0
 
@@ -82,9 +90,14 @@ def shape_factor_from_h1_head_1958(h1: ArrayLike) -> F64:
     r"""Inverse of ``entrainment_shape_factor_head_1958``: H from H1.
 
     .. math::
-        H = 1.1 + \left(\frac{H_1 - 3.3}{0.8234}\right)^{-1/1.287} \quad (H_1 \ge 5.3),
+        H = 1.1 + \left(\frac{H_1 - 3.3}{0.8234}\right)^{-1/1.287} \quad (H_1 \ge 5.3094),
         \qquad
-        H = 0.6778 + \left(\frac{H_1 - 3.3}{1.5501}\right)^{-1/3.064} \quad (H_1 < 5.3)
+        H = 1.6 \quad (5.2868 < H_1 < 5.3094),
+        \qquad
+        H = 0.6778 + \left(\frac{H_1 - 3.3}{1.5501}\right)^{-1/3.064} \quad (H_1 \le 5.2868)
+
+    The middle piece spans the gap that the step of H1(H) at H = 1.6 leaves, so that
+    H(H1) is continuous and non-increasing (``H1_LOW_BRANCH_MIN``, ``H1_HIGH_BRANCH_MAX``).
 
     Parameters
     ----------
@@ -101,12 +114,17 @@ def shape_factor_from_h1_head_1958(h1: ArrayLike) -> F64:
 
     References
     ----------
-    Head (1958); Cebeci & Bradshaw (1977). The switch at H1 = 5.3 is ours [derived].
+    Head (1958); Cebeci & Bradshaw (1977). The piece H = 1.6 across the gap is ours
+    [derived].
+
+    >>> float(shape_factor_from_h1_head_1958(5.3))
+    1.6
     """
     excess = np.maximum(np.asarray(h1, dtype=np.float64) - 3.3, 1e-12)
     low = 1.1 + (excess / 0.8234) ** (-1.0 / 1.287)
     high = 0.6778 + (excess / 1.5501) ** (-1.0 / 3.064)
-    return np.asarray(np.where(excess >= H1_SWITCH - 3.3, low, high), dtype=np.float64)
+    h = np.where(excess <= H1_HIGH_BRANCH_MAX - 3.3, high, H_BRANCH)
+    return np.asarray(np.where(excess >= H1_LOW_BRANCH_MIN - 3.3, low, h), dtype=np.float64)
 
 
 def entrainment_coefficient_head_1958(h1: ArrayLike) -> F64:

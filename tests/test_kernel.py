@@ -78,8 +78,8 @@ def test_turbulent_twins():
 
 
 def test_head_inverse_is_consistent():
-    # H -> H1 -> H round trip away from the branch switch (the two published fits differ
-    # by 0.023 in H1 at H = 1.6 [derived], hence a small step there).
+    # H -> H1 -> H round trip away from H = 1.6, where the two published fits differ by
+    # 0.023 in H1 [derived] and the inverse maps that gap to H = 1.6.
     h = np.concatenate((np.linspace(1.2, 1.58, 20), np.linspace(1.62, 3.0, 20)))
     back = turbulent.shape_factor_from_h1_head_1958(turbulent.entrainment_shape_factor_head_1958(h))
     np.testing.assert_allclose(back, h, rtol=1e-12)
