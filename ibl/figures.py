@@ -39,7 +39,7 @@ from numpy.typing import NDArray
 from ibl.analysis import CAUTION
 from ibl.schema import Result
 from ibl.sweep import VARIABLES, Sweep
-from ibl.units import length_unit
+from ibl.units import COORDINATE_UNIT, length_unit
 
 if TYPE_CHECKING:
     from ibl.validation import Check
@@ -489,7 +489,7 @@ def render(
     result: Mapping[str, Any] | Result,
     fmt: Format = "png",
     *,
-    units: str = "coordinate unit",
+    units: str = COORDINATE_UNIT,
     outline: tuple[Sequence[float], Sequence[float]] | None = None,
 ) -> bytes:
     """The figure of a result document, as PNG or SVG bytes.
@@ -520,7 +520,7 @@ def _check_format(fmt: str) -> None:
 def build(
     document: Mapping[str, Any] | Result,
     *,
-    units: str = "coordinate unit",
+    units: str = COORDINATE_UNIT,
     outline: tuple[Sequence[float], Sequence[float]] | None = None,
 ) -> Figure:
     """The matplotlib ``Figure`` that ``render`` encodes (``result`` may be an ``ibl.Result``)."""
