@@ -721,9 +721,9 @@ def _deviation_panel(ax: Axes, checks: Sequence[Check]) -> None:
 
 
 _FAMILY = {
-    "theta": r"$\theta/x\,\sqrt{Re_x}$",
-    "shape_factor": "$H$",
-    "cf": r"$C_f\,\sqrt{Re_x}$",
+    "theta": r"$\theta/x\,\sqrt{Re_x}$ [-]",
+    "shape_factor": "$H$ [-]",
+    "cf": r"$C_f\,\sqrt{Re_x}$ [-]",
 }
 
 
