@@ -644,9 +644,7 @@ def _parser() -> argparse.ArgumentParser:
         default=200,
         help="timed calls per single-case figure, whose median is printed [calls]",
     )
-    bench.add_argument(
-        "--batch", type=int, default=2000, help="sides in the batched run [sides]"
-    )
+    bench.add_argument("--batch", type=int, default=2000, help="sides in the batched run [sides]")
     commands.add_parser("serve", help="run the HTTP service", add_help=False)
     return parser
 

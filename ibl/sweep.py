@@ -558,10 +558,9 @@ def sweep_text(result: Sweep, *, units: str | None = None) -> str:
     lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=False)) for r in rows]
     lines += [
         "",
-        "s: arc length from the stagnation point or leading edge. "
-        + lengths_note(unit)
-        + " "
-        "Transition by crit(erion), trip or bubble (at a short laminar separation bubble); "
+        "s: arc length from the stagnation point or leading edge. " + lengths_note(unit) + " "
+        "Transition by crit(erion), trip or bubble (placed at the separation point of a short "
+        "laminar separation bubble; its reattachment and length are not modelled); "
         "separation lam(inar) or turb(ulent); plateau: onset of a constant-pressure "
         "(separated) region in the input data; min lambda / max H: the closest approach to "
         "laminar and turbulent separation; '-': does not occur.",

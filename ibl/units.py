@@ -20,7 +20,14 @@ from __future__ import annotations
 from collections.abc import Mapping
 from typing import Any
 
-__all__ = ["COORDINATE_UNIT", "LENGTH_RULE", "METRE", "length_unit", "lengths_note", "reynolds_label"]
+__all__ = [
+    "COORDINATE_UNIT",
+    "LENGTH_RULE",
+    "METRE",
+    "length_unit",
+    "lengths_note",
+    "reynolds_label",
+]
 
 METRE = "m"
 COORDINATE_UNIT = "coordinate unit"
@@ -57,8 +64,7 @@ def lengths_note(unit: str) -> str:
     """
     if unit == METRE:
         return (
-            "Lengths are in m (the flow is given by speed [m/s] and kinematic viscosity "
-            "[m^2/s])."
+            "Lengths are in m (the flow is given by speed [m/s] and kinematic viscosity [m^2/s])."
         )
     return (
         "Lengths are in the unit of the input coordinates (the flow is given by a Reynolds "
