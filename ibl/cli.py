@@ -398,11 +398,11 @@ def chord_position(
     if not _closure(px, py, arc)[0]:
         return None
     front, rear = int(np.argmin(px)), int(np.argmax(px))
-    dx, dy = px[rear] - px[front], py[rear] - py[front]
+    dx, dy = float(px[rear] - px[front]), float(py[rear] - py[front])
     chord = math.hypot(dx, dy)
     if chord <= 0.0:
         return None
-    along = ((x - px[front]) * dx + (y - py[front]) * dy) / chord
+    along = float((x - px[front]) * dx + (y - py[front]) * dy) / chord
     return along / chord, chord
 
 

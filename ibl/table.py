@@ -73,7 +73,7 @@ def _header_lines(result: Mapping[str, Any], units: str) -> list[str]:
     lines = [
         "# ibl station table: one row per station, sides one after another",
         f"# case: {name}",
-        f"# L = {units}: {lengths_note(units)} Empty cells: undefined (cf at a stagnation "
+        f"# L = {units}; {lengths_note(units)} Empty cells: undefined (cf at a stagnation "
         "point or sharp edge) or not applicable (x, y of single-surface input)",
     ]
     lines += [f"# {column}: {unit}" for column, unit in UNITS.items()]
