@@ -5,7 +5,8 @@ Contents
 --------
 - ``main(argv)``: the entry point.
 - ``load_case(path, overrides)``: a case from JSON or CSV, with options from flags.
-- ``summary(result)``: the readable per-side summary.
+- ``summary(result, units, outline)``: the readable per-side summary.
+- ``chord_position(outline, x, y)``: x/c of a point of a closed contour, and the chord c.
 """
 
 from __future__ import annotations
@@ -24,6 +25,7 @@ import msgspec
 
 from ibl.analysis import CAUTION, analyze
 from ibl.errors import CaseError
+from ibl.units import COORDINATE_UNIT, lengths_note
 
 if TYPE_CHECKING:
     from ibl.figures import Format
@@ -366,18 +368,74 @@ def _margin_lines(side: dict[str, Any], options: dict[str, Any]) -> list[str]:
     return lines
 
 
-def summary(result: dict[str, Any]) -> str:
-    """A readable summary of a result document, one block per side, with the caution."""
+#: How the chord of a closed contour is defined, as the summary says it.
+CHORD_DEFINITION = (
+    "from the contour point of smallest x (most upstream) to that of largest x (most "
+    "downstream); x/c is the distance along the chord from its upstream end, over c"
+)
+#: What the summary says where transition is placed at a short laminar separation bubble.
+BUBBLE_SIMPLIFICATION = (
+    "transition placed at the laminar separation point of the short bubble; its "
+    "reattachment and length are not modelled"
+)
+
+
+def chord_position(
+    outline: tuple[Any, Any] | None, x: float, y: float
+) -> tuple[float, float] | None:
+    """(x/c, c) of the point (x, y) on a closed contour ``outline`` (see ``CHORD_DEFINITION``);
+    None for an open contour, or one whose chord has no length.
+
+    >>> square = ([0.0, 2.0, 2.0, 0.0, 0.0], [0.0, 0.0, 1.0, 1.0, 0.0])
+    >>> chord_position(square, 0.5, 0.0)
+    (0.25, 2.0)
+    """
+    if outline is None:
+        return None
+    import numpy as np
+
+    from ibl.prepare import _closure
+
+    px, py = np.asarray(outline[0], dtype=float), np.asarray(outline[1], dtype=float)
+    if px.size < 3 or px.size != py.size or not (np.isfinite(px).all() and np.isfinite(py).all()):
+        return None
+    arc = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(px), np.diff(py)))])
+    if not _closure(px, py, arc)[0]:
+        return None
+    front, rear = int(np.argmin(px)), int(np.argmax(px))
+    dx, dy = float(px[rear] - px[front]), float(py[rear] - py[front])
+    chord = math.hypot(dx, dy)
+    if chord <= 0.0:
+        return None
+    along = float((x - px[front]) * dx + (y - py[front]) * dy) / chord
+    return along / chord, chord
+
+
+def summary(
+    result: dict[str, Any],
+    *,
+    units: str = COORDINATE_UNIT,
+    outline: tuple[Any, Any] | None = None,
+) -> str:
+    """A readable summary of a result document, one block per side, with the caution.
+
+    ``units`` is the case's length unit (``ibl.units.length_unit``); ``outline``, the input
+    contour (x, y), gives the stagnation point's x/c on a closed contour."""
     lines = []
     if result.get("name"):
         lines.append(f"Case: {result['name']}")
     stag = result.get("stagnation")
     if stag:
+        chord = chord_position(outline, stag["x"], stag["y"])
         lines.append(
-            f"Stagnation point: x = {_fmt(stag['x'])}, y = {_fmt(stag['y'])} "
+            "Stagnation point: "
+            + (f"x/c = {_fmt(chord[0])}, " if chord else "")
+            + f"x = {_fmt(stag['x'])}, y = {_fmt(stag['y'])} "
             f"({_fmt(stag['s'])} along the contour from its first point, at index "
             f"{stag['position']:.2f} of the input points)"
         )
+        if chord:
+            lines.append(f"  chord c = {_fmt(chord[1])}, {CHORD_DEFINITION}")
     options = result["options"]
     lines.append(
         f"Methods: {options['laminar_method']} (lambda_sep = {options['separation_lambda']}), "
@@ -397,6 +455,8 @@ def summary(result: dict[str, Any]) -> str:
             lines.append(
                 f"  transition          {_where(tr)}, {cause}, Re_theta = {_fmt(tr['re_theta'])}"
             )
+            if tr["cause"] == "laminar_separation":
+                lines.append(f"                      ({BUBBLE_SIMPLIFICATION})")
         else:
             lines.append("  transition          none (laminar throughout the attached length)")
         ls = side["laminar_separation"]
@@ -455,32 +515,41 @@ def summary(result: dict[str, Any]) -> str:
         lines.append("Warnings:")
         lines.extend(f"  [{w['code']}] {w['message']}" for w in result["warnings"])
     lines.append("")
-    lines.append("Lengths are in the unit of the input coordinates.")
+    lines.append(lengths_note(units))
     lines.append("CAUTION: " + CAUTION)
     return "\n".join(lines)
 
 
 #: Flags that ``ibl sweep`` accepts either as a number or as a range start:stop:count.
 _SWEEPABLE = {
-    "reynolds": "Re = U_inf L / nu, L the coordinate unit",
-    "mach": "free-stream Mach number",
-    "turbulence_intensity": "a fraction, e.g. 0.01",
-    "trip_upper": "trip arc length on the upper side",
-    "trip_lower": "trip arc length on the lower side",
-    "trip": "trip arc length on a single surface",
+    "reynolds": "Reynolds number Re = U_inf L/nu, L one coordinate unit [-]",
+    "mach": "free-stream Mach number [-]",
+    "turbulence_intensity": "free-stream turbulence intensity, a fraction, e.g. 0.01 [-]",
+    "trip_upper": "trip position on the upper side, s from the stagnation point [L]",
+    "trip_lower": "trip position on the lower side, s from the stagnation point [L]",
+    "trip": "trip position on a single surface, in the s of surface.s [L]",
 }
+#: What [L] in the help stands for (``ibl.units.LENGTH_RULE``).
+_L = " (L: m when the flow is given by speed and viscosity, else the coordinate unit)"
 
 
 def _add_case_flags(
     parser: argparse.ArgumentParser, *, sweep: bool = False, csv_input: bool = True
 ) -> None:
     if sweep:
-        parser.add_argument("--format", choices=["text", "csv", "json"], default="text")
+        parser.add_argument(
+            "--format",
+            choices=["text", "csv", "json"],
+            default="text",
+            help="text table, CSV table or JSON document",
+        )
         for name, text in _SWEEPABLE.items():
             parser.add_argument(
                 "--" + name.replace("_", "-"),
                 metavar="VALUE|START:STOP:COUNT",
-                help=text + ("; a range is spaced logarithmically" if name == "reynolds" else ""),
+                help=text
+                + (_L if name.startswith("trip") else "")
+                + ("; a range is spaced logarithmically" if name == "reynolds" else ""),
             )
     else:
         parser.add_argument(
@@ -490,11 +559,13 @@ def _add_case_flags(
             help="text summary, JSON result document, or CSV station table",
         )
         parser.add_argument("--reynolds", type=float, help=_SWEEPABLE["reynolds"])
-        parser.add_argument("--mach", type=float)
-        parser.add_argument("--turbulence-intensity", type=float, help="a fraction, e.g. 0.01")
-        parser.add_argument("--trip-upper", type=float, help=_SWEEPABLE["trip_upper"])
-        parser.add_argument("--trip-lower", type=float, help=_SWEEPABLE["trip_lower"])
-        parser.add_argument("--trip", type=float, help=_SWEEPABLE["trip"])
+        parser.add_argument("--mach", type=float, help=_SWEEPABLE["mach"])
+        parser.add_argument(
+            "--turbulence-intensity", type=float, help=_SWEEPABLE["turbulence_intensity"]
+        )
+        parser.add_argument("--trip-upper", type=float, help=_SWEEPABLE["trip_upper"] + _L)
+        parser.add_argument("--trip-lower", type=float, help=_SWEEPABLE["trip_lower"] + _L)
+        parser.add_argument("--trip", type=float, help=_SWEEPABLE["trip"] + _L)
         parser.add_argument(
             "--summary",
             action="store_true",
@@ -532,13 +603,21 @@ def _add_case_flags(
             "--delimiter",
             help="CSV delimiter: one character, or tab (default: ',', ';' or tab, from the header)",
         )
-    parser.add_argument("--criterion", choices=["michel", "granville", "abu_ghannam_shaw", "none"])
+    parser.add_argument(
+        "--criterion",
+        choices=["michel", "granville", "abu_ghannam_shaw", "none"],
+        help="natural-transition criterion (none: no criterion is applied)",
+    )
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
-    parser.add_argument("--y-plus", type=float, nargs="+", help="first-cell y+ targets")
+    parser.add_argument(
+        "--y-plus", type=float, nargs="+", help="first-cell y+ targets for mesh advice [-]"
+    )
     parser.add_argument(
         "--smoothing",
         type=_smoothing_argument,
-        help="'auto' or a smoothing-spline penalty from 0 to 1e-7 (normalised; see README)",
+        help="smoothing of (Ue/U_inf)^2 along s: 'auto' (generalised cross-validation) or a "
+        "spline penalty from 0 to 1e-7 [-] (on normalised arc length and edge velocity; "
+        "see README)",
     )
     parser.add_argument(
         "--plot", type=Path, metavar="FILE", help="write a figure (.png or .svg) to FILE"
@@ -571,7 +650,7 @@ def _parser() -> argparse.ArgumentParser:
     )
     sweep.add_argument("case", type=Path, help="CASE.json or a CSV of taps")
     _add_case_flags(sweep, sweep=True)
-    sweep.add_argument("--chunk", type=int, help="cases per batch (default: 64 here)")
+    sweep.add_argument("--chunk", type=int, help="cases per batch [cases] (default: 64 here)")
     sweep.add_argument(
         "--scheduler", metavar="ADDRESS", help="dask.distributed scheduler, e.g. tcp://host:8786"
     )
@@ -583,13 +662,20 @@ def _parser() -> argparse.ArgumentParser:
         "measurements and published laws; print each comparison with its tolerance and source. "
         "Exit status 1 if any lies outside its tolerance.",
     )
-    validate.add_argument("--format", choices=["text", "json"], default="text")
+    validate.add_argument(
+        "--format", choices=["text", "json"], default="text", help="text report or JSON document"
+    )
     validate.add_argument(
         "--plot", type=Path, metavar="FILE", help="write a figure (.png or .svg) to FILE"
     )
     bench = commands.add_parser("bench", help="print timing figures of the march")
-    bench.add_argument("--repeat", type=int, default=200)
-    bench.add_argument("--batch", type=int, default=2000, help="sides in the batched run")
+    bench.add_argument(
+        "--repeat",
+        type=int,
+        default=200,
+        help="timed calls per single-case figure, whose median is printed [calls]",
+    )
+    bench.add_argument("--batch", type=int, default=2000, help="sides in the batched run [sides]")
     commands.add_parser("serve", help="run the HTTP service", add_help=False)
     return parser
 
@@ -649,6 +735,8 @@ def _analyse(args: argparse.Namespace) -> int:
     from ibl.figures import length_unit
 
     units = length_unit(case)
+    surface = case.get("surface", {})
+    outline = (surface["x"], surface["y"]) if surface.get("x") and surface.get("y") else None
     if args.format == "json":
         sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
     elif args.format == "csv":
@@ -656,12 +744,10 @@ def _analyse(args: argparse.Namespace) -> int:
 
         sys.stdout.write(stations_csv(result, units=units))
     else:
-        print(summary(result))
+        print(summary(result, units=units, outline=outline))
     if args.plot is not None and fmt is not None:
         from ibl.figures import render
 
-        surface = case.get("surface", {})
-        outline = (surface["x"], surface["y"]) if surface.get("x") and surface.get("y") else None
         _write_figure(args.plot, render(result, fmt, units=units, outline=outline))
     return 0
 

@@ -7,8 +7,7 @@ Contents
   class) and separation marked; above them the body contour with the same events, laminar and
   turbulent stretches told apart and the stagnation point (a line along s for single-surface
   input); the caution in the footer.
-- ``length_unit(case_doc)``: "m" when the case gives speed and viscosity, else
-  "coordinate unit".
+- ``length_unit(case_doc)``: the case's length unit (``ibl.units``, the one rule).
 - ``FORMATS``, ``format_of(path)``: the supported formats and the format named by a file suffix.
 
 Shared by the command line and the HTTP service.  The figures are built on
@@ -40,6 +39,7 @@ from numpy.typing import NDArray
 from ibl.analysis import CAUTION
 from ibl.schema import Result
 from ibl.sweep import VARIABLES, Sweep
+from ibl.units import COORDINATE_UNIT, length_unit
 
 if TYPE_CHECKING:
     from ibl.validation import Check
@@ -108,14 +108,6 @@ def format_of(path: Path) -> Format:
         if suffix == fmt:
             return fmt
     raise ValueError(f"{path}: a figure file ends in .png or .svg")
-
-
-def length_unit(case_doc: Mapping[str, Any]) -> str:
-    """The length unit of a case: metres when the flow is given by speed and viscosity."""
-    flow = case_doc.get("flow") or {}
-    if flow.get("speed") is not None and flow.get("kinematic_viscosity") is not None:
-        return "m"
-    return "coordinate unit"
 
 
 # ------------------------------------------------------------------------ building blocks
@@ -221,7 +213,9 @@ def _mark(ax: Axes, style: _Style, u: float, v: float) -> None:
         markeredgecolor=style.colour,
         markerfacecolor=style.colour if style.filled else "none",
         markeredgewidth=1.5,
-        zorder=5,
+        # Smaller marks on top: a bubble's laminar separation at the transition it causes
+        # stays visible inside the transition mark.
+        zorder=5.0 + 1.0 / style.size,
     )
 
 
@@ -247,14 +241,15 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
                 [],
                 [],
                 color=style.colour,
-                linestyle=style.linestyle if style is not _STAGNATION else "none",
-                lw=0.9,
+                linestyle="none",
                 marker=style.marker,
                 markersize=style.size * 0.8,
                 markerfacecolor=style.colour if style.filled else "none",
+                markeredgewidth=1.5,
                 label=style.label,
             )
         )
+    handles.extend(_vline_handles(seen))
     if any(_margin_points(side) for side in result["sides"]):
         handles.append(
             Line2D(
@@ -276,15 +271,50 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
                 color="grey",
                 lw=0.9,
                 linestyle="-.",
-                label=f"H = {h_sep:g} (turbulent separation criterion)",
+                label=f"H = {h_sep:g}, turbulent separation criterion",
             )
         )
     return handles
 
 
+#: What each vertical line of the s panels marks, by the line style of its events.
+_VLINE_LABELS = {
+    "transition": "transition (vertical line)",
+    "separation": "separation, stations end (vertical line)",
+    "bubble": "laminar separation, bubble (vertical line)",
+    "plateau": "plateau onset (vertical line)",
+}
+
+
+def _vline_handles(seen: Sequence[_Style]) -> list[Line2D]:
+    """Legend entries for the vertical lines drawn at the events in ``seen``."""
+    kinds = {
+        "transition": [_EVENTS["transition"]],
+        "separation": [_EVENTS["laminar"], _EVENTS["turbulent"]],
+        "bubble": [_EVENTS["short"], _EVENTS["long"]],
+        "plateau": [_EVENTS["plateau"]],
+    }
+    handles = []
+    for kind, styles in kinds.items():
+        present = [style for style in styles if style in seen]
+        if present:
+            style = present[0]
+            handles.append(
+                Line2D(
+                    [],
+                    [],
+                    color=style.colour,
+                    linestyle=style.linestyle,
+                    lw=1.2,
+                    label=_VLINE_LABELS[kind],
+                )
+            )
+    return handles
+
+
 def _legend_columns(handles: list[Line2D], sides: int) -> int:
     """Legend columns: as many as fit the width of the figure's sides."""
-    return max(1, min(3 if sides < 2 else 5, len(handles)))
+    return max(1, min(3 if sides < 2 else 4, len(handles)))
 
 
 def _legend_panel(ax: Axes, handles: list[Line2D], columns: int) -> None:
@@ -410,7 +440,9 @@ def _quantity_panels(
         _vlines(ax, side)
         ax.grid(True, lw=0.3, alpha=0.5)
     if turbulent.any():
-        axes[1].axhline(h_sep, color="grey", lw=0.9, linestyle="-.")
+        # The criterion applies to the turbulent layer only (a laminar H above it is normal):
+        # drawn over the turbulent stations.
+        axes[1].plot(s, np.where(turbulent, h_sep, np.nan), color="grey", lw=0.9, linestyle="-.")
     _margin_marks(axes[1], side, s, h)
     axes[2].set_xlabel(f"s [{units}]")
 
@@ -457,7 +489,7 @@ def render(
     result: Mapping[str, Any] | Result,
     fmt: Format = "png",
     *,
-    units: str = "coordinate unit",
+    units: str = COORDINATE_UNIT,
     outline: tuple[Sequence[float], Sequence[float]] | None = None,
 ) -> bytes:
     """The figure of a result document, as PNG or SVG bytes.
@@ -492,7 +524,7 @@ _NEEDED = ("s", "x", "y", "theta", "shape_factor", "cf", "regime")
 def build(
     document: Mapping[str, Any] | Result,
     *,
-    units: str = "coordinate unit",
+    units: str = COORDINATE_UNIT,
     outline: tuple[Sequence[float], Sequence[float]] | None = None,
 ) -> Figure:
     """The matplotlib ``Figure`` that ``render`` encodes (``result`` may be an ``ibl.Result``)."""
@@ -586,7 +618,7 @@ def _sweep_panel(ax: Axes, sweep: Sweep, side: str) -> None:
     if VARIABLES[sweep.variable].log:
         ax.set_xscale("log")
     _swept_limits(ax, [point.value for point in sweep.points], VARIABLES[sweep.variable].log)
-    ax.set_xlabel(VARIABLES[sweep.variable].label)
+    ax.set_xlabel(sweep.label)
     ax.set_title(f"{side} side" if side != "surface" else "surface")
     ax.grid(True, which="both", lw=0.3, alpha=0.5)
 
@@ -620,14 +652,16 @@ def _sweep_line(ax: Axes, values: Array, s: Array, style: _Style, label: str) ->
     )
 
 
-def render_sweep(sweep: Sweep, fmt: Format = "png", *, units: str = "coordinate unit") -> bytes:
+def render_sweep(sweep: Sweep, fmt: Format = "png", *, units: str | None = None) -> bytes:
     """Transition and separation positions against the swept variable, one panel per side."""
     _check_format(fmt)
     return to_bytes(build_sweep(sweep, units=units), fmt)
 
 
-def build_sweep(sweep: Sweep, *, units: str = "coordinate unit") -> Figure:
-    """The matplotlib ``Figure`` that ``render_sweep`` encodes."""
+def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
+    """The matplotlib ``Figure`` that ``render_sweep`` encodes; ``units`` defaults to the
+    sweep's ``length_unit``."""
+    units = units or sweep.length_unit
     sides = list(dict.fromkeys(p.side for point in sweep.points for p in point.sides))
     width = 6.2 * max(1, len(sides)) + 1.6 / max(1, len(sides))
     fig = new_figure(width, 6.0)
@@ -651,7 +685,9 @@ def build_sweep(sweep: Sweep, *, units: str = "coordinate unit") -> Figure:
         legend.legend(handles, labels, loc="center", ncols=4, fontsize=8.5, frameon=False)
     failed = sum(1 for point in sweep.points if point.error is not None)
     note = f"{failed} swept case(s) could not be analysed (see the table)." if failed else ""
-    title = f"{sweep.name or '(unnamed case)'}: sweep of {sweep.variable}"
+    info = VARIABLES.get(sweep.variable)
+    quantity = info.name if info is not None and info.name else sweep.variable
+    title = f"{sweep.name or '(unnamed case)'}: sweep of the {quantity}"
     chars = int(width * 72.0 / (0.6 * 11.0))
     fig.suptitle("\n".join(textwrap.wrap(title, chars)), fontsize=11)
     add_footer(fig, caution_footer(note))
@@ -695,9 +731,9 @@ def _deviation_panel(ax: Axes, checks: Sequence[Check]) -> None:
 
 
 _FAMILY = {
-    "theta": r"$\theta/x\,\sqrt{Re_x}$",
-    "shape_factor": "$H$",
-    "cf": r"$C_f\,\sqrt{Re_x}$",
+    "theta": r"$\theta/x\,\sqrt{Re_x}$ [-]",
+    "shape_factor": "$H$ [-]",
+    "cf": r"$C_f\,\sqrt{Re_x}$ [-]",
 }
 
 

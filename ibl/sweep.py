@@ -10,6 +10,9 @@ Contents
   through ``ibl.run_batch`` in chunks, locally or on a dask.distributed cluster; returns a
   ``Sweep``: transition, laminar separation and separation on each side at every value.
 - ``sweep_text(sweep, units)``, ``sweep_csv(sweep, units)``: readable and CSV tables.
+- ``variable_label(variable, unit)``: the swept quantity's label with its unit.
+
+Lengths follow ``ibl.units.length_unit`` of the swept case; ``Sweep.length_unit`` says which.
 """
 
 from __future__ import annotations
@@ -29,6 +32,8 @@ import numpy as np
 from ibl.analysis import CAUTION, parse_case, run, run_batch
 from ibl.errors import CaseError
 from ibl.schema import Case, Output, Result
+from ibl.units import COORDINATE_UNIT, lengths_note
+from ibl.units import length_unit as case_length_unit
 
 if TYPE_CHECKING:
     from distributed import Client
@@ -46,6 +51,7 @@ __all__ = [
     "sweep",
     "sweep_csv",
     "sweep_text",
+    "variable_label",
 ]
 
 Variable = Literal["reynolds", "turbulence_intensity", "mach", "trip_upper", "trip_lower", "trip"]
@@ -56,23 +62,63 @@ DEFAULT_CHUNK = 64
 
 @dataclass(frozen=True)
 class VariableInfo:
-    """How a swept variable is labelled, spaced and bounded."""
+    """How a swept variable is labelled, spaced and bounded.  ``label`` is the axis label,
+    with ``{unit}`` standing for the case's length unit; ``name`` the quantity's name."""
 
     label: str
     log: bool
     low: float
     high: float
     high_open: bool = False
+    name: str = ""
 
 
 VARIABLES: dict[str, VariableInfo] = {
-    "reynolds": VariableInfo("Re per unit length [-]", True, 0.0, math.inf, high_open=True),
-    "turbulence_intensity": VariableInfo("turbulence intensity Tu [-]", False, 0.0, 0.2),
-    "mach": VariableInfo("free-stream Mach number [-]", False, 0.0, 1.0, high_open=True),
-    "trip_upper": VariableInfo("trip position on the upper side, s", False, 0.0, math.inf),
-    "trip_lower": VariableInfo("trip position on the lower side, s", False, 0.0, math.inf),
-    "trip": VariableInfo("trip position on the surface, s", False, 0.0, math.inf),
+    "reynolds": VariableInfo(
+        "Re = U_inf L/nu, L = 1 {unit} [-]",
+        True,
+        0.0,
+        math.inf,
+        high_open=True,
+        name="Reynolds number",
+    ),
+    "turbulence_intensity": VariableInfo(
+        "turbulence intensity Tu [-]", False, 0.0, 0.2, name="free-stream turbulence intensity"
+    ),
+    "mach": VariableInfo(
+        "free-stream Mach number [-]", False, 0.0, 1.0, high_open=True, name="Mach number"
+    ),
+    "trip_upper": VariableInfo(
+        "trip position on the upper side, s [{unit}]",
+        False,
+        0.0,
+        math.inf,
+        name="trip position on the upper side",
+    ),
+    "trip_lower": VariableInfo(
+        "trip position on the lower side, s [{unit}]",
+        False,
+        0.0,
+        math.inf,
+        name="trip position on the lower side",
+    ),
+    "trip": VariableInfo(
+        "trip position on the surface, s [{unit}]",
+        False,
+        0.0,
+        math.inf,
+        name="trip position on the surface",
+    ),
 }
+
+
+def variable_label(variable: str, unit: str = COORDINATE_UNIT) -> str:
+    """The label of a swept variable, with the length unit ``unit`` filled in.
+
+    >>> variable_label("reynolds", "m")
+    'Re = U_inf L/nu, L = 1 m [-]'
+    """
+    return _info(variable).label.format(unit=unit)
 
 
 class SidePositions(msgspec.Struct, frozen=True, kw_only=True):
@@ -91,7 +137,9 @@ class SidePositions(msgspec.Struct, frozen=True, kw_only=True):
     pressure_plateau_s: float | None = None
     min_lambda: float | None = None
     max_shape_factor: float | None = None
-    end_s: float
+    #: s of the last station: where the stations end (separation, a plateau onset or the end
+    #: of the surface).  An event found between stations, as separation, may lie beyond it.
+    last_station_s: float
 
 
 class SweepPoint(msgspec.Struct, frozen=True, kw_only=True):
@@ -104,12 +152,14 @@ class SweepPoint(msgspec.Struct, frozen=True, kw_only=True):
 
 
 class Sweep(msgspec.Struct, frozen=True, kw_only=True):
-    """A sweep of one variable: the case name, the variable and every point, in order."""
+    """A sweep of one variable: the case name, the variable, its label and every point, in
+    order; ``length_unit`` is the unit of every s and x (``ibl.units.length_unit``)."""
 
     name: str | None
     variable: str
     label: str
     points: list[SweepPoint]
+    length_unit: str = COORDINATE_UNIT
     caution: str = CAUTION
 
 
@@ -222,7 +272,7 @@ def _positions(result: Result) -> list[SidePositions]:
                     if side.margins.turbulent is not None
                     else None
                 ),
-                end_s=float(side.s[-1]) if isinstance(side.s, list) else math.nan,
+                last_station_s=float(side.s[-1]) if isinstance(side.s, list) else math.nan,
             )
         )
     return out
@@ -364,11 +414,13 @@ def sweep(
             points = _run_local(case_doc, variable, values, chunk or DEFAULT_CHUNK, bar)
         else:
             points = _with_client(scheduler, case_doc, variable, values, chunk, bar)
+    unit = case_length_unit(case_doc)
     return Sweep(
         name=case_doc.get("name"),
         variable=variable,
-        label=VARIABLES[variable].label,
+        label=variable_label(variable, unit),
         points=msgspec.convert(points, list[SweepPoint]),
+        length_unit=unit,
     )
 
 
@@ -408,7 +460,7 @@ CSV_COLUMNS = (
     "pressure_plateau_s",
     "min_lambda",
     "max_shape_factor",
-    "end_s",
+    "last_station_s",
     "error",
 )
 
@@ -421,17 +473,20 @@ def _cell(value: Any) -> str:
     return str(value)
 
 
-def sweep_csv(result: Sweep, *, units: str = "coordinate unit") -> str:
-    """The sweep as a long CSV table: one row per value and side (one row for a failed case)."""
+def sweep_csv(result: Sweep, *, units: str | None = None) -> str:
+    """The sweep as a long CSV table: one row per value and side (one row for a failed case).
+    ``units`` defaults to the sweep's ``length_unit``."""
+    unit = units or result.length_unit
     buffer = io.StringIO()
     buffer.write(
-        f"# ibl sweep of {result.variable} ({result.label})\n"
+        f"# ibl sweep of the {_quantity(result)}: column {result.variable} = {result.label}\n"
         f"# case: {result.name or '(unnamed)'}\n"
-        f"# s and x in {units}; s from the stagnation point or leading edge of each side; "
-        "empty: the event does not occur\n"
+        f"# {lengths_note(unit)} s: arc length from the stagnation point or leading edge of "
+        "each side; empty: the event does not occur\n"
         "# pressure_plateau_s: onset of a constant-pressure (separated) region in the input; "
         "min_lambda: smallest Thwaites lambda over the laminar stations; max_shape_factor: "
         "largest H over the turbulent stations\n"
+        f"# {_LAST_STATION}\n"
         f"# CAUTION: {CAUTION}\n"
     )
     writer = csv.writer(buffer, lineterminator="\n")
@@ -468,8 +523,22 @@ def _side_cells(side: SidePositions) -> list[str]:
     return [transition, separation, plateau, f"{lam} / {h}"]
 
 
-def sweep_text(result: Sweep, *, units: str = "coordinate unit") -> str:
-    """A readable table: transition and separation s (x) on each side at every value."""
+_LAST_STATION = (
+    "last_station_s: s of the last station, where the stations end (separation, a plateau "
+    "onset or the end of the surface); separation_s, found between stations, may lie "
+    "slightly beyond it"
+)
+
+
+def _quantity(result: Sweep) -> str:
+    info = VARIABLES.get(result.variable)
+    return info.name if info is not None and info.name else result.variable
+
+
+def sweep_text(result: Sweep, *, units: str | None = None) -> str:
+    """A readable table: transition and separation s (x) on each side at every value.
+    ``units`` defaults to the sweep's ``length_unit``."""
+    unit = units or result.length_unit
     names = [s.side for p in result.points for s in p.sides]
     sides = list(dict.fromkeys(names))
     events = ("transition s (x)", "sep. s (x)", "plateau s", "min lambda / max H")
@@ -486,15 +555,17 @@ def sweep_text(result: Sweep, *, units: str = "coordinate unit") -> str:
         rows.append(row)
     widths = [max(len(r[i]) for r in [header, *rows] if i < len(r)) for i in range(len(header))]
     lines = [
-        f"Sweep of {result.variable} ({result.label}), case: {result.name or '(unnamed)'}",
+        f"Sweep of the {_quantity(result)} ({result.variable}: {result.label}), "
+        f"case: {result.name or '(unnamed)'}",
         "",
         "  ".join(h.ljust(w) for h, w in zip(header, widths, strict=True)),
     ]
     lines += ["  ".join(c.ljust(w) for c, w in zip(r, widths, strict=False)) for r in rows]
     lines += [
         "",
-        f"s: arc length from the stagnation point or leading edge; s and x in {units}. "
-        "Transition by crit(erion), trip or bubble (at a short laminar separation bubble); "
+        "s: arc length from the stagnation point or leading edge. " + lengths_note(unit) + " "
+        "Transition by crit(erion), trip or bubble (placed at the separation point of a short "
+        "laminar separation bubble; its reattachment and length are not modelled); "
         "separation lam(inar) or turb(ulent); plateau: onset of a constant-pressure "
         "(separated) region in the input data; min lambda / max H: the closest approach to "
         "laminar and turbulent separation; '-': does not occur.",

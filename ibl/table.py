@@ -21,6 +21,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from ibl.analysis import CAUTION
+from ibl.units import COORDINATE_UNIT, lengths_note
 
 __all__ = ["COLUMNS", "UNITS", "read_stations", "stations_csv"]
 
@@ -72,8 +73,8 @@ def _header_lines(result: Mapping[str, Any], units: str) -> list[str]:
     lines = [
         "# ibl station table: one row per station, sides one after another",
         f"# case: {name}",
-        f"# L = {units}; empty cells: undefined (cf at a stagnation point or sharp edge) "
-        "or not applicable (x, y of single-surface input)",
+        f"# L = {units}; {lengths_note(units)} Empty cells: undefined (cf at a stagnation "
+        "point or sharp edge) or not applicable (x, y of single-surface input)",
     ]
     lines += [f"# {column}: {unit}" for column, unit in UNITS.items()]
     for side in result.get("sides", []):
@@ -103,7 +104,7 @@ def _header_lines(result: Mapping[str, Any], units: str) -> list[str]:
     return lines
 
 
-def stations_csv(result: Mapping[str, Any], *, units: str = "coordinate unit") -> str:
+def stations_csv(result: Mapping[str, Any], *, units: str = COORDINATE_UNIT) -> str:
     """The stations of every side of ``result`` (a result document) as one CSV table."""
     buffer = io.StringIO()
     buffer.write("\n".join(_header_lines(result, units)) + "\n")

@@ -107,7 +107,7 @@ def _assert_matches_single_runs(result: Sweep, docs: list[dict[str, Any]]) -> No
             if side["separation"] is not None:
                 assert positions.separation_x == side["separation"]["x"]
                 assert positions.separation_regime == side["separation"]["regime"]
-            assert positions.end_s == side["s"][-1]
+            assert positions.last_station_s == side["s"][-1]
 
 
 @pytest.mark.parametrize("chunk", [1, 3, 64], ids=["chunk1", "chunk3", "one-chunk"])
