@@ -50,9 +50,10 @@ later than the settled point); where Cp
 does not recover before the level (separation at a corner, at the suction peak itself), the
 onset is that point. The end is the last input point within the band.
 
-The search is pure and works on whole arrays; only the scan for the longest stretch within
-the band from every start (``_reach``) is a compiled loop, as the input scans of
-``ibl.prepare`` are, because its vectorised form cost more than the march of the side.
+The search is pure; the scans over the points (the wall's direction, the longest stretch
+within the band from every start, the first stretch that meets the rules) are compiled
+loops, as the input scans of ``ibl.prepare`` are, because their vectorised forms cost more
+than the march of the side.
 """
 
 from __future__ import annotations
@@ -191,16 +192,40 @@ def _reach(values: F64, band: float, first: int) -> I64:
     return out
 
 
+@numba.njit(cache=True, error_model="numpy")
 def _tangent_angle(x: F64, y: F64) -> F64:
     """Direction of each segment (point m to m + 1), unwrapped: the first direction plus the
     running sum of the turns between segments, each in (-pi, pi] [rad]."""
-    dx, dy = np.diff(x), np.diff(y)
-    turn = np.arctan2(dx[:-1] * dy[1:] - dy[:-1] * dx[1:], dx[:-1] * dx[1:] + dy[:-1] * dy[1:])
-    out = np.empty(dx.size)
-    out[0] = math.atan2(float(dy[0]), float(dx[0]))
-    np.cumsum(turn, out=out[1:])
-    out[1:] += out[0]
+    n = x.size - 1
+    out = np.empty(n)
+    out[0] = np.arctan2(y[1] - y[0], x[1] - x[0])
+    for m in range(1, n):
+        ax, ay = x[m] - x[m - 1], y[m] - y[m - 1]
+        bx, by = x[m + 1] - x[m], y[m + 1] - y[m]
+        out[m] = out[m - 1] + np.arctan2(ax * by - ay * bx, ax * bx + ay * by)
     return out
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_stretch(
+    s: F64, cp: F64, angle: F64, band: float, first: int, min_length: float, min_turning: float
+) -> tuple[int, int]:
+    """The first stretch from a start at or after ``first`` that meets rules (a) to (c):
+    (start, end), or (-1, -1).  ``min_turning`` in radians."""
+    n = s.size
+    lo = hi = angle[first - 1]
+    for m in range(first - 1, angle.size):
+        lo, hi = min(lo, angle[m]), max(hi, angle[m])
+    if hi - lo < min_turning:
+        return -1, -1  # no stretch after the suction peak can turn the wall enough
+    ends = _reach(cp, band, first)
+    for i in range(first, n):
+        j = ends[i - first]
+        if j - i < PLATEAU_MIN_POINTS - 1 or s[j] - s[i] < min_length:
+            continue
+        if abs(angle[max(j - 1, i - 1)] - angle[i - 1]) >= min_turning:
+            return i, j
+    return -1, -1
 
 
 def _peak(cp: F64, band: float) -> int:
@@ -256,25 +281,11 @@ def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
     if first > n - PLATEAU_MIN_POINTS:
         return None
     angle = _tangent_angle(x, y)
-    # No stretch after the suction peak can turn the wall enough (most attached sections):
-    # nothing to search.
-    after = angle[first - 1 :]
-    if math.degrees(float(after.max() - after.min())) < PLATEAU_MIN_TURNING:
-        return None
-    starts = np.arange(first, n)
-    ends = _reach(cp, band, first)
     length = float(s[-1] - s[0])
-    incoming = angle[starts - 1]
-    turning = np.degrees(np.abs(angle[np.maximum(ends - 1, starts - 1)] - incoming))
-    ok = (
-        (ends - starts >= PLATEAU_MIN_POINTS - 1)
-        & (s[ends] - s[starts] >= PLATEAU_MIN_LENGTH * length)
-        & (turning >= PLATEAU_MIN_TURNING)
-    )
-    if not ok.any():
+    turning = math.radians(PLATEAU_MIN_TURNING)
+    i0, j0 = _first_stretch(s, cp, angle, band, first, PLATEAU_MIN_LENGTH * length, turning)
+    if i0 < 0:
         return None
-    k = int(np.argmax(ok))
-    i0, j0 = int(starts[k]), int(ends[k])
     onset, m = _onset(s, cp, peak, i0, j0, band)
     turned = math.degrees(abs(float(angle[max(j0 - 1, m - 1)] - angle[m - 1])))
     if (

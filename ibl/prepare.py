@@ -800,21 +800,24 @@ def _single_side(
 # ----------------------------------------------------------------------------- contours
 
 
+@numba.njit(cache=True, error_model="numpy")
 def _closure(x: F64, y: F64, arc: F64) -> tuple[bool, bool]:
     """Whether a contour is closed, and whether only implicitly: its last point does not
     repeat its first, but the gap between them is no longer than its longest segment and
     under ``IMPLICIT_CLOSURE`` of its length (a closed loop listed without the repeat)."""
-    total = float(arc[-1])
-    gap = float(np.hypot(x[-1] - x[0], y[-1] - y[0]))
+    n = x.size
+    total = arc[n - 1]
+    gap = np.hypot(x[n - 1] - x[0], y[n - 1] - y[0])
     if gap <= REPEAT_TOLERANCE * total:
         return True, False
-    longest = float(np.max(np.diff(arc)))
-    implicit = (
-        x.size > MIN_POINTS and gap <= 1.5 * longest and gap <= IMPLICIT_CLOSURE * (total + gap)
-    )
+    longest = 0.0
+    for i in range(1, n):
+        longest = max(longest, arc[i] - arc[i - 1])
+    implicit = n > MIN_POINTS and gap <= 1.5 * longest and gap <= IMPLICIT_CLOSURE * (total + gap)
     return implicit, implicit
 
 
+@numba.njit(cache=True, error_model="numpy")
 def _rear_point(x: F64, y: F64, arc: F64) -> float:
     """Fractional index (unwrapped) of the point where the sides of a closed contour meet:
     the most downstream one.  Among the points within ``REAR_TOLERANCE`` of the contour
@@ -824,50 +827,60 @@ def _rear_point(x: F64, y: F64, arc: F64) -> float:
     the arc-length middle of the first and last of them.  The last point repeats the
     first, and ``arc`` ends with the period."""
     m = x.size - 1
-    total = float(arc[m])
-    best = int(np.argmax(x[:-1]))
+    period = arc[m]
+    best = 0
+    for i in range(m):
+        if x[i] > x[best]:
+            best = i
     lo = hi = best
-    limit = x[best] - REAR_TOLERANCE * total
+    limit = x[best] - REAR_TOLERANCE * period
     while hi - lo < m - 1 and x[(lo - 1) % m] >= limit:
         lo -= 1
     while hi - lo < m - 1 and x[(hi + 1) % m] >= limit:
         hi += 1
-    positions = np.arange(lo - 1, hi + 2)
-    px, py = x[positions % m], y[positions % m]
-    heading = np.arctan2(np.diff(py), np.diff(px))
-    turn = np.abs((np.diff(heading) + np.pi) % (2.0 * np.pi) - np.pi)  # at lo ... hi
-    sharp = np.flatnonzero(turn >= 0.5 * turn.max())
-    first, last = lo + int(sharp[0]), lo + int(sharp[-1])
+    # The turn at each point lo ... hi, between its incoming and outgoing segments.
+    turn = np.empty(hi - lo + 1)
+    for k in range(lo, hi + 1):
+        a, b, c = (k - 1) % m, k % m, (k + 1) % m
+        into = np.arctan2(y[b] - y[a], x[b] - x[a])
+        out = np.arctan2(y[c] - y[b], x[c] - x[b])
+        turn[k - lo] = abs((out - into + np.pi) % (2.0 * np.pi) - np.pi)
+    sharpest = turn.max()
+    found = False
+    first = last = lo
+    for k in range(turn.size):
+        if turn[k] >= 0.5 * sharpest:
+            if not found:
+                first, found = lo + k, True
+            last = lo + k
     if first == last:
         return float(first)
-    period = float(arc[m])
-    run = np.arange(first, last + 1)
-    unwrapped = arc[run % m] + period * np.floor_divide(run, m)
-    middle = 0.5 * (unwrapped[0] + unwrapped[-1])
-    j = min(max(int(np.searchsorted(unwrapped, middle, side="right")) - 1, 0), run.size - 2)
-    return float(run[j] + (middle - unwrapped[j]) / (unwrapped[j + 1] - unwrapped[j]))
+    start = arc[first % m] + period * (first // m)
+    end = arc[last % m] + period * (last // m)
+    middle = 0.5 * (start + end)
+    for k in range(first, last):
+        here = arc[k % m] + period * (k // m)
+        there = arc[(k + 1) % m] + period * ((k + 1) // m)
+        if there >= middle:
+            return float(k + (middle - here) / (there - here))
+    return float(last)
 
 
-def _rotate(columns: list[F64], start: float) -> tuple[list[F64], F64]:
-    """A closed contour (its last point repeats its first) listed from fractional index
-    ``start`` round to it again.  From a start between two points (a cusp between points,
-    the middle of a base with an even number of points) the list runs from the point after
-    it round to the point before it, so each side ends at its own last point.  Returns the
-    columns and each point's unwrapped index in the listing given."""
-    m = columns[0].size - 1
+def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
+    """A closed contour (rows of ``columns``, its last point repeating its first) listed
+    from fractional index ``start`` round to it again.  From a start between two points (a
+    cusp between points, the middle of a base with an even number of points) the list runs
+    from the point after it round to the point before it, so each side ends at its own last
+    point.  Returns the rows and each point's unwrapped index in the listing given."""
+    m = columns.shape[1] - 1
     k = int(np.floor(start))
     frac = start - k
     if frac >= 1.0 - 1e-9:
         k, frac = k + 1, 0.0
     k %= m
-    indices = np.arange(k, k + m + 1)
-    rotated = [column[indices % m] for column in columns]
-    index = indices.astype(np.float64)
-    if frac > 1e-9:
-        # Points k + 1 ... k + m (= k): each side ends at the last point before the start.
-        rotated = [c[1:] for c in rotated]
-        index = index[1:]
-    return rotated, index
+    first = k + 1 if frac > 1e-9 else k  # each side ends at the last point before the start
+    indices = np.arange(first, k + m + 1)
+    return columns[:, indices % m], indices.astype(np.float64)
 
 
 def _relative_trip(at: float | None, offset: float) -> float | None:
@@ -1079,19 +1092,18 @@ def _split_contour(
     n_in = arc.size
     arc_in, x_in, y_in = arc, x, y
     closed, implicit = _closure(x, y, arc)
-    columns = [x, y, q] + ([radius] if radius is not None else [])
+    rows = [x, y, q] + ([radius] if radius is not None else [])
+    columns = np.stack(rows)
     if implicit:
-        columns = [np.append(c, c[0]) for c in columns]
-    index = np.arange(columns[0].size, dtype=np.float64)
+        columns = np.concatenate((columns, columns[:, :1]), axis=1)
+    index = np.arange(columns.shape[1], dtype=np.float64)
     if closed:
-        cx = columns[0]
-        cycle_arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(cx), np.diff(columns[1])))))
-        rear = _rear_point(cx, columns[1], cycle_arc)
-        columns, index = _rotate(columns, rear)
-    x, y, q = columns[:3]
+        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
+        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    x, y, q = columns[0], columns[1], columns[2]
     radius = columns[3] if radius is not None else None
     n = x.size
-    arc = np.concatenate(([0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))))
+    arc, _ = _arc_length(x, y, 0.0)
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 

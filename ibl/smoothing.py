@@ -27,6 +27,7 @@ import math
 from dataclasses import dataclass
 from typing import Any
 
+import numba
 import numpy as np
 from numpy.typing import NDArray
 
@@ -183,18 +184,34 @@ def smooth(t: F64, q: F64, penalty: float | None, periodic: bool) -> Smoothed:
     return Smoothed(out, penalty, chosen, at_limit)
 
 
-def _cubic_residuals(s: F64, q: F64, stride: int, i: NDArray[np.intp]) -> F64:
-    """Residual of q at points i from the cubic through the points stride and 2 * stride
-    away on either side, divided by its noise gain sqrt(1 + sum w^2)."""
-    nodes = np.stack((i - 2 * stride, i - stride, i + stride, i + 2 * stride))
-    sn, si = s[nodes], s[i]
-    weights = np.ones_like(sn)
-    for j in range(4):
-        for k in range(4):
-            if j != k:
-                weights[j] *= (si - sn[k]) / (sn[j] - sn[k])
-    gain = np.sqrt(1.0 + np.sum(weights**2, axis=0))
-    return np.asarray((q[i] - np.sum(weights * q[nodes], axis=0)) / gain)
+@numba.njit(cache=True, error_model="numpy")
+def _cubic_residual_medians(s: F64, q: F64) -> tuple[float, float, float]:
+    """Median absolute residual of q at points 4 .. n-5 from the cubic through the points
+    one and two places away on either side (stride 1), and from the one through the points
+    two and four places away (stride 2), each residual divided by its noise gain
+    sqrt(1 + sum w^2), w the cubic's interpolation weights; and the median absolute change
+    of q between neighbouring points."""
+    n = q.size
+    out = np.empty((2, n - 8))
+    nodes = np.empty(4, dtype=np.int64)
+    weights = np.empty(4)
+    for c, stride in enumerate((1, 2)):
+        for i in range(4, n - 4):
+            nodes[0], nodes[1] = i - 2 * stride, i - stride
+            nodes[2], nodes[3] = i + stride, i + 2 * stride
+            gain = 1.0
+            fit = 0.0
+            for j in range(4):
+                w = 1.0
+                for k in range(4):
+                    if j != k:
+                        w *= (s[i] - s[nodes[k]]) / (s[nodes[j]] - s[nodes[k]])
+                weights[j] = w
+                gain += w * w
+                fit += w * q[nodes[j]]
+            out[c, i - 4] = abs(q[i] - fit) / np.sqrt(gain)
+    step = np.abs(q[1:] - q[:-1])
+    return float(np.median(out[0])), float(np.median(out[1])), float(np.median(step))
 
 
 def noise_estimate(s: F64, q: F64) -> tuple[float, float]:
@@ -221,10 +238,8 @@ def noise_estimate(s: F64, q: F64) -> tuple[float, float]:
     n = q.size
     if n < 11:
         return 0.0, 0.0
-    i = np.arange(4, n - 4)
-    fine = MAD_TO_SIGMA * float(np.median(np.abs(_cubic_residuals(s, q, 1, i))))
-    wide = MAD_TO_SIGMA * float(np.median(np.abs(_cubic_residuals(s, q, 2, i))))
+    fine, wide, step = _cubic_residual_medians(s, q)
+    fine, wide = MAD_TO_SIGMA * fine, MAD_TO_SIGMA * wide
     sigma = math.sqrt(max((256.0 * fine**2 - wide**2) / 255.0, 0.0))
-    step = float(np.median(np.abs(np.diff(q))))
     ratio = sigma / step if step > 0.0 else (math.inf if sigma > 0.0 else 0.0)
     return sigma, float(ratio)
