@@ -537,12 +537,6 @@ def _friction(side: SideInput, state: SideState) -> float | None:
     return drag.friction_drag(state.s, x, state.ue, state.cf, weight)
 
 
-#: Sides end at one point (a trailing edge or rear point) when their last stations are
-#: closer than this fraction of the longer side's length (rounding only: both sides end
-#: on the same point of the input).
-MEET_TOLERANCE = 1e-9
-
-
 def _one_body(sides: list[SideInput]) -> bool:
     """Whether the two sides of a body of revolution are the meridian given on both sides
     of the axis (the radius is |y| and the sides lie on opposite sides): they describe the
