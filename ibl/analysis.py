@@ -700,20 +700,29 @@ def _plateau_notice(
 
 def _margins(side: SideInput, state: SideState) -> Margins:
     """The smallest Thwaites lambda over the laminar stations and the largest H over the
-    turbulent ones, with where they occur."""
+    turbulent ones, with where they occur (the laminar stations come first)."""
     laminar = turbulent_margin = None
-    lam = np.where(state.turbulent, np.inf, state.thwaites_lambda)
-    finite = np.isfinite(lam)
-    if finite.any():
-        i = int(np.argmin(np.where(finite, lam, np.inf)))
-        laminar = LaminarMargin(thwaites_lambda=float(lam[i]), s=float(state.s[i]) + side.offset)
-    h = np.where(state.turbulent, state.shape_factor, -np.inf)
-    finite = np.isfinite(h)
-    if finite.any():
-        i = int(np.argmax(np.where(finite, h, -np.inf)))
-        turbulent_margin = TurbulentMargin(
-            shape_factor=float(h[i]), s=float(state.s[i]) + side.offset
-        )
+    count = state.count
+    first_turbulent = count - int(np.count_nonzero(state.turbulent))
+    lam = state.thwaites_lambda[:first_turbulent]
+    if lam.size:
+        i = int(lam.argmin())
+        if not math.isfinite(lam[i]) and np.isfinite(lam).any():
+            i = int(np.nanargmin(np.where(np.isfinite(lam), lam, np.nan)))
+        if math.isfinite(lam[i]):
+            laminar = LaminarMargin(
+                thwaites_lambda=float(lam[i]), s=float(state.s[i]) + side.offset
+            )
+    h = state.shape_factor[first_turbulent:count]
+    if h.size:
+        i = int(h.argmax())
+        if not math.isfinite(h[i]) and np.isfinite(h).any():
+            i = int(np.nanargmax(np.where(np.isfinite(h), h, np.nan)))
+        if math.isfinite(h[i]):
+            j = first_turbulent + i
+            turbulent_margin = TurbulentMargin(
+                shape_factor=float(h[i]), s=float(state.s[j]) + side.offset
+            )
     return Margins(laminar=laminar, turbulent=turbulent_margin)
 
 
