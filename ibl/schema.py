@@ -113,7 +113,10 @@ class Pressure(Struct, frozen=True):
     )
     edge_velocity: Annotated[
         Annotated[list[SpeedRatio], Meta(min_length=3, max_length=MAX_POINTS)] | None,
-        Meta(description="Edge velocity Ue/U_inf [-], one per point (sign ignored)"),
+        Meta(
+            description="Edge velocity Ue/U_inf [-], one per point (on a contour its sign is "
+            "ignored; on a single surface a change of sign is refused)"
+        ),
     ] = None
     p: Annotated[
         Annotated[list[Pascals], Meta(min_length=3, max_length=MAX_POINTS)] | None,
