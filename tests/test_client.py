@@ -223,3 +223,32 @@ def test_importing_ibl_does_not_import_httpx() -> None:
     )
     assert out.returncode == 0, out.stderr
     assert out.stdout.strip() == "False"
+
+
+# ------------------------------------------------------------------- worked example
+
+
+def test_the_recovery_example_runs_in_a_reduced_mode(
+    server: str, capsys: pytest.CaptureFixture[str]
+) -> None:
+    """``examples/optimise_recovery.py`` with two SLSQP iterations against the live server:
+    it ends inside its bounds, prints the optimum, the count of analyses and the caution;
+    the printed pressure rise is Bernoulli's 1 - (Ue_end/Ue_roof)^2 of the printed drop."""
+    import importlib.util
+
+    spec = importlib.util.spec_from_file_location(
+        "optimise_recovery", ROOT / "examples" / "optimise_recovery.py"
+    )
+    assert spec is not None and spec.loader is not None
+    example = importlib.util.module_from_spec(spec)
+    spec.loader.exec_module(example)
+    found = example.optimise(server, 2)
+    (low, high), (shape_low, shape_high) = example.BOUNDS
+    assert low <= found["drop"] <= high and shape_low <= found["shape"] <= shape_high
+    assert found["iterations"] <= 2
+    assert found["evaluations"] % 3 == 1  # batches of a point and its two neighbours, + 1
+    assert found["pressure_rise"] == pytest.approx(1.0 - (1.0 - found["drop"]) ** 2)
+    assert example.main(["--url", server, "--max-iterations", "2"]) == 0
+    out = capsys.readouterr().out
+    assert "optimum: drop =" in out and "analyses in" in out
+    assert "Confirm them by testing" in out
