@@ -8,7 +8,8 @@ Needs the optional extra ``client`` (httpx); importing ``ibl`` does not.
 ...     answers = client.analyze_batch(cases, chunk=500)    # Result or Problem, in order
 
 Answers travel as MessagePack unless ``format="json"``. A 503 (overloaded, or over the
-server's time limit) and a connection failure are retried, waiting as ``Retry-After`` says,
+server's time limit) and a transport failure (refused connection, timeout) are retried
+(an analysis has no side effects, so sending it again is safe), waiting as ``Retry-After`` says,
 at most ``retries`` times and within ``budget`` seconds in all; a 4xx answer raises
 ``ProblemError`` carrying the RFC 9457 problem (type, title, status, detail, and ``errors``
 naming each offending field by JSON pointer).
