@@ -10,6 +10,8 @@ Routes
 - ``GET /health/live``, ``GET /health/ready``: liveness and readiness.
 - ``GET /metrics``: Prometheus text exposition.
 - ``GET /schema/openapi.json``: the OpenAPI 3.1 document.
+- ``GET /docs``: interactive documentation of the API (assets served locally, under
+  ``/docs/assets``).
 
 Handlers stay thin: read the body, hand the CPU-bound work (``service.work``) to
 the runner, answer.  Errors are raised, and answered by one table
@@ -37,6 +39,7 @@ from ibl.schema import Case, Flow, Pressure, Result, Surface
 from service import codec, work
 from service.catalogue import MethodCatalogue
 from service.config import Settings
+from service.docs import docs_routes
 from service.errors import (
     BODY_TOO_LARGE,
     EXCEPTION_HANDLERS,
@@ -357,7 +360,13 @@ def create_app(settings: Settings | None = None) -> Litestar:
             runtime.runner.close()
 
     return Litestar(
-        route_handlers=[AnalysesController, list_methods, HealthController, metrics],
+        route_handlers=[
+            AnalysesController,
+            list_methods,
+            HealthController,
+            metrics,
+            *docs_routes(),
+        ],
         exception_handlers=EXCEPTION_HANDLERS,  # type: ignore[arg-type]
         request_max_body_size=settings.max_body_bytes,
         middleware=[RequestMetrics],
