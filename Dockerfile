@@ -33,11 +33,13 @@ RUN --mount=type=bind,target=/ctx \
         httptools==0.9.0 \
         httpx==0.28.1 \
         idna==3.20 \
+        Jinja2==3.1.6 \
         kiwisolver==1.5.1 \
         litestar-htmx==0.5.0 \
         litestar==2.25.0 \
         llvmlite==0.50.0 \
         markdown-it-py==4.3.0 \
+        MarkupSafe==3.0.4 \
         matplotlib==3.11.2 \
         mdurl==0.1.2 \
         msgspec==0.23.0 \
@@ -60,6 +62,7 @@ RUN --mount=type=bind,target=/ctx \
         setuptools==84.2.1 \
         six==1.17.0 \
         sniffio==1.3.1 \
+        swagger-ui-py==25.7.1 \
         tqdm==4.70.1 \
         typing-extensions==4.16.0 \
         uvicorn==0.54.0 \

@@ -556,7 +556,8 @@ def _add_case_flags(
             "--format",
             choices=["text", "json", "csv"],
             default="text",
-            help="text summary, JSON result document, or CSV station table",
+            help="text summary, JSON result document, or CSV station table (plain CSV on "
+            "stdout, units in the header names; case, units rule and caution on stderr)",
         )
         parser.add_argument("--reynolds", type=float, help=_SWEEPABLE["reynolds"])
         parser.add_argument("--mach", type=float, help=_SWEEPABLE["mach"])
@@ -740,9 +741,11 @@ def _analyse(args: argparse.Namespace) -> int:
     if args.format == "json":
         sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
     elif args.format == "csv":
-        from ibl.table import stations_csv
+        from ibl.table import stations_csv, stations_notes
 
+        # The table alone on stdout, for plain CSV readers; what it does not say, on stderr.
         sys.stdout.write(stations_csv(result, units=units))
+        sys.stderr.write(stations_notes(result, units=units))
     else:
         print(summary(result, units=units, outline=outline))
     if args.plot is not None and fmt is not None:

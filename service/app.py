@@ -10,6 +10,8 @@ Routes
 - ``GET /health/live``, ``GET /health/ready``: liveness and readiness.
 - ``GET /metrics``: Prometheus text exposition.
 - ``GET /schema/openapi.json``: the OpenAPI 3.1 document.
+- ``GET /docs``: interactive documentation of the API (assets served locally, under
+  ``/docs/assets``).
 
 Handlers stay thin: read the body, hand the CPU-bound work (``service.work``) to
 the runner, answer.  Errors are raised, and answered by one table
@@ -30,12 +32,14 @@ from litestar import Controller, Litestar, Request, Response, get, post
 from litestar.datastructures import State
 from litestar.exceptions import InternalServerException
 from litestar.openapi import OpenAPIConfig, ResponseSpec
-from litestar.openapi.spec import Tag
+from litestar.openapi.spec import Contact, License, Tag
 
 import ibl
 from ibl.schema import Case, Flow, Pressure, Result, Surface
 from service import codec, work
+from service.catalogue import MethodCatalogue
 from service.config import Settings
+from service.docs import docs_routes
 from service.errors import (
     BODY_TOO_LARGE,
     EXCEPTION_HANDLERS,
@@ -164,13 +168,38 @@ def _problems(*kinds: ProblemKind) -> dict[int, ResponseSpec]:
 
 _BODY_PROBLEMS = (MALFORMED_JSON, MALFORMED_MSGPACK, BODY_TOO_LARGE, TIME_LIMIT, OVERLOADED)
 
-#: The 200 answers of the figure endpoint, by media type (added to the OpenAPI document).
+#: The 200 answers of the figure endpoint, by media type (added to the OpenAPI document):
+#: binary strings, so that generated clients return the bytes as they came.
 _FIGURE_CONTENT = {
     codec.FIGURE_MEDIA_TYPES["svg"]: {
-        "schema": {"type": "string", "description": "An SVG document (text kept as text)."}
+        "schema": {
+            "type": "string",
+            "format": "binary",
+            "contentMediaType": "image/svg+xml",
+            "description": "An SVG document (UTF-8 text).",
+        }
     },
     codec.FIGURE_MEDIA_TYPES["png"]: {
-        "schema": {"type": "string", "contentMediaType": "image/png", "description": "A PNG image."}
+        "schema": {
+            "type": "string",
+            "format": "binary",
+            "contentMediaType": "image/png",
+            "description": "A PNG image.",
+        }
+    },
+}
+
+#: The ``Accept`` choice of the figure endpoint, as a documented header parameter.
+_FIGURE_ACCEPT = {
+    "name": "Accept",
+    "in": "header",
+    "required": False,
+    "description": "The figure format: SVG (the default, also for `*/*` or no header) or PNG. "
+    "A header that allows neither is answered with 406.",
+    "schema": {
+        "type": "string",
+        "enum": list(codec.FIGURE_MEDIA_TYPES.values()),
+        "default": codec.FIGURE_MEDIA_TYPES["svg"],
     },
 }
 
@@ -227,7 +256,11 @@ class AnalysesController(Controller):
         "`*/*` or no header) or PNG (`image/png`); anything else is answered with 406. "
         "Lengths are labelled in metres when the case gives speed and viscosity, otherwise "
         "in the unit of the coordinates.\n\n" + CAUTION,
-        opt={"request_body": Case, "response_content": _FIGURE_CONTENT},
+        opt={
+            "request_body": Case,
+            "response_content": _FIGURE_CONTENT,
+            "header_parameter": _FIGURE_ACCEPT,
+        },
         response_description="The figure, in the format the Accept header asks for.",
         responses=_problems(*_BODY_PROBLEMS, INVALID_CASE, NOT_ACCEPTABLE),
     )
@@ -259,6 +292,7 @@ def _catalogue() -> dict[str, Any]:
     description="Every method and transition criterion with its options, defaults, validity "
     "ranges and sources. An unbounded end of a range is null.\n\n" + CAUTION,
     tags=["analyses"],
+    opt={"response_body": MethodCatalogue},
     sync_to_thread=False,
 )
 def list_methods() -> dict[str, Any]:
@@ -326,7 +360,13 @@ def create_app(settings: Settings | None = None) -> Litestar:
             runtime.runner.close()
 
     return Litestar(
-        route_handlers=[AnalysesController, list_methods, HealthController, metrics],
+        route_handlers=[
+            AnalysesController,
+            list_methods,
+            HealthController,
+            metrics,
+            *docs_routes(),
+        ],
         exception_handlers=EXCEPTION_HANDLERS,  # type: ignore[arg-type]
         request_max_body_size=settings.max_body_bytes,
         middleware=[RequestMetrics],
@@ -334,7 +374,10 @@ def create_app(settings: Settings | None = None) -> Litestar:
             title="ibl",
             version=ibl.__version__,
             description="Integral boundary-layer and transition estimates from a surface "
-            "pressure distribution.\n\n" + CAUTION,
+            "pressure distribution.\n\nNo authentication: every operation is open to "
+            "any client that can reach the service.\n\n" + CAUTION,
+            license=License(name="MIT", identifier="MIT"),
+            contact=Contact(name="ibl project", url="https://example.org/ibl"),
             tags=[
                 Tag(name="analyses", description="Analyses and the methods they use."),
                 Tag(name="health", description="Probes and metrics."),

@@ -106,6 +106,20 @@ def _lift_single_alternatives(node: Any) -> None:
             _lift_single_alternatives(value)
 
 
+def _drop_null_defaults(node: Any) -> None:
+    """Remove ``default: null`` (msgspec writes it for ``X | None = None`` members): for
+    these members absence means "not given", and a generator reading the default would
+    send an explicit null, or type the member as always present."""
+    if isinstance(node, dict):
+        if "default" in node and node["default"] is None:
+            del node["default"]
+        for value in node.values():
+            _drop_null_defaults(value)
+    elif isinstance(node, list):
+        for value in node:
+            _drop_null_defaults(value)
+
+
 def document(app: Litestar) -> dict[str, Any]:
     """The complete OpenAPI document of ``app``, with the limits of its settings."""
     from service.codec import BODY_MEDIA_TYPES
@@ -115,15 +129,22 @@ def document(app: Litestar) -> dict[str, Any]:
     bodies = _opt_values(app, "request_body")
     answers = _opt_values(app, "response_body")
     contents = _opt_values(app, "response_content")
+    headers = _opt_values(app, "header_parameter")
     schemas: dict[str, Any] = doc.setdefault("components", {}).setdefault("schemas", {})
     _, extra = msgspec.json.schema_components(
         sorted(set(bodies.values()), key=str), ref_template=_REF
     )
-    extra["BatchResponse"] = _batch_response_schema()
+    extra["BatchResponse"] = _batch_response_schema()  # replaces msgspec's, which has no oneOf
     for name, schema in extra.items():
         if name in schemas:
             raise RuntimeError(f"two component schemas are named {name!r}")
         schemas[name] = schema
+    described = {t for t in answers.values() if t.__name__ not in schemas}
+    _, answer_schemas = msgspec.json.schema_components(
+        sorted(described, key=str), ref_template=_REF
+    )
+    for name, schema in answer_schemas.items():  # parts already described are kept
+        schemas.setdefault(name, schema)
     settings = app.state.get("settings")
     if settings is not None:
         _apply_limits(schemas, settings)
@@ -147,10 +168,15 @@ def document(app: Litestar) -> dict[str, Any]:
                 answer = operation["responses"]["200"]["content"]
                 for media in media_types:
                     answer.setdefault(media, copy.deepcopy(answer["application/json"]))
+            header = headers.get(operation.get("operationId", ""))
+            if header is not None:
+                operation.setdefault("parameters", []).append(copy.deepcopy(header))
             for status, response in operation.get("responses", {}).items():
                 if status == "503":
                     response["headers"] = {"Retry-After": _RETRY_AFTER}
     _lift_single_alternatives(schemas)
+    _drop_null_defaults(schemas)
+    doc["security"] = []  # no authentication (stated in the description)
     return doc
 
 

@@ -21,7 +21,7 @@ import ibl
 from ibl.cli import BUBBLE_SIMPLIFICATION, _parser, chord_position, summary
 from ibl.figures import build, build_sweep
 from ibl.sweep import sweep, sweep_csv, sweep_text
-from ibl.table import stations_csv
+from ibl.table import stations_csv, stations_notes
 from ibl.units import COORDINATE_UNIT, METRE, length_unit, lengths_note
 
 ROOT = Path(__file__).resolve().parents[1]
@@ -125,7 +125,8 @@ def test_one_length_rule_in_every_output(case: dict[str, Any], unit: str) -> Non
     surface = case["surface"]
     text = summary(result, units=unit, outline=(surface["x"], surface["y"]))
     assert note in text
-    assert note in stations_csv(result, units=unit)
+    assert note in stations_notes(result, units=unit)
+    assert f"s [{unit}]" in stations_csv(result, units=unit).splitlines()[0]
     swept = sweep(case, "reynolds", [2e5, 4e5])
     assert swept.length_unit == unit
     assert note in sweep_text(swept).replace("\n", " ")

@@ -29,7 +29,7 @@ from ibl.figures import render
 from ibl.plateau import PLATEAU_MIN_TURNING, _reach, find_plateau
 from ibl.references import surface_case
 from ibl.sweep import sweep, sweep_csv, sweep_text
-from ibl.table import stations_csv
+from ibl.table import stations_notes
 
 REFERENCE = Path(__file__).parent / "reference"
 
@@ -490,7 +490,7 @@ def test_summary_names_the_plateau_and_the_margins(mast_result: dict[str, Any]) 
 
 
 def test_station_table_header_states_the_plateau(mast_result: dict[str, Any]) -> None:
-    header = [line for line in stations_csv(mast_result).splitlines() if line.startswith("#")]
+    header = stations_notes(mast_result).splitlines()
     onset = side_of(mast_result, "upper")["pressure_plateau"]["s"]
     assert any(line.startswith("# pressure plateau, upper") and repr(onset) in line
                for line in header)  # fmt: skip
