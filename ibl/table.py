@@ -31,6 +31,7 @@ from collections.abc import Mapping
 from typing import Any
 
 from ibl.analysis import CAUTION
+from ibl.schema import STATION_QUANTITIES
 from ibl.units import COORDINATE_UNIT, lengths_note
 
 __all__ = [
@@ -43,21 +44,9 @@ __all__ = [
     "stations_notes",
 ]
 
-#: Columns of the station table; every one but ``side`` and ``regime`` is a number.
-COLUMNS = (
-    "side",
-    "s",
-    "x",
-    "y",
-    "edge_velocity",
-    "theta",
-    "delta_star",
-    "shape_factor",
-    "cf",
-    "re_theta",
-    "delta99",
-    "regime",
-)
+#: Columns of the station table: the side, then its station arrays; every one but ``side``
+#: and ``regime`` is a number.
+COLUMNS = ("side", *STATION_QUANTITIES)
 
 _TEXT = frozenset({"side", "regime"})
 
