@@ -197,7 +197,10 @@ def csv_case(
     ]
     if not lines:
         raise CaseError.at("", f"{source}: empty CSV file")
-    sep = _delimiter(lines[0][1], delimiter)
+    try:
+        sep = _delimiter(lines[0][1], delimiter)
+    except csv.Error as error:
+        raise CaseError.at("", f"{source}, line {lines[0][0]}: {error}") from None
 
     def split(number: int, line: str) -> list[str]:
         try:
