@@ -11,7 +11,7 @@ from __future__ import annotations
 from typing import Annotated, Literal
 
 import msgspec
-from msgspec import Meta
+from msgspec import UNSET, Meta, UnsetType
 
 from ibl.schema import Body, Case, Pressure, Result, Surface
 
@@ -146,5 +146,6 @@ class CsvCase(Wire, frozen=True):
     surface: Surface
     pressure: Pressure
     body: Annotated[
-        Body | None, Meta(description="Axisymmetric with the radii of a `radius` column; else null")
-    ] = None
+        Body | UnsetType,
+        Meta(description="Axisymmetric with the radii of a `radius` column; absent otherwise"),
+    ] = UNSET

@@ -165,9 +165,9 @@ def csv_case(
     except msgspec.ValidationError as exc:
         message, _, path = str(exc).partition(" - at `")
         pointer = msgspec_path_to_pointer(path.rstrip("`"))
-        where = pointer.rsplit("/", 1)
-        row = f", data row {int(where[1]) + 1}" if where[-1].isdigit() else ""
-        reason = f"{message} (read into the case's {where[0] or pointer}{row})"
+        member, _, index = pointer.rpartition("/")
+        where = f"{member}, data row {int(index) + 1}" if index.isdigit() else pointer
+        reason = f"{message} (read into the case's {where})"
         raise ProblemError(
             INVALID_REQUEST, "The CSV table does not make a valid case.", [_csv_error(reason)]
         ) from None

@@ -74,18 +74,18 @@
   // The service's reasons (msgspec's wording for types and ranges) in plain words.
   function plain(reason) {
     const rules = [
-      [/^Expected `array` of length >= (\S+)$/, (m) => "needs at least " + m[1] + " points"],
-      [/^Expected `array` of length <= (\S+)$/, (m) => "has more than " + m[1] + " points"],
-      [/^Expected `(?:float|int|number)` >= (\S+)$/, (m) => "must be at least " + m[1]],
-      [/^Expected `(?:float|int|number)` <= (\S+)$/, (m) => "must be at most " + m[1]],
-      [/^Expected `(?:float|int|number)` > (\S+)$/, (m) => "must be greater than " + m[1]],
-      [/^Expected `(?:float|int|number)` < (\S+)$/, (m) => "must be less than " + m[1]],
-      [/^Expected `(?:float|int|number)`, got `(\w+)`$/, () => "must be a number"],
+      [/^Expected `array` of length >= (\d+)/, (m) => "needs at least " + m[1] + " points"],
+      [/^Expected `array` of length <= (\d+)/, (m) => "may have at most " + m[1] + " points"],
+      [/^Expected `(?:float|int|number)` >= ([-+.e\d]+)/, (m) => "must be at least " + m[1]],
+      [/^Expected `(?:float|int|number)` <= ([-+.e\d]+)/, (m) => "must be at most " + m[1]],
+      [/^Expected `(?:float|int|number)` > ([-+.e\d]+)/, (m) => "must be greater than " + m[1]],
+      [/^Expected `(?:float|int|number)` < ([-+.e\d]+)/, (m) => "must be less than " + m[1]],
+      [/^Expected `(?:float|int|number)`, got `\w+`/, () => "must be a number"],
     ];
     for (const [pattern, say] of rules) {
       const match = pattern.exec(reason);
       if (match) {
-        return say(match);
+        return say(match) + reason.slice(match[0].length);
       }
     }
     return reason;
@@ -99,7 +99,7 @@
   function placeProblem(pointer, reason) {
     const text = plain(reason);
     if (pointer === "/text" || pointer === "/columns" || pointer === "/delimiter") {
-      showError("csv-text", "The CSV table cannot be used: " + text);
+      showError("csv-text", "The CSV table cannot be used: " + text.replace(/^CSV(, |: )/, ""));
       return;
     }
     if (FIELD_OF[pointer]) {
@@ -125,7 +125,24 @@
     showError("general-error", (pointer ? pointer + ": " : "") + text);
   }
 
-  // Show an answer that is not 200: RFC 9457 problem details, or a plain failure.
+  // RFC 9457 problem details: each error next to its field (pointers less ``prefix``).
+  function showProblemDocument(problem, prefix) {
+    if (problem && Array.isArray(problem.errors) && problem.errors.length) {
+      for (const error of problem.errors) {
+        let pointer = String(error.pointer || "");
+        if (prefix && pointer.startsWith(prefix)) {
+          pointer = pointer.slice(prefix.length);
+        }
+        placeProblem(pointer, String(error.reason || ""));
+      }
+    } else if (problem && problem.detail) {
+      showError("general-error", String(problem.detail));
+    } else {
+      showError("general-error", "The service could not analyse the case.");
+    }
+  }
+
+  // Show an answer that is not 200: problem details, or a plain failure.
   async function showProblem(response) {
     let problem = null;
     try {
@@ -133,12 +150,8 @@
     } catch (_) {
       problem = null;
     }
-    if (problem && Array.isArray(problem.errors) && problem.errors.length) {
-      for (const error of problem.errors) {
-        placeProblem(String(error.pointer || ""), String(error.reason || ""));
-      }
-    } else if (problem && problem.detail) {
-      showError("general-error", String(problem.detail));
+    if (problem && (problem.errors || problem.detail)) {
+      showProblemDocument(problem, "");
     } else {
       showError("general-error", "The service answered " + response.status + ".");
     }
@@ -276,20 +289,131 @@
       showError("csv-text", "Paste a CSV table or upload a CSV file first.");
       return null;
     }
+    const problem = csvProblem(text);
+    if (problem) {
+      showError("csv-text", "The CSV table cannot be used: " + problem + ".");
+      return null;
+    }
     const response = await post("/v1/cases/csv", { text: text }, "application/json");
     if (!response.ok) {
       await showProblem(response);
       return null;
     }
     const members = await response.json();
-    if (members.body === null) {
-      delete members.body;
-    }
     const count = members.pressure[Object.keys(members.pressure).find((k) => members.pressure[k])];
     $("data-status").textContent =
       "CSV table read: " + (count ? count.length : 0) + " points" +
       (members.surface.s ? ", one surface (s)." : ", a contour (x, y).");
     return members;
+  }
+
+  // ------------------------------------------------------------------ CSV check
+
+  // The check of a CSV table made before it is sent: the mistakes people make most (no
+  // header for a quantity, a cell that is not a number, a short row), said in the words of
+  // the service's reader (`ibl run taps.csv`), which reads the table and stays the authority
+  // on everything else. Checking here keeps such mistakes from becoming failed requests.
+  const DELIMITERS = [",", ";", "\t"];
+  const PRESSURES = ["cp", "edge_velocity", "p"];
+  // Python's float() syntax, which the reader uses.
+  const NUMBER = /^\s*[+-]?((((\d(_?\d)*)?\.\d(_?\d)*)|(\d(_?\d)*\.?))([eE][+-]?\d(_?\d)*)?|inf|infinity|nan)\s*$/i;
+
+  function splitRow(line, sep) {
+    const cells = [];
+    let cell = "";
+    let quoted = false;
+    let start = true;
+    for (let i = 0; i < line.length; i += 1) {
+      const c = line[i];
+      if (quoted) {
+        if (c === '"' && line[i + 1] === '"') {
+          cell += '"';
+          i += 1;
+        } else if (c === '"') {
+          quoted = false;
+        } else {
+          cell += c;
+        }
+      } else if (c === sep) {
+        cells.push(cell);
+        cell = "";
+        start = true;
+        continue;
+      } else if (start && c === " ") {
+        continue;
+      } else if (start && c === '"') {
+        quoted = true;
+      } else {
+        cell += c;
+      }
+      start = false;
+    }
+    cells.push(cell);
+    return cells;
+  }
+
+  function csvProblem(text) {
+    const lines = text
+      .replace(/^\ufeff/, "")
+      .split(/\r\n|\r|\n/)
+      .map((line, i) => [i + 1, line])
+      .filter(([, line]) => line.trim() && !line.trimStart().startsWith("#"));
+    if (!lines.length) {
+      return "empty CSV file";
+    }
+    let sep = ",";
+    for (const d of DELIMITERS) {
+      if (splitRow(lines[0][1], d).length > splitRow(lines[0][1], sep).length) {
+        sep = d;
+      }
+    }
+    const header = splitRow(lines[0][1], sep).map((name) => name.trim());
+    const keys = header.map((name) => name.replace(/\s+/g, "").toLowerCase());
+    const holds = header.map((name) => "'" + name + "'").join(", ");
+    const columns = {};
+    if (keys.includes("x") && keys.includes("y")) {
+      columns.x = keys.indexOf("x");
+      columns.y = keys.indexOf("y");
+    } else if (keys.includes("s")) {
+      columns.s = keys.indexOf("s");
+    } else {
+      return "the header has no column for x and y (or s); it holds " + holds;
+    }
+    const pressure = PRESSURES.find((q) => keys.includes(q));
+    if (!pressure) {
+      return "the header has no column for the pressure (cp, edge_velocity or p); it holds " + holds;
+    }
+    columns[pressure] = keys.indexOf(pressure);
+    if (keys.includes("radius")) {
+      columns.radius = keys.indexOf("radius");
+    }
+    let rows = 0;
+    for (const [number, line] of lines.slice(1)) {
+      const row = splitRow(line, sep);
+      if (!row.some((cell) => cell.trim())) {
+        continue;
+      }
+      if (
+        row.length !== header.length &&
+        (row.length < header.length || row.slice(header.length).some((c) => c.trim()))
+      ) {
+        return "line " + number + ": " + row.length + " values, expected " + header.length;
+      }
+      for (const [quantity, column] of Object.entries(columns)) {
+        let cell = row[column].trim();
+        if (sep !== "," && cell.includes(",") && !cell.includes(".")) {
+          cell = cell.replace(",", ".");
+        }
+        if (!NUMBER.test(cell)) {
+          return (
+            "line " + number + ": column '" + header[column] + "' (" + quantity +
+            ") value '" + row[column] + "' is not a number"
+          );
+        }
+      }
+      rows += 1;
+    }
+    return rows ? null : "no data rows under the header";
   }
 
   // ------------------------------------------------------------------ results
@@ -424,15 +548,22 @@
         $("run-status").textContent = "Not analysed: see the messages above.";
         return;
       }
-      const response = await post("/v1/analyses", doc, "application/json");
+      // One case through the batch endpoint: a case the service refuses comes back as the
+      // problem in its entry of a 200 answer, shown here like any other message.
+      const response = await post("/v1/analyses/batch", { cases: [doc] }, "application/json");
       if (!response.ok) {
         await showProblem(response);
         $("run-status").textContent = "Not analysed: see the messages above.";
         return;
       }
-      lastResultText = await response.text();
+      const result = (await response.json()).results[0];
+      if (!result || !Array.isArray(result.sides)) {
+        showProblemDocument(result, "/cases/0");
+        $("run-status").textContent = "Not analysed: see the messages above.";
+        return;
+      }
+      lastResultText = JSON.stringify(result, null, 1) + "\n";
       lastCase = doc;
-      const result = JSON.parse(lastResultText);
       const unit = lengthUnit(flowMode());
       $("result-name").textContent =
         (result.name ? "Case: " + result.name + ". " : "") +
@@ -441,7 +572,7 @@
       showWarnings(result);
       $("results").hidden = false;
       await showFigure(doc);
-      $("run-status").textContent = "Done: " + result.sides.length + " sides analysed.";
+      $("run-status").textContent = "Done: " + result.sides.length + (result.sides.length === 1 ? " side" : " sides") + " analysed.";
     } catch (error) {
       showError("general-error", "The service could not be reached: " + error.message);
       $("run-status").textContent = "";
