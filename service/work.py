@@ -108,7 +108,9 @@ def table(
     return stations_csv(msgspec.to_builtins(result), units=units).encode()
 
 
-_CSV_TABLE = {
+_CSV_TABLE: dict[
+    codec.BodyFormat, msgspec.json.Decoder[CsvTable] | msgspec.msgpack.Decoder[CsvTable]
+] = {
     "json": msgspec.json.Decoder(CsvTable),
     "msgpack": msgspec.msgpack.Decoder(CsvTable),
 }
