@@ -541,6 +541,7 @@
     clearErrors();
     $("run-status").textContent = "Analysing\u2026";
     $("run").disabled = true;
+    $("results").hidden = true; // no result of other inputs stays on view
     try {
       const members = await dataMembers();
       const doc = members && buildCase(members);
@@ -630,7 +631,10 @@
 
   function start() {
     for (const radio of document.querySelectorAll("input[name=source]")) {
-      radio.addEventListener("change", () => setSource(source()));
+      radio.addEventListener("change", () => {
+        setSource(source());
+        $("data-status").textContent = source() === "case" && baseCase ? baseLabel + "." : "";
+      });
     }
     for (const radio of document.querySelectorAll("input[name=flow-mode]")) {
       radio.addEventListener("change", () => setFlowMode(flowMode()));

@@ -9,7 +9,7 @@ browser profile and checks, step by step:
 3. the result downloads as JSON and the station table as CSV (download events);
 4. a malformed CSV shows a message next to the CSV field naming the line and the value;
 5. a bad flow value is explained next to its field;
-6. a case file uploaded through the file input runs;
+6. a CSV of taps uploaded through the file input runs, and so does a case file;
 7. nothing went to the browser console as an error, no page error was raised and no
    request left the service's own address.
 
@@ -108,6 +108,19 @@ def _flat_plate_case() -> dict[str, Any]:
     }
 
 
+def _ellipse_csv(points: int = 81, ratio: float = 0.12) -> str:
+    """Taps on an ellipse of chord 1 at zero incidence, with the exact potential-flow
+    Cp = 1 - (1 + r)^2 sin^2 t / (sin^2 t + r^2 cos^2 t), r the thickness ratio
+    (Milne-Thomson, Theoretical Hydrodynamics: the flow past an elliptic cylinder)."""
+    rows = ["x,y,cp"]
+    for i in range(points):
+        t = 2 * math.pi * (i + 0.5) / points
+        s2, c2 = math.sin(t) ** 2, math.cos(t) ** 2
+        cp = 1 - (1 + ratio) ** 2 * s2 / (s2 + ratio**2 * c2)
+        rows.append(f"{0.5 + 0.5 * math.cos(t)!r},{0.5 * ratio * math.sin(t)!r},{cp!r}")
+    return "\n".join(rows) + "\n"
+
+
 def _run_and_wait(page: Page) -> None:
     page.click("#run")
     page.wait_for_function(
@@ -186,6 +199,7 @@ def run_checks(page: Page, base: str, shots: Path) -> None:
     message = page.inner_text("#csv-text-error")
     check(page.is_visible("#csv-text-error"), "message next to the CSV field")
     check("line 3" in message and "abc" in message and "not a number" in message, message)
+    check(page.is_hidden("#results"), "no result on view for a table that was not analysed")
     step(f"message: {message}")
     page.screenshot(path=str(shots / "page-csv-error.png"), full_page=True)
 
@@ -196,6 +210,21 @@ def run_checks(page: Page, base: str, shots: Path) -> None:
     message = page.inner_text("#reynolds-error")
     check(page.is_visible("#reynolds-error") and "at least" in message, f"reynolds: {message}")
     step(f"message: {message}")
+
+    step("uploaded CSV of taps runs")
+    page.set_input_files(
+        "#csv-file",
+        files=[{"name": "taps.csv", "mimeType": "text/csv", "buffer": _ellipse_csv().encode()}],
+    )
+    page.wait_for_function("() => document.getElementById('csv-text').value.startsWith('x,y,cp')")
+    page.fill("#reynolds", "2e6")
+    _run_and_wait(page)
+    status = page.inner_text("#run-status")
+    check(status.startswith("Done"), f"CSV analysed: {status}")
+    check(sorted(_side_rows(page)) == ["lower", "upper"], f"rows: {_side_rows(page)}")
+    headers = page.eval_on_selector_all("#events thead th", "h => h.map(x => x.textContent)")
+    check(any("[coordinate unit]" in h for h in headers), "lengths in the coordinate unit")
+    step(f"{status}")
 
     step("case-file upload runs")
     page.check("#source-case")
