@@ -226,6 +226,23 @@ def run_checks(page: Page, base: str, shots: Path) -> None:
     check(any("[coordinate unit]" in h for h in headers), "lengths in the coordinate unit")
     step(f"{status}")
 
+    step("pasted CSV with semicolons, decimal commas and a comment, with a trip, runs")
+    european = _ellipse_csv().replace(",", ";").replace(".", ",")
+    page.fill("#csv-text", "\ufeff# taps, exported\n" + european)
+    page.select_option("#criterion", "granville")
+    page.fill("#turbulence_intensity", "0.001")
+    page.fill("#trip-upper", "0.05")
+    _run_and_wait(page)
+    status = page.inner_text("#run-status")
+    check(status.startswith("Done"), f"CSV analysed: {status}")
+    causes = page.eval_on_selector_all(
+        "#events tbody tr",
+        "rows => rows.map(r => r.cells[0].textContent + ':' + r.cells[2].textContent)",
+    )
+    check("upper:trip" in causes, f"upper side tripped: {causes}")
+    page.fill("#trip-upper", "")
+    step(f"causes of transition: {', '.join(causes)}")
+
     step("case-file upload runs")
     page.check("#source-case")
     body = json.dumps(_flat_plate_case()).encode()
