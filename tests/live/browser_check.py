@@ -35,9 +35,10 @@ import tempfile
 import time
 import urllib.request
 from pathlib import Path
-from typing import Any
+from typing import TYPE_CHECKING, Any
 
-from playwright.sync_api import Page, sync_playwright
+if TYPE_CHECKING:  # imported in main(): the test suite collects this file without Playwright
+    from playwright.sync_api import Page
 
 ROOT = Path(__file__).resolve().parents[2]
 
@@ -266,6 +267,8 @@ def main(argv: list[str] | None = None) -> int:
     parser.add_argument("--python", default=sys.executable, help="runs `ibl serve`")
     parser.add_argument("--screenshots", type=Path, default=None, help="default: a temp folder")
     args = parser.parse_args(argv)
+    from playwright.sync_api import sync_playwright
+
     shots = args.screenshots or Path(tempfile.mkdtemp(prefix="ibl-browser-"))
     shots.mkdir(parents=True, exist_ok=True)
 
