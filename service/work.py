@@ -125,6 +125,7 @@ def _csv_error(reason: str) -> FieldError:
     for flag, member in _CSV_OPTIONS.items():
         if reason.startswith(flag + ":"):
             pointer, reason = member, reason.removeprefix(flag + ":").strip()
+        reason = reason.replace(f"e.g. {flag} ", f"e.g. `{member[1:]}` = ")
         reason = reason.replace(flag, f"`{member[1:]}`")
     return FieldError(pointer=pointer, reason=reason)
 
