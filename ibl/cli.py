@@ -5,6 +5,7 @@ Contents
 --------
 - ``main(argv)``: the entry point.
 - ``load_case(path, overrides)``: a case from JSON or CSV, with options from flags.
+- ``csv_case(text)``: the geometry and pressure members of a case from CSV text.
 - ``summary(result, units, outline)``: the readable per-side summary.
 - ``chord_position(outline, x, y)``: x/c of a point of a closed contour, and the chord c.
 """
@@ -30,7 +31,15 @@ from ibl.units import COORDINATE_UNIT, lengths_note
 if TYPE_CHECKING:
     from ibl.figures import Format
 
-__all__ = ["CSV_QUANTITIES", "DEMO_CASE", "load_case", "main", "parse_columns", "summary"]
+__all__ = [
+    "CSV_QUANTITIES",
+    "DEMO_CASE",
+    "csv_case",
+    "load_case",
+    "main",
+    "parse_columns",
+    "summary",
+]
 
 #: The built-in demonstration case (invented data).
 DEMO_CASE = "strut.json"
@@ -92,7 +101,7 @@ def _delimiter(header_line: str, given: str | None) -> str:
     return max(_DELIMITERS, key=lambda d: counts[d])  # a tie keeps the comma
 
 
-def _select(path: Path, header: list[str], mapping: dict[str, str]) -> dict[str, int]:
+def _select(path: Path | str, header: list[str], mapping: dict[str, str]) -> dict[str, int]:
     """The column index of each quantity read: those named by ``--columns``, and the others
     found by their own names in the header where they do not conflict with a named one."""
     keys = [_key(name) for name in header]
@@ -154,39 +163,63 @@ def _number(cell: str, decimal_comma: bool) -> float:
 def _read_csv(
     path: Path, columns: str | None = None, delimiter: str | None = None
 ) -> dict[str, Any]:
-    """A case from a CSV table: one column per quantity, named in the header by its case
-    document name (x, y, s, cp, p, edge_velocity, radius) or mapped by ``columns``
-    (``--columns``). A UTF-8 byte-order mark, ``#`` comment lines, quoted header names and
-    other columns are allowed; the delimiter is ``,``, ``;`` or a tab, from the header
-    unless given, and with ``;`` or a tab a decimal comma is read as a decimal point."""
+    """A case from a CSV file (``csv_case`` on its text; UTF-8, else Windows-1252)."""
     try:
         text = path.read_text(encoding="utf-8-sig")
     except UnicodeDecodeError:
         text = path.read_text(encoding="cp1252", errors="replace")
+    return csv_case(text, path, columns, delimiter)
+
+
+def csv_case(
+    text: str, source: Path | str = "CSV", columns: str | None = None, delimiter: str | None = None
+) -> dict[str, Any]:
+    """The ``surface``, ``pressure`` and (with radii) ``body`` of a case from a CSV table:
+    one column per quantity, named in the header by its case document name (x, y, s, cp, p,
+    edge_velocity, radius) or mapped by ``columns`` (``--columns``). A leading byte-order
+    mark, ``#`` comment lines, quoted header names and other columns are allowed; the
+    delimiter is ``,``, ``;`` or a tab, from the header unless given, and with ``;`` or a
+    tab a decimal comma is read as a decimal point. ``source`` starts every message.
+
+    >>> csv_case("s,edge_velocity\\n0,0\\n0.5,1.1\\n1,1.05\\n")["pressure"]
+    {'edge_velocity': [0.0, 1.1, 1.05]}
+
+    Raises
+    ------
+    CaseError
+        At the pointer ``""``, naming the line and column of what cannot be read.
+    """
+    text = text.removeprefix("\ufeff")
     lines = [
         (number, line)
         for number, line in enumerate(text.splitlines(), start=1)
         if line.strip() and not line.lstrip().startswith("#")
     ]
     if not lines:
-        raise CaseError.at("", f"{path}: empty CSV file")
-    sep = _delimiter(lines[0][1], delimiter)
+        raise CaseError.at("", f"{source}: empty CSV file")
+    try:
+        sep = _delimiter(lines[0][1], delimiter)
+    except csv.Error as error:
+        raise CaseError.at("", f"{source}, line {lines[0][0]}: {error}") from None
 
-    def split(line: str) -> list[str]:
-        return next(csv.reader([line], delimiter=sep, skipinitialspace=True), [])
+    def split(number: int, line: str) -> list[str]:
+        try:
+            return next(csv.reader([line], delimiter=sep, skipinitialspace=True), [])
+        except csv.Error as error:
+            raise CaseError.at("", f"{source}, line {number}: {error}") from None
 
-    header = [name.strip() for name in split(lines[0][1])]
-    index = _select(path, header, parse_columns(columns) if columns else {})
+    header = [name.strip() for name in split(*lines[0])]
+    index = _select(source, header, parse_columns(columns) if columns else {})
     values: dict[str, list[float]] = {quantity: [] for quantity in index}
     for number, line in lines[1:]:
-        row = split(line)
+        row = split(number, line)
         if not any(cell.strip() for cell in row):
             continue
         if len(row) != len(header) and (
             len(row) < len(header) or any(c.strip() for c in row[len(header) :])
         ):
             raise CaseError.at(
-                "", f"{path}, line {number}: {len(row)} values, expected {len(header)}"
+                "", f"{source}, line {number}: {len(row)} values, expected {len(header)}"
             )
         for quantity, column in index.items():
             cell = row[column]
@@ -195,11 +228,11 @@ def _read_csv(
             except ValueError:
                 raise CaseError.at(
                     "",
-                    f"{path}, line {number}: column {header[column]!r} ({quantity}) value "
+                    f"{source}, line {number}: column {header[column]!r} ({quantity}) value "
                     f"{cell!r} is not a number",
                 ) from None
     if not next(iter(values.values())):
-        raise CaseError.at("", f"{path}: no data rows under the header")
+        raise CaseError.at("", f"{source}: no data rows under the header")
     surface = {"s": values["s"]} if "s" in values else {"x": values["x"], "y": values["y"]}
     pressure = {q: values[q] for q in _PRESSURES if q in values}
     case: dict[str, Any] = {"surface": surface, "pressure": pressure}

@@ -5,6 +5,8 @@ Routes
 - ``POST /v1/analyses``: one case, one result.
 - ``POST /v1/analyses/batch``: many cases, one entry each (result or problem), in order.
 - ``POST /v1/analyses/figure``: one case, the figure of its result (SVG or PNG, by ``Accept``).
+- ``POST /v1/analyses/table``: one case, the station table of its result as CSV.
+- ``POST /v1/cases/csv``: a CSV table of surface points, the case members it holds.
 - ``GET /v1/methods``: the catalogue of methods and criteria with their options,
   defaults, validity ranges and sources.
 - ``GET /health/live``, ``GET /health/ready``: liveness and readiness.
@@ -12,6 +14,7 @@ Routes
 - ``GET /schema/openapi.json``: the OpenAPI 3.1 document.
 - ``GET /docs``: interactive documentation of the API (assets served locally, under
   ``/docs/assets``).
+- ``GET /``: the page for people (``service.page``; assets under ``/page``).
 
 Handlers stay thin: read the body, hand the CPU-bound work (``service.work``) to
 the runner, answer.  Errors are raised, and answered by one table
@@ -59,8 +62,9 @@ from service.errors import (
 )
 from service.metrics import CONTENT_TYPE, RequestMetrics, exposition, mark_worker_stopped
 from service.openapi import CAUTION, ServiceJsonRenderPlugin
+from service.page import page_routes
 from service.runner import Runner
-from service.wire import BatchRequest, BatchResponse, Health, Problem
+from service.wire import BatchRequest, BatchResponse, CsvCase, CsvTable, Health, Problem
 
 __all__ = ["Runtime", "create_app", "warm_up"]
 
@@ -189,6 +193,18 @@ _FIGURE_CONTENT = {
     },
 }
 
+#: The media type of the station table (RFC 4180, with its optional header parameter).
+#: (Litestar adds ``charset=utf-8`` to text types.)
+TABLE_MEDIA_TYPE = "text/csv; header=present"
+_TABLE_CONTENT = {
+    "text/csv": {
+        "schema": {
+            "type": "string",
+            "description": "The station table: UTF-8 CSV text, the header row first.",
+        }
+    }
+}
+
 #: The ``Accept`` choice of the figure endpoint, as a documented header parameter.
 _FIGURE_ACCEPT = {
     "name": "Accept",
@@ -276,6 +292,43 @@ class AnalysesController(Controller):
             headers={"Vary": "Accept"},
         )
 
+    @post(
+        "/table",
+        status_code=200,
+        operation_id="analyseTable",
+        summary="Station table of one case",
+        description="The stations of one case's result as plain CSV (RFC 4180), as "
+        "`ibl run --format csv` writes them: the header row first, each name with its unit in "
+        "brackets (`theta [m]`; `-` dimensionless), then one row per station of every side "
+        "with a `side` column. Lengths are in metres when the case gives speed and "
+        "viscosity, otherwise in the unit of the coordinates.\n\n" + CAUTION,
+        opt={"request_body": Case, "response_content": _TABLE_CONTENT},
+        response_description="The station table.",
+        responses=_problems(*_BODY_PROBLEMS, INVALID_CASE),
+    )
+    async def table(self, request: Request[Any, Any, Any]) -> Response[bytes]:
+        content = codec.request_format(request.headers.get("content-type"))
+        body = await _read_body(request)
+        job = functools.partial(work.table, body, _runtime(request).settings, content)
+        return Response(await _run(request, job), media_type=TABLE_MEDIA_TYPE)
+
+
+@post(
+    "/v1/cases/csv",
+    status_code=200,
+    operation_id="caseFromCsv",
+    summary="Case members from a CSV table",
+    description="Reads a CSV table of surface points as `ibl run taps.csv` does, and answers "
+    "with the members of a case it holds (`surface`, `pressure` and, with a `radius` column, "
+    "`body`); add `flow` and any options to analyse it. Problems name the line and column "
+    "under the pointer `/text`.",
+    tags=["analyses"],
+    opt={"request_body": CsvTable, "response_body": CsvCase},
+    responses=_problems(*_BODY_PROBLEMS, INVALID_REQUEST),
+)
+async def case_from_csv(request: Request[Any, Any, Any]) -> Response[bytes]:
+    return await _analysis(request, work.csv_case)
+
 
 @functools.cache
 def _catalogue() -> dict[str, Any]:
@@ -362,10 +415,12 @@ def create_app(settings: Settings | None = None) -> Litestar:
     return Litestar(
         route_handlers=[
             AnalysesController,
+            case_from_csv,
             list_methods,
             HealthController,
             metrics,
             *docs_routes(),
+            *page_routes(),
         ],
         exception_handlers=EXCEPTION_HANDLERS,  # type: ignore[arg-type]
         request_max_body_size=settings.max_body_bytes,

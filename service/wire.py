@@ -11,9 +11,9 @@ from __future__ import annotations
 from typing import Annotated, Literal
 
 import msgspec
-from msgspec import Meta
+from msgspec import UNSET, Meta, UnsetType
 
-from ibl.schema import Case, Result
+from ibl.schema import Body, Case, Pressure, Result, Surface
 
 __all__ = [
     "MAX_DETAIL",
@@ -23,6 +23,8 @@ __all__ = [
     "BatchEnvelope",
     "BatchRequest",
     "BatchResponse",
+    "CsvCase",
+    "CsvTable",
     "FieldError",
     "Health",
     "Problem",
@@ -106,3 +108,44 @@ class Health(Wire, frozen=True):
     """Liveness or readiness."""
 
     status: Literal["live", "ready"]
+
+
+class CsvTable(Wire, frozen=True):
+    """A table of surface points as CSV text, read into the members of a case."""
+
+    text: Annotated[
+        str,
+        Meta(
+            description="The CSV text: a header row naming one column per quantity by its name "
+            "in the case document (x and y, or s; one of cp, edge_velocity or p [Pa]; "
+            "optionally radius, which makes the body axisymmetric), then one row per point in "
+            "order along the contour. Other columns are ignored; `#` lines are comments; the "
+            "delimiter is `,`, `;` or a tab, recognised from the header, and with `;` or a tab "
+            "a decimal comma is read as a decimal point"
+        ),
+    ]
+    columns: Annotated[
+        Annotated[str, Meta(max_length=2000)] | None,
+        Meta(
+            description="Quantities mapped to header names of a wider table, compared without "
+            "regard to case or spaces, e.g. `x=X [ m ],y=Y [ m ],p=Pressure [ Pa ]`",
+        ),
+    ] = None
+    delimiter: Annotated[
+        Annotated[str, Meta(max_length=20)] | None,
+        Meta(
+            description="The delimiter, when not recognised from the header: one character, "
+            "or `tab`, `comma`, `semicolon`",
+        ),
+    ] = None
+
+
+class CsvCase(Wire, frozen=True):
+    """The members of a case a CSV table holds; add `flow` (and any options) to analyse it."""
+
+    surface: Surface
+    pressure: Pressure
+    body: Annotated[
+        Body | UnsetType,
+        Meta(description="Axisymmetric with the radii of a `radius` column; absent otherwise"),
+    ] = UNSET
