@@ -218,6 +218,7 @@ def in_progress(server: Server, path: str) -> float:
 # -------------------------------------------------------------------------- overload
 
 
+@pytest.mark.slow
 def test_overload_is_refused_with_retry_after_and_nothing_hangs(tmp_path: Path) -> None:
     """One worker, one analysis at a time, one waiting: of eight slow requests sent at
     once, two are analysed and six are refused at once with 503 and Retry-After."""
@@ -249,6 +250,7 @@ def test_overload_is_refused_with_retry_after_and_nothing_hangs(tmp_path: Path) 
         assert httpx.get(f"{server.base}/health/ready", timeout=10).status_code == 200
 
 
+@pytest.mark.slow
 def test_a_saturated_worker_stays_live_but_not_ready(tmp_path: Path) -> None:
     with serving(tmp_path, workers=1, IBL_COMPUTE_THREADS="1", IBL_MAX_QUEUE="0") as server:
         with httpx.Client(base_url=server.base, timeout=60) as client:
@@ -271,6 +273,7 @@ def test_a_saturated_worker_stays_live_but_not_ready(tmp_path: Path) -> None:
         assert held.status_code == 200
 
 
+@pytest.mark.slow
 def test_a_waiting_analysis_whose_client_left_is_dropped(tmp_path: Path) -> None:
     """One analysis at a time, one waiting: the waiting one's client disconnects, so its
     place is freed at once and it is never analysed."""
@@ -318,6 +321,7 @@ def test_a_waiting_analysis_whose_client_left_is_dropped(tmp_path: Path) -> None
 # ------------------------------------------------------------------------ time limit
 
 
+@pytest.mark.slow
 def test_time_limit_answers_a_problem_not_a_dropped_connection(tmp_path: Path) -> None:
     with serving(tmp_path, workers=1, IBL_TIME_LIMIT_S="0.5") as server:
         with httpx.Client(base_url=server.base, timeout=60) as client:
@@ -369,6 +373,7 @@ def test_unexpected_error_in_a_worker_is_a_500_without_details(tmp_path: Path) -
 # ---------------------------------------------------------------------- dying workers
 
 
+@pytest.mark.slow
 def test_a_killed_worker_is_replaced_and_the_service_keeps_answering(tmp_path: Path) -> None:
     with serving(tmp_path, workers=2) as server:
         before = server.worker_pids()
@@ -432,6 +437,7 @@ def test_gone_processes_lose_their_live_gauges(tmp_path: Path) -> None:
 # --------------------------------------------------------------------------- shutdown
 
 
+@pytest.mark.slow
 def test_sigterm_lets_requests_in_flight_finish(tmp_path: Path) -> None:
     with serving(tmp_path, workers=2) as server:
 

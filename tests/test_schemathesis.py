@@ -31,24 +31,19 @@ from schemathesis.specs.openapi.checks import negative_data_rejection, positive_
 from service.app import create_app
 from service.config import Settings
 
+#: Examples per operation: the full run (marked slow) and the quick one of the default run.
+FULL_EXAMPLES = 100
+QUICK_EXAMPLES = 10
+
 #: Small limits keep generated bodies cheap; time limit generous for slow machines.
 APP = create_app(Settings(max_points=400, max_batch=8, time_limit_s=20.0))
 schema = schemathesis.openapi.from_asgi("/schema/openapi.json", APP)
 schema.config.generation.update(
-    modes=[GenerationMode.POSITIVE, GenerationMode.NEGATIVE], max_examples=100
+    modes=[GenerationMode.POSITIVE, GenerationMode.NEGATIVE], max_examples=FULL_EXAMPLES
 )
 
 
-@hypothesis.seed(20_250_601)
-@hypothesis.settings(
-    deadline=None,
-    max_examples=100,
-    derandomize=True,
-    suppress_health_check=list(hypothesis.HealthCheck),
-    database=None,
-)
-@schema.parametrize()
-def test_api_conforms_to_its_document(case: Any) -> None:
+def _conforms(case: Any) -> None:
     batch = case.operation.path == "/v1/analyses/batch"
     excluded = [positive_data_acceptance, *([negative_data_rejection] if batch else [])]
     response = case.call_and_validate(excluded_checks=excluded)
@@ -60,6 +55,32 @@ def test_api_conforms_to_its_document(case: Any) -> None:
             else response.json()
         )
         assert len(answer["results"]) == len(case.body["cases"])
+
+
+def _settings(examples: int) -> hypothesis.settings:
+    return hypothesis.settings(
+        deadline=None,
+        max_examples=examples,
+        derandomize=True,
+        suppress_health_check=list(hypothesis.HealthCheck),
+        database=None,
+    )
+
+
+@hypothesis.seed(20_250_601)
+@_settings(QUICK_EXAMPLES)
+@schema.parametrize()
+def test_api_conforms_to_its_document_quick(case: Any) -> None:
+    """The checks of the full run below, on fewer examples per operation."""
+    _conforms(case)
+
+
+@pytest.mark.slow
+@hypothesis.seed(20_250_601)
+@_settings(FULL_EXAMPLES)
+@schema.parametrize()
+def test_api_conforms_to_its_document(case: Any) -> None:
+    _conforms(case)
 
 
 @pytest.mark.slow

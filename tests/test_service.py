@@ -1181,6 +1181,7 @@ def _free_port() -> int:
         return port
 
 
+@pytest.mark.slow
 def test_serve_merges_metrics_of_its_workers(tmp_path: Path) -> None:
     """Two worker processes answer scrapes alike: their samples are merged through files."""
     port = _free_port()

@@ -87,7 +87,8 @@ def codes(result: dict[str, Any]) -> list[str]:
 # ------------------------------------------------------- robustness over sizes and penalties
 
 SPANS = [1e-6, 1e-3, 1.0]  # arc length of the data, in the unit of the coordinates
-COUNTS = [5, 20, 10_000, 20_000]
+# 20,000 points in the slow run only (from 10,000 points on, the spline has its most intervals)
+COUNTS = [5, 20, 10_000, pytest.param(20_000, marks=pytest.mark.slow)]
 IN_RANGE = ["auto", 0.0, 1e-12, SMOOTHING_MAX]
 OUT_OF_RANGE = [1.5 * SMOOTHING_MAX, 1.0, 1e12, math.inf]
 

@@ -167,6 +167,7 @@ def test_wrong_case_raises() -> None:
 # ------------------------------------------------------------------------------ cluster
 
 
+@pytest.mark.slow
 def test_local_cluster_gives_the_local_results() -> None:
     distributed = pytest.importorskip("distributed")
     local = sweep(STRUT, "reynolds", RE_VALUES, chunk=2)
