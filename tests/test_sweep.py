@@ -329,7 +329,9 @@ def test_sweep_csv_numbers_read_back_exactly() -> None:
     result = _swept_with_a_failure()
     rows = list(csv.DictReader(io.StringIO(sweep_csv(result))))
     expected: list[tuple[float, SidePositions | None]] = [
-        (point.value, side) for point in result.points for side in point.sides or [None]
+        (point.value, side)
+        for point in result.points
+        for side in (point.sides if point.sides else [None])
     ]
     assert len(rows) == len(expected)
     numeric = 0
