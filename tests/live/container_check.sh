@@ -207,7 +207,10 @@ printf '    %d processes, none as root (uid %s inside and on the host)\n' "${#pi
 
 step "stop"
 podman stop --time 30 "$container" >/dev/null
-podman logs "$container" 2>&1 | grep -q "Finished server process" \
-    || { podman logs "$container" | tail -n 20; echo "no clean shutdown" >&2; exit 1; }
+# The logs are read whole first: with pipefail, `grep -q` closing the pipe early would fail
+# the pipeline by the writer's SIGPIPE although the line is there.
+logs="$(podman logs "$container" 2>&1)"
+grep -q "Finished server process" <<<"$logs" \
+    || { tail -n 20 <<<"$logs"; echo "no clean shutdown" >&2; exit 1; }
 step "cleanup"
 echo "container check: PASS"
