@@ -574,7 +574,8 @@ def _add_case_flags(
             "--format",
             choices=["text", "csv", "json"],
             default="text",
-            help="text table, CSV table or JSON document",
+            help="text table, CSV table (plain CSV on stdout, units in the header names; case, "
+            "units rule and caution on stderr) or JSON document",
         )
         for name, text in _SWEEPABLE.items():
             parser.add_argument(
@@ -813,7 +814,7 @@ def _sweep_range(args: argparse.Namespace) -> tuple[str, list[float]]:
 
 def _sweep(args: argparse.Namespace) -> int:
     """``ibl sweep``."""
-    from ibl.sweep import sweep, sweep_csv, sweep_text
+    from ibl.sweep import sweep, sweep_csv, sweep_notes, sweep_text
 
     try:
         fmt = _plot_format(args.plot)
@@ -847,7 +848,9 @@ def _sweep(args: argparse.Namespace) -> int:
     if args.format == "json":
         sys.stdout.write(msgspec.json.encode(result).decode() + "\n")
     elif args.format == "csv":
+        # The table alone on stdout, for plain CSV readers; what it does not say, on stderr.
         sys.stdout.write(sweep_csv(result, units=units))
+        sys.stderr.write(sweep_notes(result, units=units))
     else:
         print(sweep_text(result, units=units))
     if args.plot is not None and fmt is not None:

@@ -9,7 +9,12 @@ Contents
 - ``sweep(case_doc, variable, values, *, scheduler, chunk, progress)``: the swept cases run
   through ``ibl.run_batch`` in chunks, locally or on a dask.distributed cluster; returns a
   ``Sweep``: transition, laminar separation and separation on each side at every value.
-- ``sweep_text(sweep, units)``, ``sweep_csv(sweep, units)``: readable and CSV tables.
+- ``sweep_text(sweep, units)``, ``sweep_csv(sweep, units)``: readable and CSV tables. The
+  CSV is plain: its first line is the header row, units in brackets in the header names
+  (``separation_s [m]``, ``reynolds [-]``), as in ``ibl.table``.
+- ``sweep_csv_header(sweep, units)``: the header names of that CSV.
+- ``sweep_notes(sweep, units)``: what the CSV does not hold (case, units rule, column
+  meanings, caution), as ``#`` lines; the CLI writes them to stderr beside the table.
 - ``variable_label(variable, unit)``: the swept quantity's label with its unit.
 
 Lengths follow ``ibl.units.length_unit`` of the swept case; ``Sweep.length_unit`` says which.
@@ -50,6 +55,8 @@ __all__ = [
     "set_variable",
     "sweep",
     "sweep_csv",
+    "sweep_csv_header",
+    "sweep_notes",
     "sweep_text",
     "variable_label",
 ]
@@ -71,6 +78,8 @@ class VariableInfo:
     high: float
     high_open: bool = False
     name: str = ""
+    #: Unit of the value: ``-`` dimensionless, ``L`` the length unit of the case.
+    unit: str = "-"
 
 
 VARIABLES: dict[str, VariableInfo] = {
@@ -94,6 +103,7 @@ VARIABLES: dict[str, VariableInfo] = {
         0.0,
         math.inf,
         name="trip position on the upper side",
+        unit="L",
     ),
     "trip_lower": VariableInfo(
         "trip position on the lower side, s [{unit}]",
@@ -101,6 +111,7 @@ VARIABLES: dict[str, VariableInfo] = {
         0.0,
         math.inf,
         name="trip position on the lower side",
+        unit="L",
     ),
     "trip": VariableInfo(
         "trip position on the surface, s [{unit}]",
@@ -108,6 +119,7 @@ VARIABLES: dict[str, VariableInfo] = {
         0.0,
         math.inf,
         name="trip position on the surface",
+        unit="L",
     ),
 }
 
@@ -473,24 +485,86 @@ def _cell(value: Any) -> str:
     return str(value)
 
 
-def sweep_csv(result: Sweep, *, units: str | None = None) -> str:
-    """The sweep as a long CSV table: one row per value and side (one row for a failed case).
-    ``units`` defaults to the sweep's ``length_unit``."""
+#: The unit in each column's header name: ``L`` the length unit of the case, ``-``
+#: dimensionless, ``None`` a text column; the value column takes the swept variable's unit.
+CSV_UNITS: dict[str, str | None] = {
+    "side": None,
+    "transition_s": "L",
+    "transition_x": "L",
+    "transition_cause": None,
+    "laminar_separation_s": "L",
+    "laminar_separation_x": "L",
+    "bubble": None,
+    "separation_s": "L",
+    "separation_x": "L",
+    "separation_regime": None,
+    "pressure_plateau_s": "L",
+    "min_lambda": "-",
+    "max_shape_factor": "-",
+    "last_station_s": "L",
+    "error": None,
+}
+
+
+def _header_name(column: str, unit: str | None, units: str) -> str:
+    if unit is None:
+        return column
+    return f"{column} [{units if unit == 'L' else unit}]"
+
+
+def sweep_csv_header(result: Sweep, *, units: str | None = None) -> list[str]:
+    """The header row of ``sweep_csv``: the swept variable, then ``CSV_COLUMNS[1:]``, each
+    name followed by one space and its unit in square brackets (none for text columns), as
+    in the station table (``ibl.table.header_name``).
+
+    >>> swept = Sweep(name=None, variable="trip_upper", label="", points=[], length_unit="m")
+    >>> sweep_csv_header(swept)[:3]
+    ['trip_upper [m]', 'side', 'transition_s [m]']
+    >>> sweep_csv_header(swept)[-3:]
+    ['max_shape_factor [-]', 'last_station_s [m]', 'error']
+    """
     unit = units or result.length_unit
-    buffer = io.StringIO()
-    buffer.write(
-        f"# ibl sweep of the {_quantity(result)}: column {result.variable} = {result.label}\n"
-        f"# case: {result.name or '(unnamed)'}\n"
-        f"# {lengths_note(unit)} s: arc length from the stagnation point or leading edge of "
-        "each side; empty: the event does not occur\n"
+    info = VARIABLES.get(result.variable)
+    return [
+        _header_name(result.variable, info.unit if info is not None else None, unit),
+        *(_header_name(column, CSV_UNITS[column], unit) for column in CSV_COLUMNS[1:]),
+    ]
+
+
+def sweep_notes(result: Sweep, *, units: str | None = None) -> str:
+    """What a reader of ``sweep_csv`` should know and the table does not hold: the swept
+    quantity, the case, the units rule, what the columns mean, the caution.
+
+    One statement a line, each starting with ``# ``; the CLI writes them to stderr, so that
+    the CSV on stdout stays plain.
+    """
+    unit = units or result.length_unit
+    lines = [
+        f"# ibl sweep of the {_quantity(result)}: first column {result.variable} = "
+        f"{result.label}; one row per value and side (one row with `error` for a case that "
+        "could not be run)",
+        f"# case: {result.name or '(unnamed)'}",
+        f"# {lengths_note(unit)} Header names carry the unit in brackets "
+        f"(`separation_s [{unit}]`; `-` dimensionless). s: arc length from the stagnation "
+        "point or leading edge of each side; empty: the event does not occur",
         "# pressure_plateau_s: onset of a constant-pressure (separated) region in the input; "
         "min_lambda: smallest Thwaites lambda over the laminar stations; max_shape_factor: "
-        "largest H over the turbulent stations\n"
-        f"# {_LAST_STATION}\n"
-        f"# CAUTION: {CAUTION}\n"
-    )
+        "largest H over the turbulent stations",
+        f"# {_LAST_STATION}",
+        f"# CAUTION: {CAUTION}",
+    ]
+    return "\n".join(lines) + "\n"
+
+
+def sweep_csv(result: Sweep, *, units: str | None = None) -> str:
+    """The sweep as a long CSV table: the header row (``sweep_csv_header``) first, then one
+    row per value and side (one row for a failed case, with its ``error``). Nothing else:
+    what the table does not say is in ``sweep_notes``. Numbers are written with Python's
+    shortest round-trip representation, so reading them back gives the very same floats.
+    ``units`` defaults to the sweep's ``length_unit``."""
+    buffer = io.StringIO()
     writer = csv.writer(buffer, lineterminator="\n")
-    writer.writerow((result.variable, *CSV_COLUMNS[1:]))
+    writer.writerow(sweep_csv_header(result, units=units))
     for point in result.points:
         if point.error is not None:
             writer.writerow([_cell(point.value)] + [""] * (len(CSV_COLUMNS) - 2) + [point.error])

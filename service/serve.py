@@ -106,7 +106,8 @@ def main(argv: Sequence[str] | None = None) -> int:
         import uvicorn
     except ImportError:
         print(
-            "ibl serve: the service is not installed: pip install 'ibl[service]'", file=sys.stderr
+            "ibl serve: uvicorn is missing; reinstall the package: pip install ibl-estimator",
+            file=sys.stderr,
         )
         return 2
     ours = _prepare_metrics_dir()

@@ -20,7 +20,7 @@ from similarity import surface_case
 import ibl
 from ibl.cli import BUBBLE_SIMPLIFICATION, _parser, chord_position, summary
 from ibl.figures import build, build_sweep
-from ibl.sweep import sweep, sweep_csv, sweep_text
+from ibl.sweep import sweep, sweep_csv, sweep_notes, sweep_text
 from ibl.table import stations_csv, stations_notes
 from ibl.units import COORDINATE_UNIT, METRE, length_unit, lengths_note
 
@@ -130,7 +130,8 @@ def test_one_length_rule_in_every_output(case: dict[str, Any], unit: str) -> Non
     swept = sweep(case, "reynolds", [2e5, 4e5])
     assert swept.length_unit == unit
     assert note in sweep_text(swept).replace("\n", " ")
-    assert note in sweep_csv(swept)
+    assert note in sweep_notes(swept)
+    assert f"separation_s [{unit}]" in sweep_csv(swept).splitlines()[0]
     labels = {ax.get_xlabel() for ax in build(result, units=unit).axes}
     assert f"s [{unit}]" in labels
     assert f"s [{unit}]" in build_sweep(swept).axes[0].get_ylabel()
@@ -155,7 +156,7 @@ def test_swept_reynolds_number_names_its_length(case: dict[str, Any], unit: str)
     document = json.loads(json.dumps(__import__("msgspec").to_builtins(swept)))
     assert document["label"] == swept.label and document["length_unit"] == unit
     text = sweep_text(swept)
-    assert "per unit length" not in text + sweep_csv(swept)
+    assert "per unit length" not in text + sweep_csv(swept) + sweep_notes(swept)
     assert text.startswith("Sweep of the Reynolds number") and "Sweep of reynolds" not in text
     fig = build_sweep(swept)
     assert all(ax.get_xlabel() == swept.label for ax in fig.axes if ax.get_xlabel())
@@ -173,11 +174,10 @@ def test_last_station_is_named_and_documented() -> None:
     swept = sweep(STRUT, "reynolds", [1.2e6])
     upper = swept.points[0].sides[0]
     assert upper.separation_s is not None and upper.separation_s > upper.last_station_s
-    table = sweep_csv(swept)
-    comments = [line for line in table.splitlines() if line.startswith("#")]
-    header = next(line for line in table.splitlines() if not line.startswith("#"))
-    assert "last_station_s" in header.split(",") and "end_s" not in header.split(",")
-    assert any(line.startswith("# last_station_s:") and "beyond" in line for line in comments)
+    header = sweep_csv(swept).splitlines()[0].split(",")
+    assert "last_station_s [m]" in header and not any(n.startswith("end_s") for n in header)
+    notes = sweep_notes(swept).splitlines()
+    assert any(line.startswith("# last_station_s:") and "beyond" in line for line in notes)
     assert "`last_station_s`" in README
 
 

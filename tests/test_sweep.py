@@ -17,7 +17,18 @@ import pytest
 import ibl
 from ibl.analysis import CAUTION
 from ibl.cli import main
-from ibl.sweep import Sweep, SweepPoint, parse_range, run_chunk, set_variable, sweep, sweep_csv
+from ibl.sweep import (
+    CSV_COLUMNS,
+    SidePositions,
+    Sweep,
+    SweepPoint,
+    parse_range,
+    run_chunk,
+    set_variable,
+    sweep,
+    sweep_csv,
+    sweep_notes,
+)
 
 EXAMPLE = Path(__file__).resolve().parents[1] / "examples" / "strut.json"
 STRUT = json.loads(EXAMPLE.read_text())
@@ -202,8 +213,13 @@ def test_cli_sweep_csv_and_json_agree(capsys: pytest.CaptureFixture[str]) -> Non
     doc = json.loads(capsys.readouterr().out)
     assert doc["caution"] == CAUTION and doc["variable"] == "reynolds"
     assert main([*args, "--format", "csv"]) == 0
-    text = capsys.readouterr().out
-    rows = list(csv.DictReader(line for line in io.StringIO(text) if not line.startswith("#")))
+    text, notes = capsys.readouterr()
+    # The table alone on stdout, read as it is; the notes on stderr.
+    assert not any(line.startswith("#") for line in text.splitlines())
+    assert (
+        notes.startswith("# ibl sweep of the Reynolds number") and f"# CAUTION: {CAUTION}" in notes
+    )
+    rows = list(csv.DictReader(io.StringIO(text)))
     expected = [
         (point["value"], side["side"], side["transition_s"], side["separation_s"])
         for point in doc["points"]
@@ -211,10 +227,10 @@ def test_cli_sweep_csv_and_json_agree(capsys: pytest.CaptureFixture[str]) -> Non
     ]
     got = [
         (
-            float(row["reynolds"]),
+            float(row["reynolds [-]"]),
             row["side"],
-            float(row["transition_s"]) if row["transition_s"] else None,
-            float(row["separation_s"]) if row["separation_s"] else None,
+            float(row["transition_s [m]"]) if row["transition_s [m]"] else None,
+            float(row["separation_s [m]"]) if row["separation_s [m]"] else None,
         )
         for row in rows
     ]
@@ -252,10 +268,98 @@ def test_sweep_csv_marks_failed_points() -> None:
         label="Re",
         points=msgspec.convert(run_chunk(STRUT, "reynolds", [1e6, -1.0]), list[SweepPoint]),
     )
-    rows = [line for line in sweep_csv(result).splitlines() if not line.startswith("#")]
+    rows = sweep_csv(result).splitlines()
     failed = [row for row in rows[1:] if row.startswith("-1.0,")]
     assert len(failed) == 1 and "/flow/reynolds" in failed[0]
     assert not any(math.isnan(float(row.split(",")[0])) for row in rows[1:])
+
+
+#: Header of the sweep CSV of a Reynolds-number sweep of a case in metres: the documented
+#: format (README, "Sweeps"), written out here rather than taken from the code.
+REYNOLDS_HEADER_M = [
+    "reynolds [-]",
+    "side",
+    "transition_s [m]",
+    "transition_x [m]",
+    "transition_cause",
+    "laminar_separation_s [m]",
+    "laminar_separation_x [m]",
+    "bubble",
+    "separation_s [m]",
+    "separation_x [m]",
+    "separation_regime",
+    "pressure_plateau_s [m]",
+    "min_lambda [-]",
+    "max_shape_factor [-]",
+    "last_station_s [m]",
+    "error",
+]
+
+
+def _swept_with_a_failure() -> Sweep:
+    # Values with long decimal expansions, and a case that cannot be run (a negative Re).
+    values = [1.0 / 3.0 * 1e6, 2.0**0.5 * 1e6, -1.0]
+    return Sweep(
+        name="strut",
+        variable="reynolds",
+        label="Re",
+        points=msgspec.convert(run_chunk(STRUT, "reynolds", values), list[SweepPoint]),
+        length_unit="m",
+    )
+
+
+def test_sweep_csv_is_plain_csv_that_dictreader_reads() -> None:
+    """Python's csv.DictReader takes the first line as the column names (Python library
+    reference, csv.DictReader): the first line must be the header row, no comment above it."""
+    result = _swept_with_a_failure()
+    text = sweep_csv(result)
+    assert not text.startswith("#") and "\n#" not in text
+    reader = csv.DictReader(io.StringIO(text))
+    rows = list(reader)
+    assert reader.fieldnames == REYNOLDS_HEADER_M
+    assert len(rows) == 2 * 2 + 1  # two sides at each good value, one row for the failure
+    assert all(None not in row and len(row) == len(REYNOLDS_HEADER_M) for row in rows)
+    assert rows[-1]["side"] == "" and "/flow/reynolds" in rows[-1]["error"]
+    assert "# CAUTION: " in sweep_notes(result) and "case: strut" in sweep_notes(result)
+
+
+def test_sweep_csv_numbers_read_back_exactly() -> None:
+    """float(repr(x)) == x for every finite double (Python's shortest round-trip repr, the
+    Python language reference on float.__repr__): every number read back by DictReader and
+    float() is the very float of the sweep, and every empty cell a None."""
+    result = _swept_with_a_failure()
+    rows = list(csv.DictReader(io.StringIO(sweep_csv(result))))
+    expected: list[tuple[float, SidePositions | None]] = [
+        (point.value, side)
+        for point in result.points
+        for side in (point.sides if point.sides else [None])
+    ]
+    assert len(rows) == len(expected)
+    numeric = 0
+    for row, (value, side) in zip(rows, expected, strict=True):
+        assert float(row["reynolds [-]"]) == value
+        if side is None:
+            continue
+        for column, name in zip(CSV_COLUMNS[1:-1], REYNOLDS_HEADER_M[1:-1], strict=True):
+            wanted = getattr(side, column)
+            if isinstance(wanted, float):
+                assert float(row[name]) == wanted, (column, row[name], wanted)
+                numeric += 1
+            else:
+                assert row[name] == ("" if wanted is None else wanted), column
+    assert numeric > 10
+
+
+def test_sweep_csv_header_units_follow_the_case() -> None:
+    """A trip position is a length, in the unit of the case (README, "Units of length"):
+    metres here (the strut gives speed and viscosity), the coordinate unit for a plate
+    given by a Reynolds number."""
+    strut = sweep(STRUT, "trip_upper", [0.02])
+    assert sweep_csv(strut).splitlines()[0].startswith("trip_upper [m],side,transition_s [m],")
+    plate = sweep(_plate(), "turbulence_intensity", [0.01])
+    header = next(csv.reader(io.StringIO(sweep_csv(plate))))
+    assert header[0] == "turbulence_intensity [-]"
+    assert "separation_s [coordinate unit]" in header
 
 
 def test_progress_bar_goes_to_stderr_only_when_asked(capsys: pytest.CaptureFixture[str]) -> None:

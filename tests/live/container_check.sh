@@ -5,8 +5,8 @@
 #   2. lints the Dockerfile with hadolint,
 #   3. builds a Debian bookworm base with debootstrap (minbase, python3, python3-venv,
 #      ca-certificates) and imports it as a local image,
-#   4. downloads the pinned wheels on the host, so that pip inside the build needs neither
-#      the network nor a CA bundle,
+#   4. downloads the wheels of requirements/container.lock on the host (hashes checked), so
+#      that pip inside the build needs neither the network nor a CA bundle,
 #   5. builds the image (chroot isolation, overlay storage in a temporary folder),
 #   6. runs it with runc on 127.0.0.1 and checks: /health/live answers, an analysis
 #      answers, and no process of the container runs as root,
@@ -126,20 +126,18 @@ tar -C "$work/rootfs" --one-file-system -c . | podman import --quiet - localhost
 remove_tree "$work/rootfs"
 podman run --rm localhost/ibl-base:check python3 --version
 
-step "wheels: the Dockerfile's pins, downloaded on the host"
+step "wheels: requirements/container.lock, downloaded on the host"
 context="$work/context"
 mkdir -p "$context"
-cp -r Dockerfile .dockerignore pyproject.toml README.md ibl service "$context/"
+cp -r Dockerfile .dockerignore pyproject.toml README.md requirements ibl service "$context/"
 find "$context" -name __pycache__ -prune -exec rm -rf {} +
-mapfile -t pins < <(sed -n 's/^ \{8\}\([A-Za-z0-9_.-]*==[^ \\]*\).*/\1/p' Dockerfile)
-((${#pins[@]} > 10)) || { echo "no pins found in the Dockerfile" >&2; exit 1; }
 platforms=()
 for minor in $(seq 17 36); do  # bookworm has glibc 2.36
     platforms+=(--platform "manylinux_2_${minor}_$(uname -m)")
 done
 python3 -m pip download --quiet --no-deps --only-binary=:all: --dest "$context/wheelhouse" \
     --retries 5 --implementation cp --python-version 3.11 --abi cp311 "${platforms[@]}" \
-    --platform "manylinux2014_$(uname -m)" "${pins[@]}" 2>"$work/pip.log" \
+    --platform "manylinux2014_$(uname -m)" -r requirements/container.lock 2>"$work/pip.log" \
     || { cat "$work/pip.log"; exit 1; }
 printf '    %d wheels\n' "$(find "$context/wheelhouse" -name '*.whl' | wc -l)"
 
@@ -209,7 +207,10 @@ printf '    %d processes, none as root (uid %s inside and on the host)\n' "${#pi
 
 step "stop"
 podman stop --time 30 "$container" >/dev/null
-podman logs "$container" 2>&1 | grep -q "Finished server process" \
-    || { podman logs "$container" | tail -n 20; echo "no clean shutdown" >&2; exit 1; }
+# The logs are read whole first: with pipefail, `grep -q` closing the pipe early would fail
+# the pipeline by the writer's SIGPIPE although the line is there.
+logs="$(podman logs "$container" 2>&1)"
+grep -q "Finished server process" <<<"$logs" \
+    || { tail -n 20 <<<"$logs"; echo "no clean shutdown" >&2; exit 1; }
 step "cleanup"
 echo "container check: PASS"
