@@ -47,7 +47,7 @@ USER 10001:10001
 WORKDIR /home/ibl
 # Compile the library's kernels once now, so that workers start in seconds, and build
 # matplotlib's font cache, so that the first figure does not wait for it.
-RUN python -c "import service.app as app; app.warm_up(); import matplotlib.font_manager"
+RUN python -c "import ibl_service.app as app; app.warm_up(); import matplotlib.font_manager"
 EXPOSE 8000
 HEALTHCHECK --interval=30s --timeout=5s --start-period=60s --retries=3 \
     CMD ["python", "-c", "import os, urllib.request as u; u.urlopen('http://127.0.0.1:' + os.environ.get('IBL_PORT', '8000') + '/health/live', timeout=4)"]

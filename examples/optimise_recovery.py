@@ -175,9 +175,20 @@ def own_server() -> Iterator[str]:
         sock.bind(("127.0.0.1", 0))
         port = sock.getsockname()[1]
     env = dict(
-        os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), os.environ.get("PYTHONPATH", "")])
+        os.environ,
+        PYTHONPATH=os.pathsep.join(
+            [str(ROOT), str(ROOT / "service"), os.environ.get("PYTHONPATH", "")]
+        ),
     )
-    command = [sys.executable, "-m", "service.serve", "--host", "127.0.0.1", "--port", str(port)]
+    command = [
+        sys.executable,
+        "-m",
+        "ibl_service.serve",
+        "--host",
+        "127.0.0.1",
+        "--port",
+        str(port),
+    ]
     process = subprocess.Popen(
         [*command, "--workers", "1"],
         cwd=ROOT,

@@ -884,7 +884,7 @@ def main(argv: list[str] | None = None) -> int:
     """Entry point of the ``ibl`` command."""
     argv = list(sys.argv[1:] if argv is None else argv)
     if argv and argv[0] == "serve":
-        from service.serve import main as serve
+        from ibl_service.serve import main as serve
 
         return serve(argv[1:])
     args = _parser().parse_args(argv)

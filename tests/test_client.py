@@ -53,8 +53,10 @@ def server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
     """One ``ibl serve`` worker on 127.0.0.1; its base URL."""
     port = free_port()
     log = tmp_path_factory.mktemp("client") / "server.log"
-    environ = dict(os.environ, PYTHONPATH=str(ROOT), IBL_WORKERS="1")
-    command = [sys.executable, "-m", "service.serve", "--host", HOST, "--port", str(port)]
+    environ = dict(
+        os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), str(ROOT / "service")]), IBL_WORKERS="1"
+    )
+    command = [sys.executable, "-m", "ibl_service.serve", "--host", HOST, "--port", str(port)]
     with log.open("wb") as sink:
         process = subprocess.Popen(
             [*command, "--workers", "1"], cwd=ROOT, env=environ, stdout=sink, stderr=sink

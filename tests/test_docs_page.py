@@ -15,8 +15,8 @@ from typing import Any
 import pytest
 from litestar.testing import TestClient
 
-from service.app import create_app
-from service.config import Settings
+from ibl_service.app import create_app
+from ibl_service.config import Settings
 
 #: Media type by file suffix (the registrations named above).
 EXPECTED = {".js": "text/javascript", ".css": "text/css", ".png": "image/png"}

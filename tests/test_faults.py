@@ -35,12 +35,12 @@ import psutil
 import pytest
 
 from ibl import CaseError, FieldProblem
-from service import openapi
-from service.app import create_app
-from service.config import Settings
-from service.errors import OVERLOADED, TIME_LIMIT, bounded_problem, problem_from_case_error
-from service.metrics import forget_gone_processes
-from service.wire import MAX_DETAIL, MAX_ERRORS, MAX_REASON, FieldError, Problem
+from ibl_service import openapi
+from ibl_service.app import create_app
+from ibl_service.config import Settings
+from ibl_service.errors import OVERLOADED, TIME_LIMIT, bounded_problem, problem_from_case_error
+from ibl_service.metrics import forget_gone_processes
+from ibl_service.wire import MAX_DETAIL, MAX_ERRORS, MAX_REASON, FieldError, Problem
 
 ROOT = Path(__file__).resolve().parents[1]
 HOST = "127.0.0.1"
@@ -168,13 +168,13 @@ def serving(tmp_path: Path, workers: int = 2, **env: str) -> Iterator[Server]:
     port = free_port()
     environ = dict(
         os.environ,
-        PYTHONPATH=os.pathsep.join([str(site), str(ROOT)]),
+        PYTHONPATH=os.pathsep.join([str(site), str(ROOT), str(ROOT / "service")]),
         IBL_TEST_MARKERS=str(markers),
         PROMETHEUS_MULTIPROC_DIR=str(metrics),
         **env,
     )
     log = tmp_path / "server.log"
-    command = [sys.executable, "-m", "service.serve", "--host", HOST, "--port", str(port)]
+    command = [sys.executable, "-m", "ibl_service.serve", "--host", HOST, "--port", str(port)]
     with log.open("wb") as sink:
         process = subprocess.Popen(
             [*command, "--workers", str(workers)],

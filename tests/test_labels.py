@@ -9,7 +9,7 @@ from ibl import registry
 from ibl.analysis import CAUTION
 from ibl.cli import main
 from ibl.validation import report_text, validate
-from service.openapi import COMMITTED
+from ibl_service.openapi import COMMITTED
 
 
 def test_one_caution_text_everywhere(capsys) -> None:

@@ -18,10 +18,10 @@ from litestar.testing import TestClient
 
 import ibl.registry
 from ibl.schema import Case
-from service.app import create_app
-from service.catalogue import MethodCatalogue
-from service.codec import finite_or_none
-from service.config import Settings
+from ibl_service.app import create_app
+from ibl_service.catalogue import MethodCatalogue
+from ibl_service.codec import finite_or_none
+from ibl_service.config import Settings
 
 #: First eight bytes of every PNG file (PNG specification, ISO/IEC 15948, section 5.2).
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"

@@ -24,9 +24,9 @@ from litestar.testing import TestClient
 import ibl
 from ibl.analysis import CAUTION
 from ibl.table import header_name, read_stations
-from service.app import create_app
-from service.config import Settings
-from service.page import ASSET_DIR, ASSET_TYPES, DEMO
+from ibl_service.app import create_app
+from ibl_service.config import Settings
+from ibl_service.page import ASSET_DIR, ASSET_TYPES, DEMO
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -150,7 +150,7 @@ def test_page_routes_stay_out_of_the_document(client: TestClient[Any]) -> None:
 def test_assets_are_package_data() -> None:
     """Installed (not only in a checkout) the package carries every file the page serves."""
     config = tomllib.loads((ROOT / "pyproject.toml").read_text())
-    listed = config["tool"]["setuptools"]["package-data"]["service.page"]
+    listed = config["tool"]["setuptools"]["package-data"]["ibl_service.page"]
     assert sorted(listed) == sorted(["index.html", *ASSET_TYPES])
 
 

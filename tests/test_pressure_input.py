@@ -16,8 +16,8 @@ from litestar.testing import TestClient
 import ibl
 from ibl.cli import main
 from ibl.prepare import GAMMA, cp_from_pressure
-from service.app import create_app
-from service.config import Settings
+from ibl_service.app import create_app
+from ibl_service.config import Settings
 
 EXAMPLES = Path(__file__).resolve().parents[1] / "examples"
 

@@ -28,8 +28,8 @@ import schemathesis_hooks
 from schemathesis.generation import GenerationMode
 from schemathesis.specs.openapi.checks import negative_data_rejection, positive_data_acceptance
 
-from service.app import create_app
-from service.config import Settings
+from ibl_service.app import create_app
+from ibl_service.config import Settings
 
 #: Examples per operation: the full run (marked slow) and the quick one of the default run.
 FULL_EXAMPLES = 100

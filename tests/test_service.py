@@ -25,20 +25,20 @@ from litestar.testing import TestClient
 
 import ibl
 from ibl.schema import Result
-from service import codec, openapi
-from service.app import create_app
-from service.config import Settings
-from service.errors import (
+from ibl_service import codec, openapi
+from ibl_service.app import create_app
+from ibl_service.config import Settings
+from ibl_service.errors import (
     CLIENT_CLOSED,
     NOT_ACCEPTABLE,
     OVERLOADED,
     TIME_LIMIT,
     ProblemError,
 )
-from service.runner import Runner
-from service.serve import build_parser
-from service.serve import main as serve_main
-from service.wire import Problem
+from ibl_service.runner import Runner
+from ibl_service.serve import build_parser
+from ibl_service.serve import main as serve_main
+from ibl_service.wire import Problem
 
 PROBLEM_JSON = "application/problem+json"
 
@@ -253,7 +253,9 @@ def test_openapi_served_equals_committed(client: TestClient[Any]) -> None:
     served = client.get("/schema/openapi.json")
     assert served.status_code == 200
     committed = json.loads(openapi.COMMITTED.read_text(encoding="utf-8"))
-    assert served.json() == committed, "stale openapi/openapi.json: run python -m service.openapi"
+    assert served.json() == committed, (
+        "stale openapi/openapi.json: run python -m ibl_service.openapi"
+    )
 
 
 def test_openapi_document_is_complete(client: TestClient[Any]) -> None:
@@ -1188,7 +1190,15 @@ def test_serve_merges_metrics_of_its_workers(tmp_path: Path) -> None:
     base = f"http://127.0.0.1:{port}"
     folder = tmp_path / "metrics"
     env = dict(os.environ, PROMETHEUS_MULTIPROC_DIR=str(folder), IBL_MAX_BATCH="5")
-    command = [sys.executable, "-m", "service.serve", "--host", "127.0.0.1", "--port", str(port)]
+    command = [
+        sys.executable,
+        "-m",
+        "ibl_service.serve",
+        "--host",
+        "127.0.0.1",
+        "--port",
+        str(port),
+    ]
     log = tmp_path / "server.log"
     with log.open("wb") as sink:
         server = subprocess.Popen(

@@ -21,8 +21,8 @@ from litestar.testing import TestClient
 import ibl
 from ibl import smoothing
 from ibl.schema import SMOOTHING_MAX
-from service.app import create_app
-from service.config import Settings
+from ibl_service.app import create_app
+from ibl_service.config import Settings
 
 HERE = Path(__file__).parent
 MSGPACK = "application/msgpack"

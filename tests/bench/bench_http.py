@@ -74,7 +74,7 @@ def free_port() -> int:
 
 
 def server_command(server: str, port: int, workers: int) -> list[str]:
-    target = "service.app:create_app"
+    target = "ibl_service.app:create_app"
     if server == "uvicorn":
         return [
             sys.executable,
@@ -117,7 +117,7 @@ def server_command(server: str, port: int, workers: int) -> list[str]:
     return [
         sys.executable,
         "-m",
-        "service.serve",
+        "ibl_service.serve",
         "--host",
         HOST,
         "--port",
@@ -231,7 +231,11 @@ def main() -> int:
     port = free_port()
     base = f"http://{HOST}:{port}"
     with tempfile.TemporaryDirectory(prefix="ibl-bench-") as tmp:
-        env = dict(os.environ, PYTHONPATH=str(ROOT), IBL_MAX_BATCH=str(max(1000, args.batch)))
+        env = dict(
+            os.environ,
+            PYTHONPATH=os.pathsep.join([str(ROOT), str(ROOT / "service")]),
+            IBL_MAX_BATCH=str(max(1000, args.batch)),
+        )
         if args.server != "serve":
             env["PROMETHEUS_MULTIPROC_DIR"] = tmp
         body_file = Path(tmp) / "case.json"

@@ -1,7 +1,7 @@
 """Drive a live server with the Python client generated from ``openapi/openapi.json``.
 
 Run by ``tests/live/clients_check.sh`` in a virtual environment where the generated
-package ``ibl_client`` is installed (it does not import ``ibl``): starts ``service.serve``
+package ``ibl_client`` is installed (it does not import ``ibl``): starts ``ibl_service.serve``
 with ``--server-python`` (an interpreter that has ``ibl`` and the service) on 127.0.0.1
 and a free port, then, through the generated client only:
 
@@ -204,7 +204,7 @@ def main(argv: list[str] | None = None) -> int:
     args = parser.parse_args(argv)
     port = free_port()
     base = f"http://{HOST}:{port}"
-    command = [args.server_python, "-m", "service.serve", "--host", HOST, "--port", str(port)]
+    command = [args.server_python, "-m", "ibl_service.serve", "--host", HOST, "--port", str(port)]
     with tempfile.TemporaryDirectory() as tmp:
         log = Path(tmp) / "server.log"
         with log.open("wb") as sink:

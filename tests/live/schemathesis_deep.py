@@ -134,8 +134,13 @@ def main() -> int:
     failed, elapsed = True, 0.0
     with tempfile.TemporaryDirectory(prefix="ibl-st-") as tmp:
         log = Path(tmp) / "server.log"
-        env = dict(os.environ, PYTHONPATH=str(ROOT), IBL_MAX_POINTS="400", IBL_MAX_BATCH="8")
-        command = [sys.executable, "-m", "service.serve", "--host", HOST, "--port", str(port)]
+        env = dict(
+            os.environ,
+            PYTHONPATH=os.pathsep.join([str(ROOT), str(ROOT / "service")]),
+            IBL_MAX_POINTS="400",
+            IBL_MAX_BATCH="8",
+        )
+        command = [sys.executable, "-m", "ibl_service.serve", "--host", HOST, "--port", str(port)]
         with log.open("wb") as sink:
             server = subprocess.Popen(
                 [*command, "--workers", "2"], cwd=ROOT, env=env, stdout=sink, stderr=sink

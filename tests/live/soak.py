@@ -74,8 +74,16 @@ class Server:
         self.base = f"http://{HOST}:{self.port}"
         self.workers = workers
         self.log = folder / "server.log"
-        env = dict(os.environ, PYTHONPATH=str(ROOT))
-        command = [sys.executable, "-m", "service.serve", "--host", HOST, "--port", str(self.port)]
+        env = dict(os.environ, PYTHONPATH=os.pathsep.join([str(ROOT), str(ROOT / "service")]))
+        command = [
+            sys.executable,
+            "-m",
+            "ibl_service.serve",
+            "--host",
+            HOST,
+            "--port",
+            str(self.port),
+        ]
         with self.log.open("wb") as sink:
             self.process = subprocess.Popen(
                 [*command, "--workers", str(workers)],

@@ -33,15 +33,15 @@ import msgspec.inspect as mi
 import ibl
 from ibl.errors import msgspec_path_to_pointer
 from ibl.schema import Case, Notice, Result, Side
-from service.config import Settings
-from service.errors import (
+from ibl_service.config import Settings
+from ibl_service.errors import (
     INVALID_REQUEST,
     MALFORMED_JSON,
     MALFORMED_MSGPACK,
     NOT_ACCEPTABLE,
     ProblemError,
 )
-from service.wire import BatchEnvelope, FieldError
+from ibl_service.wire import BatchEnvelope, FieldError
 
 __all__ = [
     "BODY_MEDIA_TYPES",

@@ -10,7 +10,7 @@ included (``additionalProperties: false``).
 Every request body, and the answer of the analysis endpoints, is offered as JSON and as
 MessagePack (the same document; ``Content-Type`` and ``Accept`` choose).
 
-Regenerate the committed copy with ``python -m service.openapi``; ``--check``
+Regenerate the committed copy with ``python -m ibl_service.openapi``; ``--check``
 exits non-zero when it is stale.
 """
 
@@ -32,12 +32,12 @@ from ibl.analysis import CAUTION as RESULT_CAUTION
 if TYPE_CHECKING:
     from litestar import Litestar, Request
 
-    from service.config import Settings
+    from ibl_service.config import Settings
 
 __all__ = ["CAUTION", "COMMITTED", "ServiceJsonRenderPlugin", "document", "main", "to_text"]
 
 #: Where the committed copy lives.
-COMMITTED = Path(__file__).resolve().parents[1] / "openapi" / "openapi.json"
+COMMITTED = Path(__file__).resolve().parents[2] / "openapi" / "openapi.json"
 
 #: The caution of every result, in the API description too (one text everywhere).
 CAUTION = "**Caution.** " + RESULT_CAUTION
@@ -51,7 +51,7 @@ _RETRY_AFTER = {
 
 def _batch_response_schema() -> dict[str, Any]:
     """``BatchResponse``: its entries are a union that msgspec cannot describe by itself."""
-    from service.wire import BatchResponse
+    from ibl_service.wire import BatchResponse
 
     entry = {"oneOf": [{"$ref": _REF.format(name=n)} for n in ("Result", "Problem")]}
     return {
@@ -78,7 +78,7 @@ def _apply_limits(schemas: dict[str, Any], settings: Settings) -> None:
     """State the server's own limits: cases per batch, and points per surface when
     ``IBL_MAX_POINTS`` is below the library's limit."""
     from ibl.schema import Case
-    from service.codec import POINT_ARRAYS
+    from ibl_service.codec import POINT_ARRAYS
 
     schemas["BatchRequest"]["properties"]["cases"]["maxItems"] = settings.max_batch
     parts = typing.get_type_hints(Case)
@@ -122,7 +122,7 @@ def _drop_null_defaults(node: Any) -> None:
 
 def document(app: Litestar) -> dict[str, Any]:
     """The complete OpenAPI document of ``app``, with the limits of its settings."""
-    from service.codec import BODY_MEDIA_TYPES
+    from ibl_service.codec import BODY_MEDIA_TYPES
 
     media_types = tuple(BODY_MEDIA_TYPES.values())
     doc = copy.deepcopy(app.openapi_schema.to_schema())
@@ -198,20 +198,20 @@ class ServiceJsonRenderPlugin(JsonRenderPlugin):
 
 def main(argv: list[str] | None = None) -> int:
     """Write the committed document, or with ``--check`` report whether it is current."""
-    parser = argparse.ArgumentParser(prog="python -m service.openapi", description=__doc__)
+    parser = argparse.ArgumentParser(prog="python -m ibl_service.openapi", description=__doc__)
     parser.add_argument("--check", action="store_true", help="fail if the file is stale")
     parser.add_argument("--output", type=Path, default=COMMITTED, help="default: %(default)s")
     args = parser.parse_args(argv)
 
-    from service.app import create_app
-    from service.config import Settings
+    from ibl_service.app import create_app
+    from ibl_service.config import Settings
 
     text = to_text(document(create_app(Settings())))
     output: Path = args.output
     if args.check:
         current = output.read_text(encoding="utf-8") if output.exists() else ""
         if current != text:
-            print(f"{output} is stale; run `python -m service.openapi`", file=sys.stderr)
+            print(f"{output} is stale; run `python -m ibl_service.openapi`", file=sys.stderr)
             return 1
         return 0
     output.parent.mkdir(parents=True, exist_ok=True)

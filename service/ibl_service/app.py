@@ -14,11 +14,11 @@ Routes
 - ``GET /schema/openapi.json``: the OpenAPI 3.1 document.
 - ``GET /docs``: interactive documentation of the API (assets served locally, under
   ``/docs/assets``).
-- ``GET /``: the page for people (``service.page``; assets under ``/page``).
+- ``GET /``: the page for people (``ibl_service.page``; assets under ``/page``).
 
-Handlers stay thin: read the body, hand the CPU-bound work (``service.work``) to
+Handlers stay thin: read the body, hand the CPU-bound work (``ibl_service.work``) to
 the runner, answer.  Errors are raised, and answered by one table
-(``service.errors.EXCEPTION_HANDLERS``).
+(``ibl_service.errors.EXCEPTION_HANDLERS``).
 """
 
 from __future__ import annotations
@@ -39,11 +39,11 @@ from litestar.openapi.spec import Contact, License, Tag
 
 import ibl
 from ibl.schema import Case, Flow, Pressure, Result, Surface
-from service import codec, work
-from service.catalogue import MethodCatalogue
-from service.config import Settings
-from service.docs import docs_routes
-from service.errors import (
+from ibl_service import codec, work
+from ibl_service.catalogue import MethodCatalogue
+from ibl_service.config import Settings
+from ibl_service.docs import docs_routes
+from ibl_service.errors import (
     BODY_TOO_LARGE,
     EXCEPTION_HANDLERS,
     INCOMPLETE_BODY,
@@ -60,15 +60,15 @@ from service.errors import (
     ProblemError,
     ProblemKind,
 )
-from service.metrics import CONTENT_TYPE, RequestMetrics, exposition, mark_worker_stopped
-from service.openapi import CAUTION, ServiceJsonRenderPlugin
-from service.page import page_routes
-from service.runner import Runner
-from service.wire import BatchRequest, BatchResponse, CsvCase, CsvTable, Health, Problem
+from ibl_service.metrics import CONTENT_TYPE, RequestMetrics, exposition, mark_worker_stopped
+from ibl_service.openapi import CAUTION, ServiceJsonRenderPlugin
+from ibl_service.page import page_routes
+from ibl_service.runner import Runner
+from ibl_service.wire import BatchRequest, BatchResponse, CsvCase, CsvTable, Health, Problem
 
 __all__ = ["Runtime", "create_app", "warm_up"]
 
-log = logging.getLogger("service")
+log = logging.getLogger("ibl_service")
 
 
 def _warm_up_case(points_per_side: int = 60) -> Case:

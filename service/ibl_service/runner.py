@@ -27,8 +27,8 @@ from collections.abc import Awaitable, Callable
 from concurrent.futures import Future, ThreadPoolExecutor
 from typing import Any, TypeVar
 
-from service.config import Settings
-from service.errors import CLIENT_CLOSED, OVERLOADED, TIME_LIMIT, ProblemError
+from ibl_service.config import Settings
+from ibl_service.errors import CLIENT_CLOSED, OVERLOADED, TIME_LIMIT, ProblemError
 
 __all__ = ["Runner"]
 

@@ -26,7 +26,7 @@ from litestar import Request, Response
 from litestar.exceptions import HTTPException
 
 from ibl import CaseError
-from service.wire import MAX_DETAIL, MAX_ERRORS, MAX_POINTER, MAX_REASON, FieldError, Problem
+from ibl_service.wire import MAX_DETAIL, MAX_ERRORS, MAX_POINTER, MAX_REASON, FieldError, Problem
 
 __all__ = [
     "BODY_TOO_LARGE",
@@ -52,7 +52,7 @@ __all__ = [
 
 PROBLEM_MEDIA_TYPE = "application/problem+json"
 
-log = logging.getLogger("service")
+log = logging.getLogger("ibl_service")
 _encode = msgspec.json.Encoder().encode
 
 

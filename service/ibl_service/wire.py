@@ -32,7 +32,7 @@ __all__ = [
 ]
 
 
-#: Bounds of a problem's text and entries; longer text is cut (``service.errors.problem``).
+#: Bounds of a problem's text and entries; longer text is cut (``ibl_service.errors.problem``).
 MAX_POINTER = 1000
 MAX_REASON = 500
 MAX_DETAIL = 1000

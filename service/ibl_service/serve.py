@@ -2,7 +2,7 @@
 
 The server is uvicorn with the uvloop event loop and the httptools parser (see
 DEVELOPERS.md for the measurements behind this choice).  Each worker builds the
-application with ``service.app.create_app``, reading the ``IBL_*`` limits from
+application with ``ibl_service.app.create_app``, reading the ``IBL_*`` limits from
 the environment; they are checked here first, so that a bad value stops the
 launch with a message instead of failing in every worker.
 
@@ -21,12 +21,12 @@ import tempfile
 from collections.abc import Mapping, Sequence
 from pathlib import Path
 
-from service.config import ENV_VARS, Settings
+from ibl_service.config import ENV_VARS, Settings
 
 __all__ = ["main"]
 
 MULTIPROC_ENV = "PROMETHEUS_MULTIPROC_DIR"
-APP_FACTORY = "service.app:create_app"
+APP_FACTORY = "ibl_service.app:create_app"
 
 
 def _usable_cpus() -> int:

@@ -9,7 +9,7 @@ builds a request object and its labels on every call.
 
 With several worker processes, each must write its samples to files in the
 folder named by ``PROMETHEUS_MULTIPROC_DIR``, set before the workers start
-(``service.serve`` does this); the exposition then merges every worker's files.
+(``ibl_service.serve`` does this); the exposition then merges every worker's files.
 Without it (one process, tests) the default in-process registry is used.
 
 A worker that dies without stopping (SIGKILL, out of memory) cannot remove its live

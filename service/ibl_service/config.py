@@ -2,7 +2,7 @@
 
 Every setting has a default that suits one machine with a few cores; each can be
 overridden by an environment variable (see ``ENV_VARS``).  Tests and embedding
-code build ``Settings`` directly and pass it to ``service.app.create_app``.
+code build ``Settings`` directly and pass it to ``ibl_service.app.create_app``.
 """
 
 from __future__ import annotations

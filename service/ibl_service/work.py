@@ -1,8 +1,8 @@
 """The work of each analysis endpoint, from request body to response body.
 
 These functions are synchronous and CPU-bound: handlers run them in a worker
-thread through ``service.runner.Runner``.  They raise ``ibl.CaseError`` or
-``service.errors.ProblemError`` for the exception table to answer.
+thread through ``ibl_service.runner.Runner``.  They raise ``ibl.CaseError`` or
+``ibl_service.errors.ProblemError`` for the exception table to answer.
 """
 
 from __future__ import annotations
@@ -14,10 +14,10 @@ import msgspec
 import ibl
 from ibl.errors import msgspec_path_to_pointer
 from ibl.schema import Case, Output, Result
-from service import codec
-from service.config import Settings
-from service.errors import INVALID_REQUEST, ProblemError, problem_from_case_error
-from service.wire import BatchResponse, CsvCase, CsvTable, FieldError, Problem
+from ibl_service import codec
+from ibl_service.config import Settings
+from ibl_service.errors import INVALID_REQUEST, ProblemError, problem_from_case_error
+from ibl_service.wire import BatchResponse, CsvCase, CsvTable, FieldError, Problem
 
 __all__ = ["analyse", "analyse_batch", "csv_case", "figure", "table"]
 
