@@ -335,7 +335,7 @@ def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None
 
 
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
-    array = np.array(values, dtype=np.float64)
+    array = np.fromiter(values, dtype=np.float64, count=len(values))  # faster than np.array
     if not np.isfinite(array.sum()):
         bad = np.flatnonzero(~np.isfinite(array))
         problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
@@ -879,8 +879,9 @@ def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
         k, frac = k + 1, 0.0
     k %= m
     first = k + 1 if frac > 1e-9 else k  # each side ends at the last point before the start
-    indices = np.arange(first, k + m + 1)
-    return columns[:, indices % m], indices.astype(np.float64)
+    # The points first .. k + m, each index modulo m: two runs of the list.
+    rows = np.concatenate((columns[:, first:m], columns[:, : k + 1]), axis=1)
+    return rows, np.arange(first, k + m + 1, dtype=np.float64)
 
 
 def _relative_trip(at: float | None, offset: float) -> float | None:
@@ -1092,10 +1093,12 @@ def _split_contour(
     n_in = arc.size
     arc_in, x_in, y_in = arc, x, y
     closed, implicit = _closure(x, y, arc)
-    rows = [x, y, q] + ([radius] if radius is not None else [])
-    columns = np.stack(rows)
+    columns = np.empty((3 if radius is None else 4, n_in + 1 if implicit else n_in))
+    columns[0, :n_in], columns[1, :n_in], columns[2, :n_in] = x, y, q
+    if radius is not None:
+        columns[3, :n_in] = radius
     if implicit:
-        columns = np.concatenate((columns, columns[:, :1]), axis=1)
+        columns[:, n_in] = columns[:, 0]
     index = np.arange(columns.shape[1], dtype=np.float64)
     if closed:
         cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
@@ -1205,8 +1208,7 @@ def _split_contour(
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
     period = (n_in if implicit else n_in - 1) if closed else np.inf
     position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
-    listed = np.append(arc_in, arc_in[-1] + float(np.hypot(x_in[-1] - x_in[0], y_in[-1] - y_in[0])))
-    along = float(np.interp(position, np.arange(listed.size), listed))
+    along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
 
     # Points before the stagnation point (walked backwards) and after it; a point within
@@ -1222,17 +1224,19 @@ def _split_contour(
     )
     no_slope = np.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
-    ue = np.sqrt(q)
     ue_start = float(np.sqrt(q[a : b + 1].min())) if no_slope else 0.0
     names = _side_names(x, y, branches, closed, y0)
+    vanishing = np.flatnonzero(q <= PLATEAU_Q).tolist()  # points at the stagnation value
     sides: list[SideInput] = []
     for branch, name, slope in zip(branches, names, (slope_before, slope_after), strict=True):
         if branch.size + 1 < MIN_POINTS:
             continue
-        # A side ends where its edge velocity falls to zero again (another stagnation point).
-        zero = np.flatnonzero(q[branch[:-1]] <= PLATEAU_Q)
-        if zero.size:
-            branch = branch[: zero[0] + 1]
+        # A side ends where its edge velocity falls to zero again (another stagnation point):
+        # the first point of branch[:-1] at the stagnation value (a branch steps by 1 or -1).
+        first, step = int(branch[0]), 1 if branch is branches[1] else -1
+        zero = [(i - first) * step for i in vanishing if 0 <= (i - first) * step < branch.size - 1]
+        if zero:
+            branch = branch[: min(zero) + 1]
             warnings.append(
                 Notice(
                     code="edge_velocity_vanishes",
@@ -1242,17 +1246,22 @@ def _split_contour(
                     pointer=f"{p_pointer}/{int(index[branch[-1]] % period)}",
                 )
             )
+        # The side's rows (s, Ue, r, x, y) in one block, the stagnation point first.
         size = branch.size
-        side_s = np.empty(size + 1)
+        picked = columns[:, branch]
+        block = np.empty((5, size + 1))
+        side_s, u, r, side_x, side_y = block
         side_s[0] = 0.0
         side_s[1:] = np.abs(arc[branch] - s0)
-        u = np.empty(size + 1)
         u[0] = ue_start
-        u[1:] = ue[branch]
-        r = np.ones(size + 1)
+        u[1:] = np.sqrt(picked[2])
         if radius is not None:
             r[0] = r0
-            r[1:] = radius[branch]
+            r[1:] = picked[3]
+        else:
+            r[:] = 1.0
+        side_x[0], side_y[0] = x0, y0
+        side_x[1:], side_y[1:] = picked[0], picked[1]
         if axisymmetric:
             zero_r = np.flatnonzero(r[1:-1] <= 0.0)
             if zero_r.size:
@@ -1269,8 +1278,8 @@ def _split_contour(
                 offset=0.0,
                 ue=u,
                 r=r,
-                x=np.concatenate(([x0], x[branch])),
-                y=np.concatenate(([y0], y[branch])),
+                x=side_x,
+                y=side_y,
                 nu=nu,
                 axisymmetric=axisymmetric,
                 start=start,
@@ -1290,6 +1299,28 @@ def _split_contour(
     return sides, stagnation
 
 
+def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
+    """Arc length along the input list at a fractional point index, linear between points;
+    one past the last point is the first again (the closing segment of a loop)."""
+    last = arc.size  # the index of the first point repeated
+
+    def listed(j: int) -> float:
+        if j < last:
+            return float(arc[j])
+        return float(arc[-1] + float(np.hypot(x[-1] - x[0], y[-1] - y[0])))
+
+    if math.isnan(position):
+        return position
+    if not position > 0.0:
+        return listed(0)
+    j = int(position)
+    if j >= last:
+        return listed(last)
+    low = listed(j)
+    # As numpy.interp on the integer grid of the points: slope * (x - x_j) + f_j.
+    return (listed(j + 1) - low) * (position - j) + low
+
+
 def _side_names(
     x: F64,
     y: F64,
@@ -1304,7 +1335,7 @@ def _side_names(
     is the upper one unless it lies below the stagnation point."""
     if closed:
         area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
-        if abs(area) > 1e-12 * float(np.ptp(x) * np.ptp(y) + 1e-300):
+        if abs(area) > 1e-12 * float((x.max() - x.min()) * (y.max() - y.min()) + 1e-300):
             return ("upper", "lower") if area > 0.0 else ("lower", "upper")
     mean = [float(y[branch].mean()) if branch.size else np.nan for branch in branches]
     if np.isnan(mean[1]) or np.isnan(mean[0]):
