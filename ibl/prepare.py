@@ -866,6 +866,7 @@ def _rear_point(x: F64, y: F64, arc: F64) -> float:
     return float(last)
 
 
+@numba.njit(cache=True, error_model="numpy")
 def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
     """A closed contour (rows of ``columns``, its last point repeating its first) listed
     from fractional index ``start`` round to it again.  From a start between two points (a
@@ -880,8 +881,37 @@ def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
     k %= m
     first = k + 1 if frac > 1e-9 else k  # each side ends at the last point before the start
     # The points first .. k + m, each index modulo m: two runs of the list.
-    rows = np.concatenate((columns[:, first:m], columns[:, : k + 1]), axis=1)
-    return rows, np.arange(first, k + m + 1, dtype=np.float64)
+    rows = np.empty((columns.shape[0], k + m + 1 - first))
+    tail = m - first
+    rows[:, :tail] = columns[:, first:m]
+    rows[:, tail:] = columns[:, : k + 1]
+    return rows, np.arange(first, k + m + 1).astype(np.float64)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _listing(
+    x: F64, y: F64, q: F64, radius: F64, closed: bool, implicit: bool
+) -> tuple[F64, F64, F64]:
+    """The contour as rows x, y, q (and the radius, unless ``radius`` is empty), listed
+    from its rear point when closed (``_rear_point``, ``_rotate``; the first point
+    repeated at the end when the closure is implicit); each point's unwrapped index in the
+    input list, and the arc length along the listing."""
+    n_in = x.size
+    width = n_in + 1 if implicit else n_in
+    columns = np.empty((3 if radius.size == 0 else 4, width))
+    columns[0, :n_in] = x
+    columns[1, :n_in] = y
+    columns[2, :n_in] = q
+    if radius.size:
+        columns[3, :n_in] = radius
+    if implicit:
+        columns[:, n_in] = columns[:, 0]
+    index = np.arange(width).astype(np.float64)
+    if closed:
+        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
+        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    arc, _ = _arc_length(columns[0], columns[1], 0.0)
+    return columns, index, arc
 
 
 def _relative_trip(at: float | None, offset: float) -> float | None:
@@ -1093,20 +1123,12 @@ def _split_contour(
     n_in = arc.size
     arc_in, x_in, y_in = arc, x, y
     closed, implicit = _closure(x, y, arc)
-    columns = np.empty((3 if radius is None else 4, n_in + 1 if implicit else n_in))
-    columns[0, :n_in], columns[1, :n_in], columns[2, :n_in] = x, y, q
-    if radius is not None:
-        columns[3, :n_in] = radius
-    if implicit:
-        columns[:, n_in] = columns[:, 0]
-    index = np.arange(columns.shape[1], dtype=np.float64)
-    if closed:
-        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
-        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    columns, index, arc = _listing(
+        x, y, q, radius if radius is not None else np.empty(0), closed, implicit
+    )
     x, y, q = columns[0], columns[1], columns[2]
     radius = columns[3] if radius is not None else None
     n = x.size
-    arc, _ = _arc_length(x, y, 0.0)
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 
@@ -1124,7 +1146,7 @@ def _split_contour(
             slope_before = float(np.sqrt(q[a - 1]) / (s0 - arc[a - 1]))
             slope_after = float(np.sqrt(q[b + 1]) / (arc[b + 1] - s0))
             ue_vertex = float(np.sqrt(q[a : b + 1].min()))
-    if not (np.isfinite(slope_before) and np.isfinite(slope_after)):
+    if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
     if a < 0:
         # No stagnation point in the data: the sides start at the most upstream point as
@@ -1147,7 +1169,7 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    elif ue_vertex <= STAGNATION_UE < np.sqrt(q[a : b + 1].min()):
+    elif ue_vertex <= STAGNATION_UE < math.sqrt(q[a : b + 1].min()):
         warnings.append(
             Notice(
                 code="stagnation_point_between_taps",
@@ -1222,7 +1244,7 @@ def _split_contour(
         np.arange(last_before, -1, -1, dtype=np.int64),
         np.arange(first_after, n, dtype=np.int64),
     )
-    no_slope = np.isnan(slope_before)
+    no_slope = math.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
     ue_start = float(np.sqrt(q[a : b + 1].min())) if no_slope else 0.0
     names = _side_names(x, y, branches, closed, y0)
