@@ -1268,22 +1268,9 @@ def _split_contour(
                     pointer=f"{p_pointer}/{int(index[branch[-1]] % period)}",
                 )
             )
-        # The side's rows (s, Ue, r, x, y) in one block, the stagnation point first.
-        size = branch.size
-        picked = columns[:, branch]
-        block = np.empty((5, size + 1))
-        side_s, u, r, side_x, side_y = block
-        side_s[0] = 0.0
-        side_s[1:] = np.abs(arc[branch] - s0)
-        u[0] = ue_start
-        u[1:] = np.sqrt(picked[2])
-        if radius is not None:
-            r[0] = r0
-            r[1:] = picked[3]
-        else:
-            r[:] = 1.0
-        side_x[0], side_y[0] = x0, y0
-        side_x[1:], side_y[1:] = picked[0], picked[1]
+        side_s, u, r, side_x, side_y = _side_rows(
+            columns, arc, int(branch[0]), step, branch.size, s0, ue_start, x0, y0, r0
+        )
         if axisymmetric:
             zero_r = np.flatnonzero(r[1:-1] <= 0.0)
             if zero_r.size:
@@ -1319,6 +1306,40 @@ def _split_contour(
     if len(sides) == 2 and sides[0].name == sides[1].name:
         raise CaseError.at("/surface", "could not tell the upper side from the lower side")
     return sides, stagnation
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _side_rows(
+    columns: F64,
+    arc: F64,
+    first: int,
+    step: int,
+    size: int,
+    s0: float,
+    ue_start: float,
+    x0: float,
+    y0: float,
+    r0: float,
+) -> F64:
+    """The rows s, Ue, r, x, y of one side in one block: the stagnation point (arc length
+    ``s0``, Ue ``ue_start``, position x0, y0, radius r0), then the ``size`` points of the
+    listing (rows x, y, q and, if present, the radius of ``columns``) from ``first`` on by
+    ``step`` (1 or -1), s the distance along ``arc`` from s0 and Ue = sqrt(q).  The radius
+    is 1 without a radius row."""
+    block = np.empty((5, size + 1))
+    block[0, 0] = 0.0
+    block[1, 0] = ue_start
+    block[2, 0] = r0 if columns.shape[0] > 3 else 1.0
+    block[3, 0] = x0
+    block[4, 0] = y0
+    for k in range(size):
+        j = first + step * k
+        block[0, k + 1] = abs(arc[j] - s0)
+        block[1, k + 1] = np.sqrt(columns[2, j])
+        block[2, k + 1] = columns[3, j] if columns.shape[0] > 3 else 1.0
+        block[3, k + 1] = columns[0, j]
+        block[4, k + 1] = columns[1, j]
+    return block
 
 
 def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
