@@ -336,7 +336,7 @@ def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None
 
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
     array = np.fromiter(values, dtype=np.float64, count=len(values))  # faster than np.array
-    if not np.isfinite(array.sum()):
+    if not math.isfinite(array.sum()):
         bad = np.flatnonzero(~np.isfinite(array))
         problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
     return array
@@ -1364,6 +1364,12 @@ def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
     return (listed(j + 1) - low) * (position - j) + low
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _extent_product(x: F64, y: F64) -> float:
+    """(max x - min x) (max y - min y): the area of the contour's bounding box."""
+    return (x.max() - x.min()) * (y.max() - y.min())
+
+
 def _side_names(
     x: F64,
     y: F64,
@@ -1378,7 +1384,7 @@ def _side_names(
     is the upper one unless it lies below the stagnation point."""
     if closed:
         area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
-        if abs(area) > 1e-12 * float((x.max() - x.min()) * (y.max() - y.min()) + 1e-300):
+        if abs(area) > 1e-12 * (_extent_product(x, y) + 1e-300):
             return ("upper", "lower") if area > 0.0 else ("lower", "upper")
     mean = [float(y[branch].mean()) if branch.size else np.nan for branch in branches]
     if np.isnan(mean[1]) or np.isnan(mean[0]):
