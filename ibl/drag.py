@@ -101,6 +101,13 @@ def friction_drag(s: F64, x: F64, ue: F64, cf: F64, weight: F64 | None = None) -
 def _first_panel(s: F64, x: F64, g: F64) -> float:
     """Integral of g dx over the first panel, g ~ (s - s0)^p with p fitted on stations 1
     and 2, x linear in s on the panel."""
+    s0: float
+    s1: float
+    s2: float
+    x0: float
+    x1: float
+    g1: float
+    g2: float
     s0, s1, s2 = s[:3].tolist()
     x0, x1 = x[:2].tolist()
     g1, g2 = g[1:3].tolist()

@@ -1367,7 +1367,7 @@ def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
 @numba.njit(cache=True, error_model="numpy")
 def _extent_product(x: F64, y: F64) -> float:
     """(max x - min x) (max y - min y): the area of the contour's bounding box."""
-    return (x.max() - x.min()) * (y.max() - y.min())
+    return float((x.max() - x.min()) * (y.max() - y.min()))
 
 
 def _side_names(
