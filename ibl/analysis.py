@@ -408,10 +408,10 @@ def _xy_at(side: SideInput, s: float) -> tuple[float | None, float | None]:
     if side.x is None or side.y is None or not math.isfinite(s):
         return None, None
     i = min(max(int(side.s.searchsorted(s)), 1), side.s.size - 1)
-    s0, s1 = float(side.s[i - 1]), float(side.s[i])
+    s0, s1 = side.s[i - 1 : i + 1].tolist()
     t = min(max((s - s0) / (s1 - s0), 0.0), 1.0)
-    x0, x1 = float(side.x[i - 1]), float(side.x[i])
-    y0, y1 = float(side.y[i - 1]), float(side.y[i])
+    x0, x1 = side.x[i - 1 : i + 1].tolist()
+    y0, y1 = side.y[i - 1 : i + 1].tolist()
     return x0 + (x1 - x0) * t, y0 + (y1 - y0) * t
 
 

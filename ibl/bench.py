@@ -9,7 +9,12 @@ Contents
   timed in the same run and used to show that the fast march gives the same answers.
 - ``main()``: prints microseconds per side at N = 200 and 400, single and batched; sides
   per second in a batch for full and summary answers (``output.stations = false``), and
-  the size of one answer, full and summary, in JSON and MessagePack.
+  the size of one answer, full and summary, in JSON and MessagePack; then the ratios
+  against the march, each beside its target (``ratios``).
+- ``ratios(n)``: the end-to-end paths as ratios to the march measured in the same run
+  (absolute figures move twofold between machines; ratios much less): summary and full
+  ``run_batch`` sides per second against the march's, and ``analyze(dict)`` of one case
+  against the march of that case.
 """
 
 from __future__ import annotations
@@ -27,7 +32,13 @@ from ibl.march import march
 from ibl.prepare import SideInput, prepare
 from ibl.schema import Output
 
-__all__ = ["ellipse_case", "main", "reference_side"]
+__all__ = ["RATIO_TARGETS", "ellipse_case", "main", "ratios", "reference_side"]
+
+#: Targets of the end-to-end paths, as ratios to the compiled march in the same run:
+#: run_batch sides per second with summary answers (no station arrays) and with all
+#: station arrays, at least these fractions of the march's; analyze(dict) of one case at
+#: most this many times the march of its sides.
+RATIO_TARGETS = {"summary": 0.60, "full": 0.35, "analyze": 2.5}
 
 
 def ellipse_case(n: int, reynolds: float = 2e6) -> dict[str, Any]:
@@ -166,11 +177,84 @@ def _figures(n: int, repeat: int, batch: int) -> None:
         print(f"{'':>7} one answer in {fmt}: {full:,} bytes full, {short:,} bytes summary")
 
 
-def main(repeat: int = 200, batch: int = 2000) -> int:
-    """Print timing figures; return 0."""
+def _interleaved(functions: dict[str, Callable[[], object]], rounds: int) -> dict[str, float]:
+    """Median wall time of each function, calls taken in turn round after round, so that
+    a change in the machine's load touches all of them alike."""
+    for function in functions.values():
+        function()
+    times: dict[str, list[float]] = {key: [] for key in functions}
+    for _ in range(rounds):
+        for key, function in functions.items():
+            start = time.perf_counter()
+            function()
+            times[key].append(time.perf_counter() - start)
+    return {key: statistics.median(values) for key, values in times.items()}
+
+
+def ratios(n: int = 200, batch: int = 400, rounds: int = 7, single: int = 200) -> dict[str, float]:
+    """The end-to-end paths against the march, measured in one run; printed and returned.
+
+    ``batch`` sides (cases of the ellipse of ``n`` points per side) through ``march``, and
+    through ``run_batch`` with summary answers and with every station array, as Python
+    lists (``arrays="list"``) and as the JSON fragments the service writes
+    (``arrays="json"``); one case through ``analyze(dict)`` against the march of its
+    sides. Returns the ratios by name.
+    """
+    doc = ellipse_case(n)
+    case = parse_case(doc)
+    summary = msgspec.structs.replace(case, output=Output(stations=False))
+    sides = prepare(case).sides
+    count = batch // len(sides)
+    many = [side for _ in range(count) for side in sides]
+    total = len(many)
+    batched = _interleaved(
+        {
+            "march": lambda: march(many),
+            "summary": lambda: run_batch([summary] * count),
+            "full": lambda: run_batch([case] * count),
+            "full_json": lambda: run_batch([case] * count, arrays="json"),
+        },
+        rounds,
+    )
+    one = _interleaved({"march": lambda: march(sides), "analyze": lambda: analyze(doc)}, single)
+    rate = {key: total / seconds for key, seconds in batched.items()}
+    out = {
+        "summary": rate["summary"] / rate["march"],
+        "full": rate["full"] / rate["march"],
+        "full_json": rate["full_json"] / rate["march"],
+        "analyze": one["analyze"] / one["march"],
+    }
+    target = RATIO_TARGETS
+    print(f"ratios to the march in one run (N = {n} per side, {total} sides; one case):")
+    print(f"  march: {rate['march']:,.0f} sides/s in a batch, {one['march'] * 1e3:.3f} ms one case")
+    rows = (
+        ("summary", "run_batch, summary answers", rate["summary"], ">=", target["summary"]),
+        ("full", "run_batch, all station arrays", rate["full"], ">=", target["full"]),
+        ("full_json", "run_batch, all arrays as JSON", rate["full_json"], ">=", target["full"]),
+    )
+    for key, label, value, sign, goal in rows:
+        met = "met" if out[key] >= goal else "not met"
+        print(
+            f"  {label:<32} {value:>8,.0f} sides/s = {out[key]:.2f} of the march "
+            f"(target {sign} {goal:.2f}: {met})"
+        )
+    met = "met" if out["analyze"] <= target["analyze"] else "not met"
+    print(
+        f"  {'analyze(dict), one case':<32} {one['analyze'] * 1e3:>8.3f} ms = "
+        f"{out['analyze']:.2f} times the march (target <= {target['analyze']}: {met})"
+    )
+    return out
+
+
+def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> int:
+    """Print timing figures (only the ratios to the march with ``ratios_only``); return 0."""
+    if ratios_only:
+        ratios(200)
+        return 0
     print("ibl bench: median wall time, one process, one core")
     print(f"{'N/side':>7} {'what':<46} {'per case':>11} {'per side':>11}")
     for n in (200, 400):
         _figures(n, repeat, batch)
     print("Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch.")
+    ratios(200)
     return 0

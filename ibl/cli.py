@@ -711,6 +711,11 @@ def _parser() -> argparse.ArgumentParser:
         help="timed calls per single-case figure, whose median is printed [calls]",
     )
     bench.add_argument("--batch", type=int, default=2000, help="sides in the batched run [sides]")
+    bench.add_argument(
+        "--ratios",
+        action="store_true",
+        help="print only the end-to-end paths as ratios to the march, beside their targets",
+    )
     commands.add_parser("serve", help="run the HTTP service", add_help=False)
     return parser
 
@@ -891,7 +896,7 @@ def main(argv: list[str] | None = None) -> int:
     if args.command == "bench":
         from ibl.bench import main as bench
 
-        return bench(repeat=args.repeat, batch=args.batch)
+        return bench(repeat=args.repeat, batch=args.batch, ratios_only=args.ratios)
     if args.command == "validate":
         return _validate(args)
     try:

@@ -87,9 +87,10 @@ def friction_drag(s: F64, x: F64, ue: F64, cf: F64, weight: F64 | None = None) -
         g *= weight
     start = 0
     total = 0.0
-    if not math.isfinite(float(g[0])):
+    head = g[:3].tolist()
+    if not math.isfinite(head[0]):
         start = 1
-        if x.size > 2 and g[1] > 0.0 and g[2] > 0.0:  # False for NaN too
+        if x.size > 2 and head[1] > 0.0 and head[2] > 0.0:  # False for NaN too
             total = _first_panel(s, x, g)
     if x.size - start < 2:
         return None
@@ -100,14 +101,24 @@ def friction_drag(s: F64, x: F64, ue: F64, cf: F64, weight: F64 | None = None) -
 def _first_panel(s: F64, x: F64, g: F64) -> float:
     """Integral of g dx over the first panel, g ~ (s - s0)^p with p fitted on stations 1
     and 2, x linear in s on the panel."""
-    d1, d2 = float(s[1] - s[0]), float(s[2] - s[0])
-    dx = float(x[1] - x[0])
+    s0: float
+    s1: float
+    s2: float
+    x0: float
+    x1: float
+    g1: float
+    g2: float
+    s0, s1, s2 = s[:3].tolist()
+    x0, x1 = x[:2].tolist()
+    g1, g2 = g[1:3].tolist()
+    d1, d2 = s1 - s0, s2 - s0
+    dx = x1 - x0
     if not d1 > 0.0 or not d2 > d1:
-        return 0.5 * float(g[1]) * dx
+        return 0.5 * g1 * dx
     low, high = FIRST_PANEL_EXPONENTS
-    p = math.log(float(g[2]) / float(g[1])) / math.log(d2 / d1)
+    p = math.log(g2 / g1) / math.log(d2 / d1)
     p = min(max(p, low), high)
-    return float(g[1]) * dx / (1.0 + p)
+    return g1 * dx / (1.0 + p)
 
 
 def _trapezoid(x: F64, g: F64) -> float:

@@ -104,8 +104,7 @@ def _stack(
     n = int(count.max())
     shape = (len(sides), n)
     s, ue, r = np.empty(shape), np.empty(shape), np.empty(shape)
-    ints = np.empty((len(sides), 5), dtype=np.int64)
-    reals = np.zeros((len(sides), 10))
+    int_rows, real_rows = [], []
     for i, side in enumerate(sides):
         m = side.s.size
         s[i, :m], ue[i, :m], r[i, :m] = side.s, side.ue, side.r
@@ -114,24 +113,32 @@ def _stack(
             ue[i, m:], r[i, m:] = side.ue[-1], side.r[-1]
         o = side.options
         start = kernel.START_TURBULENT if side.turbulent_start else _START[side.start]
-        ints[i] = (
-            start,
-            kernel.CRITERION_CODES[o.criterion],
-            kernel.CLOSURE_CODES[o.closure],
-            SKIN_FRICTION[o.skin_friction].code,
-            side.axisymmetric,
+        int_rows.append(
+            (
+                start,
+                kernel.CRITERION_CODES[o.criterion],
+                kernel.CLOSURE_CODES[o.closure],
+                SKIN_FRICTION[o.skin_friction].code,
+                side.axisymmetric,
+            )
         )
-        reals[i, :9] = (
-            side.nu,
-            side.slope,
-            side.theta0,
-            side.h0,
-            np.inf if side.trip is None else side.trip,
-            100.0 * (o.turbulence_intensity or 0.0),
-            o.separation_lambda,
-            o.initial_shape_factor,
-            o.separation_shape_factor,
+        real_rows.append(
+            (
+                side.nu,
+                side.slope,
+                side.theta0,
+                side.h0,
+                np.inf if side.trip is None else side.trip,
+                100.0 * (o.turbulence_intensity or 0.0),
+                o.separation_lambda,
+                o.initial_shape_factor,
+                o.separation_shape_factor,
+                0.0,
+            )
         )
+    # The codes of all sides converted at once.
+    ints = np.array(int_rows, dtype=np.int64)
+    reals = np.array(real_rows, dtype=np.float64)
     return s, ue, r, count, ints, reals
 
 
@@ -167,6 +174,7 @@ def _march(
     stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
     compute(s, ue, r, count, ints, reals, stations, events)
+    turbulent = stations[:, 5, :] > 0.5
     states = []
     for i, ev in enumerate(events.tolist()):
         keep = int(ev[0])
@@ -181,7 +189,7 @@ def _march(
                 cf=st[2],
                 re_theta=st[3],
                 delta99=st[4],
-                turbulent=st[5] > 0.5,
+                turbulent=turbulent[i, :keep],
                 thwaites_lambda=st[6],
                 transition_s=ev[1],
                 transition_cause=_CAUSE[int(ev[2])],

@@ -228,12 +228,6 @@ def _first_stretch(
     return -1, -1
 
 
-def _peak(cp: F64, band: float) -> int:
-    """The suction peak: the first point within ``PLATEAU_ONSET_BAND`` times the band of the
-    smallest Cp (so that scatter on a plateau as low as the peak does not move it there)."""
-    return int(np.argmax(cp <= cp.min() + PLATEAU_ONSET_BAND * band))
-
-
 def _onset(s: F64, cp: F64, peak: int, i0: int, j0: int, band: float) -> tuple[float, int]:
     """Onset (s, first point at or after it) of the stretch [i0, j0]: where the steepest
     recovery line between the suction peak and the first point settled on the level
@@ -251,6 +245,36 @@ def _onset(s: F64, cp: F64, peak: int, i0: int, j0: int, band: float) -> tuple[f
             onset = min(max(float(s[a] + (level - cp[a]) / slope[k]), float(s[a])), onset)
     tol = 1e-9 * float(s[-1] - s[0])
     return onset, int(np.searchsorted(s, onset - tol, side="left"))
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _search(s: F64, cp: F64, x: F64, y: F64, turning: float) -> tuple[float, int, int, int, F64]:
+    """The band, the suction peak, the first stretch after it that meets rules (a) to (c)
+    (``_first_stretch``; -1, -1 when none) and the tangent angles, in one compiled call;
+    ``turning`` in radians.  At least ``PLATEAU_MIN_POINTS`` points.
+
+    The suction peak is the first point within ``PLATEAU_ONSET_BAND`` times the band of
+    the smallest Cp (so that scatter on a plateau as low as the peak does not move it
+    there)."""
+    n = s.size
+    low, high = cp.min(), cp.max()
+    span = high - low
+    band = PLATEAU_BAND * span
+    if not span > 0.0:
+        return band, 0, -1, -1, np.empty(0)
+    threshold = low + PLATEAU_ONSET_BAND * band
+    peak = 0
+    for i in range(n):
+        if cp[i] <= threshold:
+            peak = i
+            break
+    first = max(peak, 1)
+    if first > n - PLATEAU_MIN_POINTS:
+        return band, peak, -1, -1, np.empty(0)
+    angle = _tangent_angle(x, y)
+    length = s[n - 1] - s[0]
+    i0, j0 = _first_stretch(s, cp, angle, band, first, PLATEAU_MIN_LENGTH * length, turning)
+    return band, peak, i0, j0, angle
 
 
 def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
@@ -272,20 +296,10 @@ def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
     n = s.size
     if n < PLATEAU_MIN_POINTS:
         return None
-    span = float(cp.max() - cp.min())
-    if not span > 0.0:
-        return None
-    band = PLATEAU_BAND * span
-    peak = _peak(cp, band)
-    first = max(peak, 1)
-    if first > n - PLATEAU_MIN_POINTS:
-        return None
-    angle = _tangent_angle(x, y)
-    length = float(s[-1] - s[0])
-    turning = math.radians(PLATEAU_MIN_TURNING)
-    i0, j0 = _first_stretch(s, cp, angle, band, first, PLATEAU_MIN_LENGTH * length, turning)
+    band, peak, i0, j0, angle = _search(s, cp, x, y, math.radians(PLATEAU_MIN_TURNING))
     if i0 < 0:
         return None
+    length = float(s[-1] - s[0])
     onset, m = _onset(s, cp, peak, i0, j0, band)
     turned = math.degrees(abs(float(angle[max(j0 - 1, m - 1)] - angle[m - 1])))
     if (

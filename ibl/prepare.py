@@ -335,8 +335,8 @@ def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None
 
 
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
-    array = np.array(values, dtype=np.float64)
-    if not np.isfinite(array.sum()):
+    array = np.fromiter(values, dtype=np.float64, count=len(values))  # faster than np.array
+    if not math.isfinite(array.sum()):
         bad = np.flatnonzero(~np.isfinite(array))
         problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
     return array
@@ -866,6 +866,7 @@ def _rear_point(x: F64, y: F64, arc: F64) -> float:
     return float(last)
 
 
+@numba.njit(cache=True, error_model="numpy")
 def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
     """A closed contour (rows of ``columns``, its last point repeating its first) listed
     from fractional index ``start`` round to it again.  From a start between two points (a
@@ -879,8 +880,38 @@ def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
         k, frac = k + 1, 0.0
     k %= m
     first = k + 1 if frac > 1e-9 else k  # each side ends at the last point before the start
-    indices = np.arange(first, k + m + 1)
-    return columns[:, indices % m], indices.astype(np.float64)
+    # The points first .. k + m, each index modulo m: two runs of the list.
+    rows = np.empty((columns.shape[0], k + m + 1 - first))
+    tail = m - first
+    rows[:, :tail] = columns[:, first:m]
+    rows[:, tail:] = columns[:, : k + 1]
+    return rows, np.arange(first, k + m + 1).astype(np.float64)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _listing(
+    x: F64, y: F64, q: F64, radius: F64, closed: bool, implicit: bool
+) -> tuple[F64, F64, F64]:
+    """The contour as rows x, y, q (and the radius, unless ``radius`` is empty), listed
+    from its rear point when closed (``_rear_point``, ``_rotate``; the first point
+    repeated at the end when the closure is implicit); each point's unwrapped index in the
+    input list, and the arc length along the listing."""
+    n_in = x.size
+    width = n_in + 1 if implicit else n_in
+    columns = np.empty((3 if radius.size == 0 else 4, width))
+    columns[0, :n_in] = x
+    columns[1, :n_in] = y
+    columns[2, :n_in] = q
+    if radius.size:
+        columns[3, :n_in] = radius
+    if implicit:
+        columns[:, n_in] = columns[:, 0]
+    index = np.arange(width).astype(np.float64)
+    if closed:
+        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
+        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    arc, _ = _arc_length(columns[0], columns[1], 0.0)
+    return columns, index, arc
 
 
 def _relative_trip(at: float | None, offset: float) -> float | None:
@@ -1092,18 +1123,12 @@ def _split_contour(
     n_in = arc.size
     arc_in, x_in, y_in = arc, x, y
     closed, implicit = _closure(x, y, arc)
-    rows = [x, y, q] + ([radius] if radius is not None else [])
-    columns = np.stack(rows)
-    if implicit:
-        columns = np.concatenate((columns, columns[:, :1]), axis=1)
-    index = np.arange(columns.shape[1], dtype=np.float64)
-    if closed:
-        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
-        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    columns, index, arc = _listing(
+        x, y, q, radius if radius is not None else np.empty(0), closed, implicit
+    )
     x, y, q = columns[0], columns[1], columns[2]
     radius = columns[3] if radius is not None else None
     n = x.size
-    arc, _ = _arc_length(x, y, 0.0)
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 
@@ -1121,7 +1146,7 @@ def _split_contour(
             slope_before = float(np.sqrt(q[a - 1]) / (s0 - arc[a - 1]))
             slope_after = float(np.sqrt(q[b + 1]) / (arc[b + 1] - s0))
             ue_vertex = float(np.sqrt(q[a : b + 1].min()))
-    if not (np.isfinite(slope_before) and np.isfinite(slope_after)):
+    if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
     if a < 0:
         # No stagnation point in the data: the sides start at the most upstream point as
@@ -1144,7 +1169,7 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    elif ue_vertex <= STAGNATION_UE < np.sqrt(q[a : b + 1].min()):
+    elif ue_vertex <= STAGNATION_UE < math.sqrt(q[a : b + 1].min()):
         warnings.append(
             Notice(
                 code="stagnation_point_between_taps",
@@ -1205,8 +1230,7 @@ def _split_contour(
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
     period = (n_in if implicit else n_in - 1) if closed else np.inf
     position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
-    listed = np.append(arc_in, arc_in[-1] + float(np.hypot(x_in[-1] - x_in[0], y_in[-1] - y_in[0])))
-    along = float(np.interp(position, np.arange(listed.size), listed))
+    along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
 
     # Points before the stagnation point (walked backwards) and after it; a point within
@@ -1220,19 +1244,21 @@ def _split_contour(
         np.arange(last_before, -1, -1, dtype=np.int64),
         np.arange(first_after, n, dtype=np.int64),
     )
-    no_slope = np.isnan(slope_before)
+    no_slope = math.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
-    ue = np.sqrt(q)
     ue_start = float(np.sqrt(q[a : b + 1].min())) if no_slope else 0.0
     names = _side_names(x, y, branches, closed, y0)
+    vanishing = np.flatnonzero(q <= PLATEAU_Q).tolist()  # points at the stagnation value
     sides: list[SideInput] = []
     for branch, name, slope in zip(branches, names, (slope_before, slope_after), strict=True):
         if branch.size + 1 < MIN_POINTS:
             continue
-        # A side ends where its edge velocity falls to zero again (another stagnation point).
-        zero = np.flatnonzero(q[branch[:-1]] <= PLATEAU_Q)
-        if zero.size:
-            branch = branch[: zero[0] + 1]
+        # A side ends where its edge velocity falls to zero again (another stagnation point):
+        # the first point of branch[:-1] at the stagnation value (a branch steps by 1 or -1).
+        first, step = int(branch[0]), 1 if branch is branches[1] else -1
+        zero = [(i - first) * step for i in vanishing if 0 <= (i - first) * step < branch.size - 1]
+        if zero:
+            branch = branch[: min(zero) + 1]
             warnings.append(
                 Notice(
                     code="edge_velocity_vanishes",
@@ -1242,17 +1268,9 @@ def _split_contour(
                     pointer=f"{p_pointer}/{int(index[branch[-1]] % period)}",
                 )
             )
-        size = branch.size
-        side_s = np.empty(size + 1)
-        side_s[0] = 0.0
-        side_s[1:] = np.abs(arc[branch] - s0)
-        u = np.empty(size + 1)
-        u[0] = ue_start
-        u[1:] = ue[branch]
-        r = np.ones(size + 1)
-        if radius is not None:
-            r[0] = r0
-            r[1:] = radius[branch]
+        side_s, u, r, side_x, side_y = _side_rows(
+            columns, arc, int(branch[0]), step, branch.size, s0, ue_start, x0, y0, r0
+        )
         if axisymmetric:
             zero_r = np.flatnonzero(r[1:-1] <= 0.0)
             if zero_r.size:
@@ -1269,8 +1287,8 @@ def _split_contour(
                 offset=0.0,
                 ue=u,
                 r=r,
-                x=np.concatenate(([x0], x[branch])),
-                y=np.concatenate(([y0], y[branch])),
+                x=side_x,
+                y=side_y,
                 nu=nu,
                 axisymmetric=axisymmetric,
                 start=start,
@@ -1290,6 +1308,68 @@ def _split_contour(
     return sides, stagnation
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _side_rows(
+    columns: F64,
+    arc: F64,
+    first: int,
+    step: int,
+    size: int,
+    s0: float,
+    ue_start: float,
+    x0: float,
+    y0: float,
+    r0: float,
+) -> F64:
+    """The rows s, Ue, r, x, y of one side in one block: the stagnation point (arc length
+    ``s0``, Ue ``ue_start``, position x0, y0, radius r0), then the ``size`` points of the
+    listing (rows x, y, q and, if present, the radius of ``columns``) from ``first`` on by
+    ``step`` (1 or -1), s the distance along ``arc`` from s0 and Ue = sqrt(q).  The radius
+    is 1 without a radius row."""
+    block = np.empty((5, size + 1))
+    block[0, 0] = 0.0
+    block[1, 0] = ue_start
+    block[2, 0] = r0 if columns.shape[0] > 3 else 1.0
+    block[3, 0] = x0
+    block[4, 0] = y0
+    for k in range(size):
+        j = first + step * k
+        block[0, k + 1] = abs(arc[j] - s0)
+        block[1, k + 1] = np.sqrt(columns[2, j])
+        block[2, k + 1] = columns[3, j] if columns.shape[0] > 3 else 1.0
+        block[3, k + 1] = columns[0, j]
+        block[4, k + 1] = columns[1, j]
+    return block
+
+
+def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
+    """Arc length along the input list at a fractional point index, linear between points;
+    one past the last point is the first again (the closing segment of a loop)."""
+    last = arc.size  # the index of the first point repeated
+
+    def listed(j: int) -> float:
+        if j < last:
+            return float(arc[j])
+        return float(arc[-1] + float(np.hypot(x[-1] - x[0], y[-1] - y[0])))
+
+    if math.isnan(position):
+        return position
+    if not position > 0.0:
+        return listed(0)
+    j = int(position)
+    if j >= last:
+        return listed(last)
+    low = listed(j)
+    # As numpy.interp on the integer grid of the points: slope * (x - x_j) + f_j.
+    return (listed(j + 1) - low) * (position - j) + low
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _extent_product(x: F64, y: F64) -> float:
+    """(max x - min x) (max y - min y): the area of the contour's bounding box."""
+    return float((x.max() - x.min()) * (y.max() - y.min()))
+
+
 def _side_names(
     x: F64,
     y: F64,
@@ -1304,7 +1384,7 @@ def _side_names(
     is the upper one unless it lies below the stagnation point."""
     if closed:
         area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
-        if abs(area) > 1e-12 * float(np.ptp(x) * np.ptp(y) + 1e-300):
+        if abs(area) > 1e-12 * (_extent_product(x, y) + 1e-300):
             return ("upper", "lower") if area > 0.0 else ("lower", "upper")
     mean = [float(y[branch].mean()) if branch.size else np.nan for branch in branches]
     if np.isnan(mean[1]) or np.isnan(mean[0]):

@@ -185,6 +185,24 @@ def smooth(t: F64, q: F64, penalty: float | None, periodic: bool) -> Smoothed:
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _cubic_residuals(s: F64, q: F64, stride: int, out: F64) -> None:
+    """Into ``out[i - 4]``, for points i = 4 .. n-5: |q_i - cubic through the points
+    ``stride`` and ``2 stride`` places away on either side (nodes a, b, c, d)| divided by
+    sqrt(1 + sum w^2), w the cubic's Lagrange weights at s_i (each the product of its three
+    factors in node order)."""
+    for i in range(4, s.size - 4):
+        a, b, c, d = i - 2 * stride, i - stride, i + stride, i + 2 * stride
+        si, sa, sb, sc, sd = s[i], s[a], s[b], s[c], s[d]
+        w0 = (si - sb) / (sa - sb) * ((si - sc) / (sa - sc)) * ((si - sd) / (sa - sd))
+        w1 = (si - sa) / (sb - sa) * ((si - sc) / (sb - sc)) * ((si - sd) / (sb - sd))
+        w2 = (si - sa) / (sc - sa) * ((si - sb) / (sc - sb)) * ((si - sd) / (sc - sd))
+        w3 = (si - sa) / (sd - sa) * ((si - sb) / (sd - sb)) * ((si - sc) / (sd - sc))
+        gain = 1.0 + w0 * w0 + w1 * w1 + w2 * w2 + w3 * w3
+        fit = 0.0 + w0 * q[a] + w1 * q[b] + w2 * q[c] + w3 * q[d]
+        out[i - 4] = abs(q[i] - fit) / np.sqrt(gain)
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _cubic_residual_medians(s: F64, q: F64) -> tuple[float, float, float]:
     """Median absolute residual of q at points 4 .. n-5 from the cubic through the points
     one and two places away on either side (stride 1), and from the one through the points
@@ -193,23 +211,8 @@ def _cubic_residual_medians(s: F64, q: F64) -> tuple[float, float, float]:
     of q between neighbouring points."""
     n = q.size
     out = np.empty((2, n - 8))
-    nodes = np.empty(4, dtype=np.int64)
-    weights = np.empty(4)
-    for c, stride in enumerate((1, 2)):
-        for i in range(4, n - 4):
-            nodes[0], nodes[1] = i - 2 * stride, i - stride
-            nodes[2], nodes[3] = i + stride, i + 2 * stride
-            gain = 1.0
-            fit = 0.0
-            for j in range(4):
-                w = 1.0
-                for k in range(4):
-                    if j != k:
-                        w *= (s[i] - s[nodes[k]]) / (s[nodes[j]] - s[nodes[k]])
-                weights[j] = w
-                gain += w * w
-                fit += w * q[nodes[j]]
-            out[c, i - 4] = abs(q[i] - fit) / np.sqrt(gain)
+    _cubic_residuals(s, q, 1, out[0])
+    _cubic_residuals(s, q, 2, out[1])
     step = np.abs(q[1:] - q[:-1])
     return float(np.median(out[0])), float(np.median(out[1])), float(np.median(step))
 
