@@ -1,0 +1,646 @@
+"""Compiled finite-difference solution of the laminar boundary-layer equations.
+
+A differential alternative to the integral laminar methods: the steady, incompressible
+boundary-layer equations are marched from the start of a side to separation (or to its
+end) by the box scheme of Keller (1970, "A new difference scheme for parabolic problems",
+in Numerical Solution of Partial Differential Equations II, Academic Press) as set out by
+Cebeci & Bradshaw (1977, "Momentum Transfer in Boundary Layers", Hemisphere), with Newton
+iteration on the block-tridiagonal system at each station.  The arrangement below (the
+variables, the ordering of the equations into 3 x 3 blocks, the Newton linearisation, the
+step control near separation) is written from memory of those sources, not re-checked
+against them; the tests check the result against independent scipy solutions
+(``ibl.references``) and published separation points.
+
+Equations
+---------
+Goertler's variables with Mangler's transformation for a body of revolution (r = 1 for a
+planar flow; s arc length, y normal distance, r(s) body radius, all lengths in one unit):
+
+    xi = int_0^s r^2 Ue ds,   eta = r Ue y / sqrt(2 nu xi),   psi = sqrt(2 nu xi) f(xi, eta) / r,
+
+    f' = u,  u' = v,
+    v' + f v + beta (1 - u^2) = 2 xi (u du/dxi - v df/dxi),   beta = 2 xi Ue' / (r^2 Ue^2),
+    f(0) = u(0) = 0,  u(eta_max) = 1,
+
+with u = u_x / Ue.  At xi = 0 the right-hand side vanishes and the equations reduce to the
+Falkner-Skan equation of the starting beta: 0 at a sharp leading edge (Blasius), 1 at a
+planar stagnation point (Hiemenz), 1/2 at the nose of a body of revolution (Homann through
+Mangler's transformation).  The starting profile is that similarity solution, computed by
+the same box scheme on the same grid (so that it is consistent with the march).
+
+Box scheme: the first-order system is differenced at the centre of each box
+(xi_{n-1/2}, eta_{j-1/2}): averages for the values, central differences for the
+derivatives, so that the scheme is second-order in both directions on any grid
+(Keller 1970).  Newton's method on the unknowns (f, u, v) of station n; the linear system
+is block-tridiagonal with 3 x 3 blocks, solved by block elimination (rows: f and u at the
+wall with the u-equation of the first box; then, per point, the f-equation and momentum
+of box j with the u-equation of box j + 1; at the edge u = 1).
+
+Outputs, back in physical variables, with scale = sqrt(2 nu xi) / (r Ue):
+
+    delta* = scale int (1 - u) d eta,   theta = scale int u (1 - u) d eta,
+    Cf = tau_w / (rho Ue^2 / 2) = 2 nu v(0) / (Ue scale).
+
+At a stagnation start, scale tends to sqrt(nu / Ue'(0)) (planar) or sqrt(nu / (2 Ue'(0)))
+(axisymmetric, r ~ s); at a sharp start it tends to 0.  Cf is NaN at the first station
+(Ue = 0 or theta = 0 there), as in the integral march.
+
+Separation: the wall shear v(0) vanishes like sqrt(s_sep - s) (Goldstein 1948, "On laminar
+boundary-layer flow near a position of separation", Q. J. Mech. Appl. Math. 1), where the
+direct problem is singular.  Once v(0) falls, the step is cut to ``SEPARATION_FRACTION`` of
+the distance to the separation extrapolated from v(0)^2 (linear in s near it), down to
+``MIN_STEP`` of the side length; the march stops when the wall shear is no longer positive
+or Newton no longer converges at the smallest step, and s_sep is where the straight line
+fitted to v(0)^2 over the last ``SEPARATION_FIT`` stations vanishes.
+
+Edge data between stations: Ue by the cubic Hermite interpolant of (Ue, dUe/ds) at the
+stations (dUe/ds given, or from ``numpy.gradient`` to second order), r likewise with
+dr/ds from ``numpy.gradient``; xi by 3-point Gauss-Legendre quadrature of r^2 Ue on each
+step.  Each interval between stations is split into ``SUBSTEPS`` equal steps (more near
+separation).
+
+Grid and its error (see ``tests/test_finite_difference.py`` and ``grid_study``): the
+default grid is ``N_ETA`` points to ``ETA_MAX`` with steps growing by ``STRETCH``; halving
+every step in eta and s changes the separation of the circular cylinder, Howarth's flow and
+the sphere and theta of the Falkner-Skan flows by the amounts given in the module
+constants' comments (Richardson estimate for a second-order scheme: error ~ change / 3).
+"""
+
+from __future__ import annotations
+
+import math
+from dataclasses import dataclass
+
+import numba
+import numpy as np
+from numpy.typing import NDArray
+
+__all__ = [
+    "ETA_MAX",
+    "N_ETA",
+    "STRETCH",
+    "SUBSTEPS",
+    "LaminarSolution",
+    "eta_grid",
+    "march_laminar",
+]
+
+F64 = NDArray[np.float64]
+
+#: Edge of the eta domain.  u - 1 decays like exp(-eta^2 / 2) outside the layer; a
+#: Blasius layer ends (u = 0.99) near eta = 3.5 and a layer about to separate near 6 to 7
+#: (common practice: 8 to 12 in Goertler variables).
+ETA_MAX = 12.0
+#: Points in eta (including the wall and the edge); chosen by the grid study in the tests.
+N_ETA = 61
+#: Ratio of successive eta steps (geometric stretching towards the edge; common practice,
+#: Cebeci & Bradshaw 1977 use about 1.02 to 1.1) [memory].
+STRETCH = 1.05
+#: Equal steps per interval between the given stations.
+SUBSTEPS = 2
+#: Step near separation, as a fraction of the distance to the extrapolated separation.
+SEPARATION_FRACTION = 0.1
+#: Smallest step, as a fraction of the side length.
+MIN_STEP = 2e-5
+#: Stations of the straight-line fit of v(0)^2 against s that locates separation.
+SEPARATION_FIT = 4
+#: Newton: largest correction at convergence, and the most iterations per station.
+NEWTON_TOL = 1e-10
+NEWTON_MAX = 25
+
+START_STAGNATION = 0
+START_SHARP = 1
+
+# Reasons the march stopped.
+STOP_END = 0  # reached the last station
+STOP_SEPARATION = 1  # wall shear reached zero
+STOP_FAILED = 2  # Newton did not converge away from separation
+
+
+def eta_grid(n_eta: int = N_ETA, eta_max: float = ETA_MAX, stretch: float = STRETCH) -> F64:
+    """Points in eta from 0 to ``eta_max`` whose steps grow by ``stretch``.
+
+    >>> g = eta_grid(11, 10.0, 1.0)
+    >>> float(g[1]), float(g[-1])
+    (1.0, 10.0)
+    """
+    n = n_eta - 1
+    if stretch == 1.0:
+        return np.linspace(0.0, eta_max, n_eta)
+    h1 = eta_max * (stretch - 1.0) / (stretch**n - 1.0)
+    eta = np.zeros(n_eta)
+    eta[1:] = np.cumsum(h1 * stretch ** np.arange(n))
+    eta[-1] = eta_max
+    return eta
+
+
+# ------------------------------------------------------------------------ compiled part
+
+
+@numba.njit(cache=True)
+def _inv3(m: F64, out: F64) -> None:  # pragma: no cover - compiled
+    """Inverse of a 3 x 3 matrix by cofactors."""
+    a, b, c = m[0, 0], m[0, 1], m[0, 2]
+    d, e, f = m[1, 0], m[1, 1], m[1, 2]
+    g, h, i = m[2, 0], m[2, 1], m[2, 2]
+    c00 = e * i - f * h
+    c01 = f * g - d * i
+    c02 = d * h - e * g
+    det = a * c00 + b * c01 + c * c02
+    r = 1.0 / det
+    out[0, 0] = c00 * r
+    out[0, 1] = (c * h - b * i) * r
+    out[0, 2] = (b * f - c * e) * r
+    out[1, 0] = c01 * r
+    out[1, 1] = (a * i - c * g) * r
+    out[1, 2] = (c * d - a * f) * r
+    out[2, 0] = c02 * r
+    out[2, 1] = (b * g - a * h) * r
+    out[2, 2] = (a * e - b * d) * r
+
+
+@numba.njit(cache=True)
+def _newton(
+    h: F64,
+    f: F64,
+    u: F64,
+    v: F64,
+    fo: F64,
+    uo: F64,
+    vo: F64,
+    w: float,
+    alpha: float,
+    beta: float,
+    work_a: F64,
+    work_b: F64,
+    work_c: F64,
+    work_r: F64,
+) -> bool:  # pragma: no cover - compiled
+    """Newton iterations of one station; (f, u, v) hold the guess and get the solution.
+
+    w is the weight of the new station in the xi-averages (1/2 for the box scheme, 1 for
+    the similarity solution at xi = 0), alpha = 2 xi_{n-1/2} / (xi_n - xi_{n-1}) (0 at
+    xi = 0), beta the pressure-gradient parameter at the box centre.
+    """
+    n = f.size
+    nb = n - 1  # boxes 1..nb
+    wo = 1.0 - w
+    big_a, big_b, big_c, rhs = work_a, work_b, work_c, work_r
+    gam = np.empty((n, 3, 3))
+    y = np.empty((n, 3))
+    dmat = np.empty((3, 3))
+    dinv = np.empty((3, 3))
+    tmp = np.empty(3)
+    for _ in range(NEWTON_MAX):
+        big_a[:] = 0.0
+        big_b[:] = 0.0
+        big_c[:] = 0.0
+        # Row 0: f(0) = 0, u(0) = 0, u-equation of box 1.
+        big_b[0, 0, 0] = 1.0
+        rhs[0, 0] = -f[0]
+        big_b[0, 1, 1] = 1.0
+        rhs[0, 1] = -u[0]
+        for j in range(1, nb + 1):
+            hj = h[j - 1]
+            # u-equation of box j: u_j - u_{j-1} - h/2 (v_j + v_{j-1}) = 0, in row j - 1.
+            row = j - 1
+            big_b[row, 2, 1] = -1.0
+            big_b[row, 2, 2] = -0.5 * hj
+            big_c[row, 2, 1] = 1.0
+            big_c[row, 2, 2] = -0.5 * hj
+            rhs[row, 2] = -(u[j] - u[j - 1] - 0.5 * hj * (v[j] + v[j - 1]))
+            # f-equation of box j, row j slot 0.
+            big_a[j, 0, 0] = -1.0
+            big_a[j, 0, 1] = -0.5 * hj
+            big_b[j, 0, 0] = 1.0
+            big_b[j, 0, 1] = -0.5 * hj
+            rhs[j, 0] = -(f[j] - f[j - 1] - 0.5 * hj * (u[j] + u[j - 1]))
+            # Momentum of box j, row j slot 1.
+            fb = 0.5 * (f[j] + f[j - 1])
+            ub = 0.5 * (u[j] + u[j - 1])
+            vb = 0.5 * (v[j] + v[j - 1])
+            fbo = 0.5 * (fo[j] + fo[j - 1])
+            ubo = 0.5 * (uo[j] + uo[j - 1])
+            vbo = 0.5 * (vo[j] + vo[j - 1])
+            ff = w * fb + wo * fbo
+            uu = w * ub + wo * ubo
+            vv = w * vb + wo * vbo
+            vp = w * (v[j] - v[j - 1]) / hj + wo * (vo[j] - vo[j - 1]) / hj
+            res = (
+                vp + ff * vv + beta * (1.0 - uu * uu) - alpha * (uu * (ub - ubo) - vv * (fb - fbo))
+            )
+            d_f = w * vv + alpha * vv
+            d_u = -2.0 * beta * uu * w - alpha * (w * (ub - ubo) + uu)
+            d_v = w * ff + alpha * w * (fb - fbo)
+            big_a[j, 1, 0] = 0.5 * d_f
+            big_a[j, 1, 1] = 0.5 * d_u
+            big_a[j, 1, 2] = 0.5 * d_v - w / hj
+            big_b[j, 1, 0] = 0.5 * d_f
+            big_b[j, 1, 1] = 0.5 * d_u
+            big_b[j, 1, 2] = 0.5 * d_v + w / hj
+            rhs[j, 1] = -res
+        # Row nb slot 2: u at the edge = 1.
+        big_b[nb, 2, 1] = 1.0
+        rhs[nb, 2] = -(u[nb] - 1.0)
+        # Block elimination.
+        for j in range(n):
+            for p in range(3):
+                for q in range(3):
+                    acc = big_b[j, p, q]
+                    if j > 0:
+                        for k in range(3):
+                            acc -= big_a[j, p, k] * gam[j - 1, k, q]
+                    dmat[p, q] = acc
+                tmp[p] = rhs[j, p]
+                if j > 0:
+                    for k in range(3):
+                        tmp[p] -= big_a[j, p, k] * y[j - 1, k]
+            _inv3(dmat, dinv)
+            for p in range(3):
+                acc = 0.0
+                for k in range(3):
+                    acc += dinv[p, k] * tmp[k]
+                y[j, p] = acc
+                for q in range(3):
+                    acc = 0.0
+                    for k in range(3):
+                        acc += dinv[p, k] * big_c[j, k, q]
+                    gam[j, p, q] = acc
+        largest = 0.0
+        for j in range(n - 1, -1, -1):
+            if j < n - 1:
+                for p in range(3):
+                    for k in range(3):
+                        y[j, p] -= gam[j, p, k] * y[j + 1, k]
+            f[j] += y[j, 0]
+            u[j] += y[j, 1]
+            v[j] += y[j, 2]
+            for p in range(3):
+                largest = max(largest, abs(y[j, p]))
+        if not np.isfinite(largest):
+            return False
+        if largest < NEWTON_TOL:
+            return True
+    return False
+
+
+@numba.njit(cache=True)
+def _hermite(
+    t: float, hx: float, y0: float, y1: float, d0: float, d1: float
+) -> tuple[float, float]:  # pragma: no cover - compiled
+    """Cubic Hermite value and slope at fraction t of an interval of length hx."""
+    t2 = t * t
+    t3 = t2 * t
+    h00 = 2 * t3 - 3 * t2 + 1
+    h10 = t3 - 2 * t2 + t
+    h01 = -2 * t3 + 3 * t2
+    h11 = t3 - t2
+    val = h00 * y0 + h10 * hx * d0 + h01 * y1 + h11 * hx * d1
+    g00 = (6 * t2 - 6 * t) / hx
+    g10 = 3 * t2 - 4 * t + 1
+    g01 = (-6 * t2 + 6 * t) / hx
+    g11 = 3 * t2 - 2 * t
+    slope = g00 * y0 + g10 * d0 + g01 * y1 + g11 * d1
+    return val, slope
+
+
+@numba.njit(cache=True)
+def _edge(
+    s: F64, ue: F64, due: F64, r: F64, dr: F64, i: int, x: float
+) -> tuple[float, float, float]:  # pragma: no cover - compiled
+    """Ue, dUe/ds and r at x in interval i (between stations i and i + 1)."""
+    hx = s[i + 1] - s[i]
+    t = (x - s[i]) / hx
+    uval, uslope = _hermite(t, hx, ue[i], ue[i + 1], due[i], due[i + 1])
+    rval, _ = _hermite(t, hx, r[i], r[i + 1], dr[i], dr[i + 1])
+    return uval, uslope, rval
+
+
+@numba.njit(cache=True)
+def _xi_increment(
+    s: F64, ue: F64, due: F64, r: F64, dr: F64, i: int, a: float, b: float
+) -> float:  # pragma: no cover - compiled
+    """int_a^b r^2 Ue ds inside interval i, 3-point Gauss-Legendre."""
+    half = 0.5 * (b - a)
+    mid = 0.5 * (a + b)
+    g = math.sqrt(0.6)
+    total = 0.0
+    for node, weight in ((-g, 5.0 / 9.0), (0.0, 8.0 / 9.0), (g, 5.0 / 9.0)):
+        uval, _, rval = _edge(s, ue, due, r, dr, i, mid + half * node)
+        total += weight * rval * rval * uval
+    return half * total
+
+
+@numba.njit(cache=True)
+def _integrals(eta: F64, u: F64) -> tuple[float, float]:  # pragma: no cover - compiled
+    """Trapezoidal int (1 - u) d eta and int u (1 - u) d eta."""
+    d1 = 0.0
+    d2 = 0.0
+    for j in range(1, eta.size):
+        hj = eta[j] - eta[j - 1]
+        d1 += 0.5 * hj * ((1.0 - u[j]) + (1.0 - u[j - 1]))
+        d2 += 0.5 * hj * (u[j] * (1.0 - u[j]) + u[j - 1] * (1.0 - u[j - 1]))
+    return d1, d2
+
+
+@numba.njit(cache=True)
+def _march(
+    s: F64,
+    ue: F64,
+    due: F64,
+    r: F64,
+    dr: F64,
+    nu: float,
+    axisymmetric: bool,
+    start: int,
+    eta: F64,
+    substeps: int,
+    s_stop: float,
+    out: F64,
+    events: F64,
+) -> None:  # pragma: no cover - compiled
+    """The march; out[0:4, i] = theta, H, Cf, v(0) at station i (NaN beyond the end);
+    events = (s_sep, stop reason, last station index, steps, Newton failures)."""
+    n = s.size
+    m = eta.size
+    h = eta[1:] - eta[:-1]
+    out[:, :] = np.nan
+    work_a = np.zeros((m, 3, 3))
+    work_b = np.zeros((m, 3, 3))
+    work_c = np.zeros((m, 3, 3))
+    work_r = np.zeros((m, 3))
+    f = np.empty(m)
+    u = np.empty(m)
+    v = np.empty(m)
+    for j in range(m):
+        ex = math.exp(-eta[j])
+        f[j] = eta[j] - 1.0 + ex
+        u[j] = 1.0 - ex
+        v[j] = ex
+    if start == START_STAGNATION:
+        beta0 = 0.5 if axisymmetric else 1.0
+    else:
+        beta0 = 0.0
+    ok = _newton(h, f, u, v, f, u, v, 1.0, 0.0, beta0, work_a, work_b, work_c, work_r)
+    events[0] = np.nan
+    events[1] = STOP_END
+    events[2] = 0
+    events[3] = 0
+    events[4] = 0
+    if not ok:
+        events[1] = STOP_FAILED
+        return
+    d1, d2 = _integrals(eta, u)
+    if start == START_STAGNATION:
+        a = due[0]
+        scale0 = math.sqrt(nu / (2.0 * a)) if axisymmetric else math.sqrt(nu / a)
+    else:
+        scale0 = 0.0
+    out[0, 0] = scale0 * d2
+    out[1, 0] = d1 / d2
+    out[3, 0] = v[0]
+    fo = f.copy()
+    uo = u.copy()
+    vo = v.copy()
+    fg = np.empty(m)
+    ug = np.empty(m)
+    vg = np.empty(m)
+    # Previous station, for the guess by extrapolation.
+    fp = f.copy()
+    up = u.copy()
+    vp = v.copy()
+    have_prev = False
+    x_old = s[0]
+    xi_old = 0.0
+    beta_old = beta0
+    side = s[n - 1] - s[0]
+    dx_min = MIN_STEP * side
+    # History of wall shear for the separation estimate.
+    hist_x = np.empty(SEPARATION_FIT)
+    hist_t = np.empty(SEPARATION_FIT)
+    n_hist = 0
+    hist_x[0] = x_old
+    hist_t[0] = v[0] * v[0]
+    n_hist = 1
+    dx_prev = 0.0
+    steps = 0
+    failures = 0
+    i = 0
+    while i < n - 1:
+        base = (s[i + 1] - s[i]) / substeps
+        dx = base
+        # Separation estimate from the last two values of v(0)^2.
+        if n_hist >= 2:
+            k1 = (n_hist - 1) % SEPARATION_FIT
+            k0 = (n_hist - 2) % SEPARATION_FIT
+            slope = (hist_t[k1] - hist_t[k0]) / (hist_x[k1] - hist_x[k0])
+            if slope < 0.0:
+                x_est = hist_x[k1] - hist_t[k1] / slope
+                dx = min(dx, max(dx_min, SEPARATION_FRACTION * (x_est - x_old)))
+        if x_old + dx > s[i + 1] - 1e-12 * side:
+            dx = s[i + 1] - x_old
+        if x_old + dx > s_stop:
+            dx = max(s_stop - x_old, 0.0)
+            if dx <= 0.0:
+                events[1] = STOP_END
+                break
+        converged = False
+        tau = 0.0
+        x_new = x_old + dx
+        xi_new = 0.0
+        beta_new = 0.0
+        while True:
+            x_new = x_old + dx
+            xi_new = xi_old + _xi_increment(s, ue, due, r, dr, i, x_old, x_new)
+            u_e, du_e, r_e = _edge(s, ue, due, r, dr, i, x_new)
+            beta_new = 2.0 * xi_new * du_e / (r_e * r_e * u_e * u_e)
+            # Guess: linear extrapolation from the last two stations.
+            if have_prev and dx_prev > 0.0:
+                c = dx / dx_prev
+                for j in range(m):
+                    fg[j] = fo[j] + c * (fo[j] - fp[j])
+                    ug[j] = uo[j] + c * (uo[j] - up[j])
+                    vg[j] = vo[j] + c * (vo[j] - vp[j])
+            else:
+                fg[:] = fo
+                ug[:] = uo
+                vg[:] = vo
+            xi_mid = 0.5 * (xi_new + xi_old)
+            alpha = 2.0 * xi_mid / (xi_new - xi_old)
+            beta_mid = 0.5 * (beta_new + beta_old)
+            converged = _newton(
+                h, fg, ug, vg, fo, uo, vo, 0.5, alpha, beta_mid, work_a, work_b, work_c, work_r
+            )
+            tau = vg[0]
+            steps += 1
+            if converged and tau > 0.0:
+                break
+            failures += 1
+            if dx <= 2.0 * dx_min:
+                break
+            dx = 0.5 * dx
+        if not (converged and tau > 0.0):
+            # Separation if the wall shear was falling, else a failure.
+            if n_hist >= 2:
+                cnt = min(n_hist, SEPARATION_FIT)
+                sx = 0.0
+                st = 0.0
+                for k in range(cnt):
+                    sx += hist_x[k]
+                    st += hist_t[k]
+                mx = sx / cnt
+                mt = st / cnt
+                sxx = 0.0
+                sxt = 0.0
+                for k in range(cnt):
+                    sxx += (hist_x[k] - mx) ** 2
+                    sxt += (hist_x[k] - mx) * (hist_t[k] - mt)
+                slope = sxt / sxx if sxx > 0.0 else 0.0
+                if slope < 0.0:
+                    events[0] = mx - mt / slope
+                    events[1] = STOP_SEPARATION
+                else:
+                    events[1] = STOP_FAILED
+            else:
+                events[1] = STOP_FAILED
+            break
+        fp[:] = fo
+        up[:] = uo
+        vp[:] = vo
+        fo[:] = fg
+        uo[:] = ug
+        vo[:] = vg
+        have_prev = True
+        dx_prev = dx
+        x_old = x_new
+        xi_old = xi_new
+        beta_old = beta_new
+        hist_x[n_hist % SEPARATION_FIT] = x_new
+        hist_t[n_hist % SEPARATION_FIT] = tau * tau
+        n_hist += 1
+        if x_new >= s[i + 1] - 1e-12 * side:
+            i += 1
+            x_old = s[i]
+            u_e = ue[i]
+            r_e = r[i]
+            scale = math.sqrt(2.0 * nu * xi_new) / (r_e * u_e)
+            d1, d2 = _integrals(eta, uo)
+            out[0, i] = scale * d2
+            out[1, i] = d1 / d2
+            out[2, i] = 2.0 * nu * tau / (u_e * scale)
+            out[3, i] = tau
+            events[2] = i
+    events[3] = steps
+    events[4] = failures
+
+
+# ------------------------------------------------------------------------ Python interface
+
+
+@dataclass(frozen=True)
+class LaminarSolution:
+    """The finite-difference laminar march of one side.
+
+    Station arrays (NaN beyond the last station reached): ``theta`` and ``delta_star``
+    in the unit of s, ``shape_factor`` H = delta*/theta, ``cf`` = tau_w / (rho Ue^2 / 2)
+    (NaN at the first station), ``wall_shear`` v(0) = d^2 f / d eta^2 at the wall in
+    Goertler variables.  ``separation`` is the arc length where the wall shear vanishes
+    (NaN if it does not before the end), ``last`` the index of the last station reached,
+    ``stop`` one of "end", "separation", "failed"; ``steps`` counts the Newton solves.
+    """
+
+    s: F64
+    theta: F64
+    shape_factor: F64
+    cf: F64
+    wall_shear: F64
+    separation: float
+    last: int
+    stop: str
+    steps: int
+
+    @property
+    def delta_star(self) -> F64:
+        """Displacement thickness, H theta."""
+        out: F64 = self.shape_factor * self.theta
+        return out
+
+
+_STOPS = {STOP_END: "end", STOP_SEPARATION: "separation", STOP_FAILED: "failed"}
+
+
+def march_laminar(
+    s: F64,
+    ue: F64,
+    nu: float,
+    *,
+    due: F64 | None = None,
+    r: F64 | None = None,
+    start: str | None = None,
+    s_stop: float = math.inf,
+    n_eta: int = N_ETA,
+    eta_max: float = ETA_MAX,
+    stretch: float = STRETCH,
+    substeps: int = SUBSTEPS,
+) -> LaminarSolution:
+    """March the laminar boundary-layer equations along one side (Keller box scheme).
+
+    Parameters
+    ----------
+    s : arc length of the stations from the start of the side (s[0] = 0), increasing.
+    ue : edge velocity at the stations (> 0 after the first; 0 at a stagnation point).
+    nu : kinematic viscosity in the units of s and ue (1 / Re with s and ue dimensionless).
+    due : dUe/ds at the stations; ``numpy.gradient`` (second order) when omitted.
+    r : body radius at the stations for a body of revolution (Mangler); planar if None.
+    start : "stagnation" (Hiemenz / Homann profile) or "sharp" (Blasius); by default
+        stagnation when ue[0] == 0, else sharp.
+    s_stop : the march ends at the first station at or beyond this arc length.
+    n_eta, eta_max, stretch : the grid in eta (``eta_grid``).
+    substeps : equal steps per interval between stations (more near separation).
+
+    Notes
+    -----
+    A sharp start of a body of revolution with r(0) = 0 (a cone tip) starts from the
+    Blasius profile too: beta = 2 xi Ue' / (r^2 Ue^2) tends to 0 there.
+
+    Examples
+    --------
+    >>> x = np.linspace(0.0, 1.0, 21)
+    >>> sol = march_laminar(x, np.ones_like(x), 1e-6)
+    >>> round(float(sol.theta[-1] / np.sqrt(1e-6)), 3)  # Blasius: 0.664 sqrt(nu x / U)
+    0.664
+    """
+    s = np.ascontiguousarray(s, dtype=np.float64)
+    ue = np.ascontiguousarray(ue, dtype=np.float64)
+    if s.ndim != 1 or s.size < 3 or ue.shape != s.shape:
+        raise ValueError("s and ue must be 1-D arrays of the same length, at least 3")
+    if not np.all(np.diff(s) > 0.0):
+        raise ValueError("s must increase")
+    due_a = (
+        np.gradient(ue, s, edge_order=2)
+        if due is None
+        else np.ascontiguousarray(due, dtype=np.float64)
+    )
+    axisymmetric = r is not None
+    r_a = np.ones_like(s) if r is None else np.ascontiguousarray(r, dtype=np.float64)
+    dr_a = np.gradient(r_a, s, edge_order=2) if axisymmetric else np.zeros_like(s)
+    kind = start if start is not None else ("stagnation" if ue[0] == 0.0 else "sharp")
+    code = START_STAGNATION if kind == "stagnation" else START_SHARP
+    eta = eta_grid(n_eta, eta_max, stretch)
+    out = np.empty((4, s.size))
+    events = np.empty(5)
+    _march(
+        s, ue, due_a, r_a, dr_a, float(nu), axisymmetric, code, eta, int(substeps),
+        float(s_stop), out, events,
+    )  # fmt: skip
+    return LaminarSolution(
+        s=s,
+        theta=out[0],
+        shape_factor=out[1],
+        cf=out[2],
+        wall_shear=out[3],
+        separation=float(events[0]),
+        last=int(events[2]),
+        stop=_STOPS[int(events[1])],
+        steps=int(events[3]),
+    )
