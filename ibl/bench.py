@@ -9,7 +9,9 @@ Contents
   timed in the same run and used to show that the fast march gives the same answers.
 - ``main()``: prints microseconds per side at N = 200 and 400, single and batched; sides
   per second in a batch for full and summary answers (``output.stations = false``), and
-  the size of one answer, full and summary, in JSON and MessagePack.
+  the size of one answer, full and summary, in JSON and MessagePack; at N = 200 the
+  finite-difference laminar march (``ibl.finite_difference``) per side against the march
+  of the integral methods on the same sides, as a ratio with its target.
 """
 
 from __future__ import annotations
@@ -23,11 +25,12 @@ import msgspec
 import numpy as np
 
 from ibl.analysis import analyze, parse_case, run, run_batch
+from ibl.finite_difference import march_laminar
 from ibl.march import march
 from ibl.prepare import SideInput, prepare
 from ibl.schema import Output
 
-__all__ = ["ellipse_case", "main", "reference_side"]
+__all__ = ["FD_COST_TARGET", "ellipse_case", "finite_difference_side", "main", "reference_side"]
 
 
 def ellipse_case(n: int, reynolds: float = 2e6) -> dict[str, Any]:
@@ -166,11 +169,38 @@ def _figures(n: int, repeat: int, batch: int) -> None:
         print(f"{'':>7} one answer in {fmt}: {full:,} bytes full, {short:,} bytes summary")
 
 
+#: Target: the finite-difference laminar march costs at most this many times the march of
+#: the integral methods, per side.
+FD_COST_TARGET = 10.0
+
+
+def finite_difference_side(side: SideInput) -> float:
+    """The finite-difference laminar march of one side; its separation s (NaN if none)."""
+    start = side.start if side.start in ("stagnation", "sharp") else None
+    radius = side.r if side.axisymmetric else None
+    return march_laminar(side.s, side.ue, side.nu, r=radius, start=start).separation
+
+
+def _finite_difference_figures(n: int, repeat: int) -> None:
+    sides = prepare(parse_case(ellipse_case(n))).sides
+    integral = _time(lambda: march(sides), repeat) / len(sides)
+    fd = _time(lambda: [finite_difference_side(side) for side in sides], 20) / len(sides)
+    print(
+        f"{n:>7} {'finite-difference laminar march (to separation)':<46} "
+        f"{fd * len(sides) * 1e3:>8.3f} ms {fd * 1e6:>8.1f} us"
+    )
+    print(
+        f"{'':>7} finite-difference / integral march per side: {fd / integral:.1f} "
+        f"(target <= {FD_COST_TARGET:g})"
+    )
+
+
 def main(repeat: int = 200, batch: int = 2000) -> int:
     """Print timing figures; return 0."""
     print("ibl bench: median wall time, one process, one core")
     print(f"{'N/side':>7} {'what':<46} {'per case':>11} {'per side':>11}")
     for n in (200, 400):
         _figures(n, repeat, batch)
+    _finite_difference_figures(200, repeat)
     print("Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch.")
     return 0
