@@ -115,14 +115,18 @@ STRETCH = 1.06
 #: Equal steps per interval between the given stations.
 SUBSTEPS = 1
 #: Step near separation, as a fraction of the distance to the extrapolated separation.
-SEPARATION_FRACTION = 0.1
+SEPARATION_FRACTION = 0.2
 #: Smallest step, as a fraction of the side length.
 MIN_STEP = 2e-5
 #: Stations of the straight-line fit of v(0)^2 against s that locates separation.
 SEPARATION_FIT = 4
 #: Newton: largest correction at convergence, and the most iterations per station.
-NEWTON_TOL = 1e-9
+NEWTON_TOL = 1e-8
 NEWTON_MAX = 25
+
+#: Floating-point liberties of the compiled code: contraction and reassociation, but not
+#: the assumption of finite values (a diverging Newton iteration must be seen).
+_FAST = {"contract", "reassoc", "arcp", "nsz"}
 
 # Reasons the march stopped.
 STOP_END = 0  # reached the last station
@@ -150,7 +154,7 @@ def eta_grid(n_eta: int = N_ETA, eta_max: float = ETA_MAX, stretch: float = STRE
 # ------------------------------------------------------------------------ compiled part
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _inv3(m: F64, out: F64) -> None:  # pragma: no cover - compiled
     """Inverse of a 3 x 3 matrix by cofactors."""
     a, b, c = m[0, 0], m[0, 1], m[0, 2]
@@ -172,7 +176,7 @@ def _inv3(m: F64, out: F64) -> None:  # pragma: no cover - compiled
     out[2, 2] = (a * e - b * d) * r
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _newton(
     h: F64,
     f: F64,
@@ -186,7 +190,6 @@ def _newton(
     beta: float,
     work_a: F64,
     work_b: F64,
-    work_c: F64,
     work_r: F64,
 ) -> int:  # pragma: no cover - compiled
     """Newton iterations of one station: their number, or -1 if they fail.
@@ -200,16 +203,14 @@ def _newton(
     n = f.size
     nb = n - 1  # boxes 1..nb
     wo = 1.0 - w
-    big_a, big_b, big_c, rhs = work_a, work_b, work_c, work_r
-    gam = np.empty((n, 3, 3))
+    big_a, big_b, rhs = work_a, work_b, work_r
+    g = np.empty((n, 3))
     y = np.empty((n, 3))
     dmat = np.empty((3, 3))
     dinv = np.empty((3, 3))
     tmp = np.empty(3)
     for iteration in range(NEWTON_MAX):
-        big_a[:] = 0.0
-        big_b[:] = 0.0
-        big_c[:] = 0.0
+        # The work arrays arrive zeroed; the same entries are written on every call.
         # Row 0: f(0) = 0, u(0) = 0, u-equation of box 1.
         big_b[0, 0, 0] = 1.0
         rhs[0, 0] = -f[0]
@@ -221,8 +222,6 @@ def _newton(
             row = j - 1
             big_b[row, 2, 1] = -1.0
             big_b[row, 2, 2] = -0.5 * hj
-            big_c[row, 2, 1] = 1.0
-            big_c[row, 2, 2] = -0.5 * hj
             rhs[row, 2] = -(u[j] - u[j - 1] - 0.5 * hj * (v[j] + v[j - 1]))
             # f-equation of box j, row j slot 0.
             big_a[j, 0, 0] = -1.0
@@ -257,36 +256,36 @@ def _newton(
         # Row nb slot 2: u at the edge = 1.
         big_b[nb, 2, 1] = 1.0
         rhs[nb, 2] = -(u[nb] - 1.0)
-        # Block elimination.
+        # Block elimination.  Only row 2 of C_j is non-zero, c_j = (0, 1, -h_{j+1}/2) (the
+        # u-equation of box j + 1), so Gamma_j = D_j^-1 C_j = g_j c_j^T with g_j the last
+        # column of D_j^-1, and A_j Gamma_{j-1} changes columns 1 and 2 of B_j only.
         for j in range(n):
             for p in range(3):
-                for q in range(3):
-                    acc = big_b[j, p, q]
-                    if j > 0:
-                        for k in range(3):
-                            acc -= big_a[j, p, k] * gam[j - 1, k, q]
-                    dmat[p, q] = acc
                 tmp[p] = rhs[j, p]
-                if j > 0:
-                    for k in range(3):
-                        tmp[p] -= big_a[j, p, k] * y[j - 1, k]
+                for q in range(3):
+                    dmat[p, q] = big_b[j, p, q]
+            if j > 0:
+                half = 0.5 * h[j - 1]
+                for p in range(2):  # row 2 of A_j is zero
+                    ag = big_a[j, p, 0] * g[j - 1, 0]
+                    ag += big_a[j, p, 1] * g[j - 1, 1]
+                    ag += big_a[j, p, 2] * g[j - 1, 2]
+                    dmat[p, 1] -= ag
+                    dmat[p, 2] += ag * half
+                    ay = big_a[j, p, 0] * y[j - 1, 0]
+                    ay += big_a[j, p, 1] * y[j - 1, 1]
+                    ay += big_a[j, p, 2] * y[j - 1, 2]
+                    tmp[p] -= ay
             _inv3(dmat, dinv)
             for p in range(3):
-                acc = 0.0
-                for k in range(3):
-                    acc += dinv[p, k] * tmp[k]
-                y[j, p] = acc
-                for q in range(3):
-                    acc = 0.0
-                    for k in range(3):
-                        acc += dinv[p, k] * big_c[j, k, q]
-                    gam[j, p, q] = acc
+                y[j, p] = dinv[p, 0] * tmp[0] + dinv[p, 1] * tmp[1] + dinv[p, 2] * tmp[2]
+                g[j, p] = dinv[p, 2]
         largest = 0.0
         for j in range(n - 1, -1, -1):
             if j < n - 1:
+                cd = y[j + 1, 1] - 0.5 * h[j] * y[j + 1, 2]
                 for p in range(3):
-                    for k in range(3):
-                        y[j, p] -= gam[j, p, k] * y[j + 1, k]
+                    y[j, p] -= g[j, p] * cd
             f[j] += y[j, 0]
             u[j] += y[j, 1]
             v[j] += y[j, 2]
@@ -299,7 +298,7 @@ def _newton(
     return -1
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _hermite(
     t: float, hx: float, y0: float, y1: float, d0: float, d1: float
 ) -> tuple[float, float]:  # pragma: no cover - compiled
@@ -319,7 +318,7 @@ def _hermite(
     return val, slope
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _edge(
     s: F64, ue: F64, due: F64, r: F64, dr: F64, i: int, x: float
 ) -> tuple[float, float, float]:  # pragma: no cover - compiled
@@ -331,7 +330,7 @@ def _edge(
     return uval, uslope, rval
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _xi_increment(
     s: F64, ue: F64, due: F64, r: F64, dr: F64, i: int, a: float, b: float
 ) -> float:  # pragma: no cover - compiled
@@ -346,7 +345,7 @@ def _xi_increment(
     return half * total
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _integrals(eta: F64, u: F64) -> tuple[float, float]:  # pragma: no cover - compiled
     """Trapezoidal int (1 - u) d eta and int u (1 - u) d eta."""
     d1 = 0.0
@@ -358,7 +357,7 @@ def _integrals(eta: F64, u: F64) -> tuple[float, float]:  # pragma: no cover - c
     return d1, d2
 
 
-@numba.njit(cache=True)
+@numba.njit(cache=True, fastmath=_FAST)
 def _march(
     s: F64,
     ue: F64,
@@ -383,7 +382,6 @@ def _march(
     out[:, :] = np.nan
     work_a = np.zeros((m, 3, 3))
     work_b = np.zeros((m, 3, 3))
-    work_c = np.zeros((m, 3, 3))
     work_r = np.zeros((m, 3))
     f = np.empty(m)
     u = np.empty(m)
@@ -393,7 +391,7 @@ def _march(
         f[j] = eta[j] - 1.0 + ex
         u[j] = 1.0 - ex
         v[j] = ex
-    ok = _newton(h, f, u, v, f, u, v, 1.0, 0.0, beta0, work_a, work_b, work_c, work_r) > 0
+    ok = _newton(h, f, u, v, f, u, v, 1.0, 0.0, beta0, work_a, work_b, work_r) > 0
     events[0] = np.nan
     events[1] = STOP_END
     events[2] = 0
@@ -479,7 +477,7 @@ def _march(
             alpha = 2.0 * xi_mid / (xi_new - xi_old)
             beta_mid = 0.5 * (beta_new + beta_old)
             iterations = _newton(
-                h, fg, ug, vg, fo, uo, vo, 0.5, alpha, beta_mid, work_a, work_b, work_c, work_r
+                h, fg, ug, vg, fo, uo, vo, 0.5, alpha, beta_mid, work_a, work_b, work_r
             )
             converged = iterations > 0
             total_iterations += max(iterations, 0)
