@@ -625,8 +625,9 @@ def march_laminar(
     --------
     >>> x = np.linspace(0.0, 1.0, 21)
     >>> sol = march_laminar(x, np.ones_like(x), 1e-6)
-    >>> round(float(sol.theta[-1] / np.sqrt(1e-6)), 3)  # Blasius: 0.664 sqrt(nu x / U)
-    0.664
+    >>> theta = float(sol.theta[-1] / np.sqrt(1e-6))  # Blasius: 0.6641 sqrt(nu x / U)
+    >>> abs(theta / 0.6641 - 1.0) < 0.005  # grid error of the default grid: -0.2 %
+    True
     """
     s = np.ascontiguousarray(s, dtype=np.float64)
     ue = np.ascontiguousarray(ue, dtype=np.float64)
