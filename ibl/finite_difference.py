@@ -120,8 +120,9 @@ SEPARATION_FRACTION = 0.2
 MIN_STEP = 2e-5
 #: Stations of the straight-line fit of v(0)^2 against s that locates separation.
 SEPARATION_FIT = 4
-#: Newton: largest correction at convergence, and the most iterations per station.
-NEWTON_TOL = 1e-8
+#: Newton: largest correction at convergence (convergence is quadratic: the error left is of
+#: the order of its square), and the most iterations per station.
+NEWTON_TOL = 1e-6
 NEWTON_MAX = 25
 
 #: Floating-point liberties of the compiled code: contraction and reassociation, but not
@@ -191,6 +192,9 @@ def _newton(
     work_a: F64,
     work_b: F64,
     work_r: F64,
+    g: F64,
+    y: F64,
+    small: F64,
 ) -> int:  # pragma: no cover - compiled
     """Newton iterations of one station: their number, or -1 if they fail.
 
@@ -204,11 +208,9 @@ def _newton(
     nb = n - 1  # boxes 1..nb
     wo = 1.0 - w
     big_a, big_b, rhs = work_a, work_b, work_r
-    g = np.empty((n, 3))
-    y = np.empty((n, 3))
-    dmat = np.empty((3, 3))
-    dinv = np.empty((3, 3))
-    tmp = np.empty(3)
+    dmat = small[0]
+    dinv = small[1]
+    tmp = small[2, 0]
     for iteration in range(NEWTON_MAX):
         # The work arrays arrive zeroed; the same entries are written on every call.
         # Row 0: f(0) = 0, u(0) = 0, u-equation of box 1.
@@ -383,6 +385,9 @@ def _march(
     work_a = np.zeros((m, 3, 3))
     work_b = np.zeros((m, 3, 3))
     work_r = np.zeros((m, 3))
+    work_g = np.zeros((m, 3))
+    work_y = np.zeros((m, 3))
+    work_s = np.zeros((3, 3, 3))
     f = np.empty(m)
     u = np.empty(m)
     v = np.empty(m)
@@ -391,7 +396,12 @@ def _march(
         f[j] = eta[j] - 1.0 + ex
         u[j] = 1.0 - ex
         v[j] = ex
-    ok = _newton(h, f, u, v, f, u, v, 1.0, 0.0, beta0, work_a, work_b, work_r) > 0
+    ok = (
+        _newton(
+            h, f, u, v, f, u, v, 1.0, 0.0, beta0, work_a, work_b, work_r, work_g, work_y, work_s
+        )
+        > 0
+    )
     events[0] = np.nan
     events[1] = STOP_END
     events[2] = 0
@@ -477,7 +487,22 @@ def _march(
             alpha = 2.0 * xi_mid / (xi_new - xi_old)
             beta_mid = 0.5 * (beta_new + beta_old)
             iterations = _newton(
-                h, fg, ug, vg, fo, uo, vo, 0.5, alpha, beta_mid, work_a, work_b, work_r
+                h,
+                fg,
+                ug,
+                vg,
+                fo,
+                uo,
+                vo,
+                0.5,
+                alpha,
+                beta_mid,
+                work_a,
+                work_b,
+                work_r,
+                work_g,
+                work_y,
+                work_s,
             )
             converged = iterations > 0
             total_iterations += max(iterations, 0)
