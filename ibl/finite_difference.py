@@ -671,17 +671,24 @@ def march_laminar(
     if start not in (None, "stagnation", "sharp"):
         raise ValueError("start must be 'stagnation' or 'sharp'")
     kind = start if start is not None else ("stagnation" if ue[0] == 0.0 else "sharp")
+    if not (nu > 0.0 and np.all(ue[1:] > 0.0) and np.all(np.isfinite(ue))):
+        raise ValueError("nu and ue after the first station must be positive")
+    if kind == "stagnation" and not due_a[0] > 0.0:
+        raise ValueError("a stagnation start needs dUe/ds > 0 at the first station")
+    # A nose (r = 0 at a stagnation point) gives Homann's flow; a stagnation point away
+    # from the axis is locally planar (xi = r0^2 a s^2 / 2, beta = 1).
+    nose = axisymmetric and r_a[0] == 0.0
     if start_beta is not None:
         beta0 = float(start_beta)
     elif kind == "stagnation":
-        beta0 = 0.5 if axisymmetric else 1.0
+        beta0 = 0.5 if nose else 1.0
     else:
         beta0 = 0.0
     if xi0 > 0.0:
         scale0 = math.sqrt(2.0 * nu * xi0) / (r_a[0] * ue[0])
     elif kind == "stagnation" and start_beta is None:
-        # Ue = a s (and r = r' s): xi = r'^2 a s^4 / 4, or a s^2 / 2 when planar.
-        scale0 = math.sqrt(nu / ((2.0 if axisymmetric else 1.0) * due_a[0]))
+        # Ue = a s (and r = r' s): xi = r'^2 a s^4 / 4, or r0^2 a s^2 / 2.
+        scale0 = math.sqrt(nu / ((2.0 if nose else 1.0) * due_a[0]))
     else:
         scale0 = 0.0  # the layer grows from zero thickness
     eta = eta_grid(n_eta, eta_max, stretch)

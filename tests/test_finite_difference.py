@@ -182,3 +182,16 @@ def test_bad_input() -> None:
         march_laminar(np.array([0.0, 1.0, 1.0]), np.ones(3), NU)
     with pytest.raises(ValueError, match="start"):
         march_laminar(np.linspace(0, 1, 5), np.ones(5), NU, start="blunt")
+    with pytest.raises(ValueError, match="stagnation"):
+        march_laminar(np.linspace(0, 1, 5), np.linspace(0, -1, 5) ** 2, NU, start="stagnation")
+
+
+def test_stagnation_off_axis_is_planar() -> None:
+    """A stagnation point on a body of revolution away from its axis (r = 1 + s, far larger
+    than the layer) starts from the planar (Hiemenz) profile: Mangler's xi = r0^2 a s^2 / 2
+    there; theta at the start equals the planar one (same grid, rounding)."""
+    s = np.linspace(0.0, 0.5, 51)
+    body = march_laminar(s, s, NU, due=np.ones_like(s), r=1.0 + s)
+    planar = march_laminar(s, s, NU, due=np.ones_like(s))
+    assert body.theta[0] == pytest.approx(planar.theta[0], rel=1e-12)
+    assert body.shape_factor[0] == pytest.approx(references.hiemenz().shape_factor, rel=0.01)
