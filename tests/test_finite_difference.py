@@ -31,7 +31,7 @@ def _halved(level: int) -> dict[str, float | int]:
     return {
         "n_eta": (N_ETA - 1) * k + 1,
         "stretch": STRETCH ** (1.0 / k),
-        "substeps": SUBSTEPS * k,
+        "substeps": SUBSTEPS * k,  # steps per STRIDE intervals
     }
 
 
