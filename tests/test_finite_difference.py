@@ -123,6 +123,10 @@ def test_cylinder_terrill() -> None:
     for deg in (30.0, 60.0, 90.0, 100.0):
         i = round(deg / 180.0 * 200)
         assert fd.theta[i] == pytest.approx(np.interp(fd.x[i], ref.x, ref.theta), rel=0.01)
+        # The wall shear in Goertler variables, d2f/deta2 at the wall (the skin friction
+        # Cf = 2 nu f''(0) / (Ue scale)): same variable in both marches.
+        expected = np.interp(fd.x[i], ref.x, ref.wall_shear)
+        assert fd.wall_shear[i] == pytest.approx(expected, rel=0.01)
 
 
 def test_sphere() -> None:
@@ -174,6 +178,15 @@ def test_blasius_from_sharp_edge() -> None:
     np.testing.assert_allclose(sol.theta[1:] / np.sqrt(NU * x[1:]), bl.theta, rtol=0.01)
     np.testing.assert_allclose(sol.cf[1:] * np.sqrt(x[1:] / NU), bl.cf, rtol=0.01)
     assert math.isnan(sol.cf[0])
+
+
+def test_stop_position() -> None:
+    """``s_stop`` ends the march at the last station before it (for a transition found
+    elsewhere); the stations beyond are NaN and the stop is not a separation."""
+    x = np.linspace(0.0, 1.0, 101)
+    sol = march_laminar(x, np.ones_like(x), NU, s_stop=0.505)
+    assert sol.stop == "end" and sol.last == 50
+    assert np.all(np.isfinite(sol.theta[:51])) and np.all(np.isnan(sol.theta[51:]))
 
 
 def test_bad_input() -> None:
