@@ -43,7 +43,8 @@ Outputs, back in physical variables, with scale = sqrt(2 nu xi) / (r Ue):
 
 At a stagnation start, scale tends to sqrt(nu / Ue'(0)) (planar) or sqrt(nu / (2 Ue'(0)))
 (axisymmetric, r ~ s); at a sharp start it tends to 0.  Cf is NaN at the first station
-(Ue = 0 or theta = 0 there), as in the integral march.
+(Ue = 0 or theta = 0 there), as in the integral march, unless the march starts from a
+layer already grown (``xi0`` > 0).
 
 Separation: the wall shear v(0) vanishes like sqrt(s_sep - s) (Goldstein 1948, "On laminar
 boundary-layer flow near a position of separation", Q. J. Mech. Appl. Math. 1), where the
@@ -51,7 +52,9 @@ direct problem is singular.  Once v(0) falls, the step is cut to ``SEPARATION_FR
 the distance to the separation extrapolated from v(0)^2 (linear in s near it), down to
 ``MIN_STEP`` of the side length; the march stops when the wall shear is no longer positive
 or Newton no longer converges at the smallest step, and s_sep is where the straight line
-fitted to v(0)^2 over the last ``SEPARATION_FIT`` stations vanishes.
+fitted to v(0)^2 over the last ``SEPARATION_FIT`` solutions vanishes (a separation only if
+that lies within ``SEPARATION_REACH`` ahead; else the march "failed").  On the flows of the
+grid study below the last solution lies within one smallest step of s_sep.
 
 Edge data between stations: Ue by the cubic Hermite interpolant of (Ue, dUe/ds) at the
 stations (dUe/ds given, or from ``numpy.gradient`` to second order), r likewise with
@@ -125,6 +128,9 @@ STRIDE = 2
 SEPARATION_FRACTION = 0.2
 #: Smallest step, as a fraction of the side length.
 MIN_STEP = 2e-5
+#: The march ends in a separation only if the separation fitted lies at most this fraction
+#: of the side length ahead of the last solution (else Newton failed away from it).
+SEPARATION_REACH = 1e-3
 #: Stations of the straight-line fit of v(0)^2 against s that locates separation.
 SEPARATION_FIT = 4
 #: Newton: largest correction at convergence (convergence is quadratic: the error left is of
@@ -426,7 +432,8 @@ def _march(
     events: F64,
 ) -> None:  # pragma: no cover - compiled
     """The march; out[0:4, i] = theta, H, Cf, v(0) at station i (NaN beyond the end);
-    events = (s_sep, stop reason, last station index, steps, Newton iterations)."""
+    events = (s_sep, stop reason, last station index, steps, Newton iterations,
+    last arc length solved)."""
     n = s.size
     m = eta.size
     h = eta[1:] - eta[:-1]
@@ -456,6 +463,7 @@ def _march(
     events[2] = 0
     events[3] = 0
     events[4] = 0
+    events[5] = s[0]
     if not ok:
         events[1] = STOP_FAILED
         return
@@ -580,8 +588,9 @@ def _march(
                     sxx += (hist_x[k] - mx) ** 2
                     sxt += (hist_x[k] - mx) * (hist_t[k] - mt)
                 slope = sxt / sxx if sxx > 0.0 else 0.0
-                if slope < 0.0:
-                    events[0] = mx - mt / slope
+                s_sep = mx - mt / slope if slope < 0.0 else np.inf
+                if s_sep - x_old <= SEPARATION_REACH * side:
+                    events[0] = s_sep
                     events[1] = STOP_SEPARATION
                 else:
                     events[1] = STOP_FAILED
@@ -624,6 +633,7 @@ def _march(
         n_hist += 1
     events[3] = steps
     events[4] = total_iterations
+    events[5] = x_old
 
 
 # ------------------------------------------------------------------------ Python interface
@@ -638,7 +648,8 @@ class LaminarSolution:
     (NaN at the first station), ``wall_shear`` v(0) = d^2 f / d eta^2 at the wall in
     Goertler variables.  ``separation`` is the arc length where the wall shear vanishes
     (NaN if it does not before the end), ``last`` the index of the last station reached,
-    ``stop`` one of "end", "separation", "failed"; ``steps`` counts the Newton solves.
+    ``stop`` one of "end", "separation", "failed"; ``steps`` counts the Newton solves;
+    ``reached`` is the arc length of the last solution (between stations near separation).
     """
 
     s: F64
@@ -650,6 +661,7 @@ class LaminarSolution:
     last: int
     stop: str
     steps: int
+    reached: float
 
     @property
     def delta_star(self) -> F64:
@@ -753,7 +765,7 @@ def march_laminar(
         scale0 = 0.0  # the layer grows from zero thickness
     eta = eta_grid(n_eta, eta_max, stretch)
     out = np.empty((4, s.size))
-    events = np.empty(5)
+    events = np.empty(6)
     _march(
         s, ue, due_a, r_a, dr_a, float(nu), beta0, float(xi0), scale0, eta, int(substeps),
         int(stride), float(s_stop), out, events,
@@ -768,4 +780,5 @@ def march_laminar(
         last=int(events[2]),
         stop=_STOPS[int(events[1])],
         steps=int(events[3]),
+        reached=float(events[5]),
     )
