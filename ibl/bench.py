@@ -15,6 +15,9 @@ Contents
   (absolute figures move twofold between machines; ratios much less): summary and full
   ``run_batch`` sides per second against the march's, and ``analyze(dict)`` of one case
   against the march of that case.
+- ``finite_difference_side(side)``: the finite-difference laminar march
+  (``ibl.finite_difference``) of one side; ``main`` times it at N = 200 per side against
+  the march of the integral methods on the same sides, as a ratio with its target.
 """
 
 from __future__ import annotations
@@ -28,11 +31,20 @@ import msgspec
 import numpy as np
 
 from ibl.analysis import analyze, parse_case, run, run_batch
+from ibl.finite_difference import march_laminar
 from ibl.march import march
 from ibl.prepare import SideInput, prepare
 from ibl.schema import Output
 
-__all__ = ["RATIO_TARGETS", "ellipse_case", "main", "ratios", "reference_side"]
+__all__ = [
+    "FD_COST_TARGET",
+    "RATIO_TARGETS",
+    "ellipse_case",
+    "finite_difference_side",
+    "main",
+    "ratios",
+    "reference_side",
+]
 
 #: Targets of the end-to-end paths, as ratios to the compiled march in the same run:
 #: run_batch sides per second with summary answers (no station arrays) and with all
@@ -177,6 +189,32 @@ def _figures(n: int, repeat: int, batch: int) -> None:
         print(f"{'':>7} one answer in {fmt}: {full:,} bytes full, {short:,} bytes summary")
 
 
+#: Target: the finite-difference laminar march costs at most this many times the march of
+#: the integral methods, per side.
+FD_COST_TARGET = 10.0
+
+
+def finite_difference_side(side: SideInput) -> float:
+    """The finite-difference laminar march of one side; its separation s (NaN if none)."""
+    start = side.start if side.start in ("stagnation", "sharp") else None
+    radius = side.r if side.axisymmetric else None
+    return march_laminar(side.s, side.ue, side.nu, r=radius, start=start).separation
+
+
+def _finite_difference_figures(n: int, repeat: int) -> None:
+    sides = prepare(parse_case(ellipse_case(n))).sides
+    integral = _time(lambda: march(sides), repeat) / len(sides)
+    fd = _time(lambda: [finite_difference_side(side) for side in sides], 20) / len(sides)
+    print(
+        f"{n:>7} {'finite-difference laminar march (to separation)':<46} "
+        f"{fd * len(sides) * 1e3:>8.3f} ms {fd * 1e6:>8.1f} us"
+    )
+    print(
+        f"{'':>7} finite-difference / integral march per side: {fd / integral:.1f} "
+        f"(target <= {FD_COST_TARGET:g})"
+    )
+
+
 def _interleaved(functions: dict[str, Callable[[], object]], rounds: int) -> dict[str, float]:
     """Median wall time of each function, calls taken in turn round after round, so that
     a change in the machine's load touches all of them alike."""
@@ -255,6 +293,7 @@ def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> 
     print(f"{'N/side':>7} {'what':<46} {'per case':>11} {'per side':>11}")
     for n in (200, 400):
         _figures(n, repeat, batch)
+    _finite_difference_figures(200, repeat)
     print("Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch.")
     ratios(200)
     return 0
