@@ -37,6 +37,9 @@ MAX_POINTER = 1000
 MAX_REASON = 500
 MAX_DETAIL = 1000
 MAX_ERRORS = 100
+#: Longest CSV text the table route reads: 20,000 rows (the most points of a surface) of
+#: about 100 characters each, with room to spare.
+MAX_CSV_CHARACTERS = 4_000_000
 
 
 class Wire(msgspec.Struct, forbid_unknown_fields=True, frozen=True, kw_only=True):
@@ -116,6 +119,7 @@ class CsvTable(Wire, frozen=True):
     text: Annotated[
         str,
         Meta(
+            max_length=MAX_CSV_CHARACTERS,
             description="The CSV text: a header row naming one column per quantity by its name "
             "in the case document (x and y, or s; one of cp, edge_velocity or p [Pa]; "
             "optionally radius, which makes the body axisymmetric), then one row per point in "
