@@ -80,6 +80,10 @@ MAX_STEPS = 20_000
 #: of a body of revolution (``THIN_LAYER_RATIO``; handled by ``march_sides``, not reported
 #: as a stop).
 STOP_NONE, STOP_BUDGET, STOP_INVALID, STOP_THIN = 0, 1, 2, 3
+#: How a recorded turbulent march ended (row 0 of ``_head``'s tape): attached to its end or
+#: another stop, separated by H crossing its criterion inside the last step, separated at
+#: the start of a step the equations cannot take, or separated at its start.
+TAPE_ATTACHED, TAPE_CROSSING, TAPE_AT_STEP_START, TAPE_AT_START = 0, 1, 2, 3
 #: The thin-layer limit of a body of revolution.  The axisymmetric forms of the momentum
 #: and entrainment equations used here (Rott & Crabtree 1952; Head 1958; Mangler 1948)
 #: treat the layer as thin against the body radius, delta99 << r; where it is not,
@@ -395,6 +399,7 @@ def _head(
     h_out: F64,
     scale: float,
     s_peak: float,
+    tape: F64,
 ) -> tuple[float, int, int]:
     """Head's equations from ``start`` by classical Runge-Kutta with limited steps.
 
@@ -414,7 +419,19 @@ def _head(
     the march stops where delta99 reaches ``THIN_LAYER_RATIO`` times the radius.
     A start at or beyond separation (an inflow with H >= ``h_separation``) fills the
     station at the start with the start state and separates there.
+
+    ``tape`` (rows, 6) records the march for its derivatives (``ibl.sensitivity``) when it
+    has more than one row: row 0 holds the record count and how the march ended
+    (``TAPE_*``) and 1 if more steps were taken than it holds, each further row one step
+    taken: its start position, step, interval,
+    theta, H1 and whether it ended on the station at the interval's end.  With one row
+    nothing is written.
     """
+    record = tape.shape[0] > 1
+    if record:
+        tape[0, 0] = 0.0
+        tape[0, 1] = TAPE_ATTACHED
+        tape[0, 2] = 0.0
     origin = s[0]
     end = s[n - 1]
     span = end - origin
@@ -439,6 +456,8 @@ def _head(
             theta_out[m] = theta
             h_out[m] = h0
             m += 1
+        if record:
+            tape[0, 1] = TAPE_AT_START
         return pos, 0, STOP_NONE
     if pos > s_peak and _delta99_turbulent(theta, h0) >= THIN_LAYER_RATIO * rr:
         return pos, 0, STOP_THIN
@@ -495,6 +514,8 @@ def _head(
                     # H1 at its floor or Ue at zero: the layer separates; anything else
                     # is a numerical stop.
                     if hh2 <= 3.3 or u2 <= 0.0:
+                        if record:
+                            tape[0, 1] = TAPE_AT_STEP_START
                         return pos, steps, STOP_NONE
                     return pos, steps, STOP_INVALID
                 step = max(0.5 * step, min_step)
@@ -520,7 +541,21 @@ def _head(
                     retakes += 1
                     continue
             break
+        if record:
+            row = int(tape[0, 0]) + 1
+            if row < tape.shape[0]:
+                tape[row, 0] = pos
+                tape[row, 1] = step
+                tape[row, 2] = j
+                tape[row, 3] = theta
+                tape[row, 4] = h1
+                tape[row, 5] = 1.0 if land else 0.0
+                tape[0, 0] = row
+            else:
+                tape[0, 2] = 1.0  # more steps than the tape holds
         if h_new >= h_separation:
+            if record:
+                tape[0, 1] = TAPE_CROSSING
             frac = _crossing(step, h1, h1_new, f_h1, g_h1, h_separation)
             separation = pos + frac * step
             while m < n and s[m] <= separation:  # the step's end, when separation is there
@@ -726,6 +761,7 @@ def march_sides(
     running = np.empty(n_max)
     theta_t = np.empty(n_max)
     h_t = np.empty(n_max)
+    no_tape = np.zeros((1, 6))
     steps = 0
     for k in range(n_sides):
         n = count[k]
@@ -912,6 +948,7 @@ def march_sides(
                 h_t,
                 step_scale,
                 s_peak,
+                no_tape,
             )
             steps += taken
         thin_s = np.nan  # where the thin-layer limit is reached (NaN if nowhere)
