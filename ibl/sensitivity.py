@@ -30,16 +30,22 @@ Anything else returns a status code naming the reason (``REASONS``).
 
 from __future__ import annotations
 
+from typing import Literal
+
 import numba
 import numpy as np
 from numpy.typing import NDArray
 
 from ibl import kernel
+from ibl import march as march_module
 from ibl.drag import FIRST_PANEL_EXPONENTS
 from ibl.laminar import GAUSS_NODES, GAUSS_WEIGHTS, LAMBDA_MAX, THWAITES_A, THWAITES_B
+from ibl.march import SideState
+from ibl.prepare import SideInput, _dynamic_pressure
+from ibl.schema import Case, Notice, Sensitivities
 from ibl.turbulent import H1_HIGH_BRANCH_MAX, H1_LOW_BRANCH_MIN
 
-__all__ = ["QUANTITIES", "REASONS", "side_sensitivities"]
+__all__ = ["QUANTITIES", "REASONS", "derivatives", "side_sensitivities"]
 
 F64 = NDArray[np.float64]
 
@@ -99,9 +105,7 @@ def _edge_at(uk: F64, due: F64, j: int, b: tuple[float, ...]) -> tuple[float, fl
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _edge_bar(
-    bu: F64, bdu: F64, j: int, b: tuple[float, ...], u_bar: float, us_bar: float
-) -> None:
+def _edge_bar(bu: F64, bdu: F64, j: int, b: tuple[float, ...], u_bar: float, us_bar: float) -> None:
     """Adds the derivatives of (Ue, Ue') on interval j to the bars of the node values."""
     bu[j] += u_bar * b[0] + us_bar * b[4]
     bu[j + 1] += u_bar * b[1] + us_bar * b[5]
@@ -115,10 +119,10 @@ def _h_slope(h1: float) -> float:
     excess = max(h1 - 3.3, 1e-12)
     if excess >= H1_LOW_BRANCH_MIN - 3.3:
         p = -1.0 / 1.287
-        return p * (excess / 0.8234) ** (p - 1.0) / 0.8234
+        return float(p * (excess / 0.8234) ** (p - 1.0) / 0.8234)
     if excess <= H1_HIGH_BRANCH_MAX - 3.3:
         p = -1.0 / 3.064
-        return p * (excess / 1.5501) ** (p - 1.0) / 1.5501
+        return float(p * (excess / 1.5501) ** (p - 1.0) / 1.5501)
     return 0.0
 
 
@@ -180,7 +184,7 @@ def _shear_slope(closure: int, lam: float) -> float:
 @numba.njit(cache=True, error_model="numpy")
 def _michel_slope(re_s: float) -> float:
     """d/dRe_s of ``kernel.michel``."""
-    return 1.174 * (0.46 * re_s**-0.54 - 0.54 * 22400.0 * re_s**-1.54)
+    return float(1.174 * (0.46 * re_s**-0.54 - 0.54 * 22400.0 * re_s**-1.54))
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -193,7 +197,7 @@ def _ags_slope(lam: float, tu_percent: float) -> float:
     else:
         f, fp = 6.91 + 2.48 * lam - 12.27 * lam * lam, 2.48 - 2 * 12.27 * lam
     k = 1.0 - tu_percent / 6.91
-    return np.exp(f * k) * k * fp
+    return float(np.exp(f * k) * k * fp)
 
 
 # ----------------------------------------------------------------------------- laminar
@@ -258,7 +262,7 @@ def _laminar_bar(
             uq, _, _ = _edge_at(uk, due, j, bq)
             if uq > 0.0:
                 _edge_bar(bu, bdu, j, bq, btotal * h * t * _GW[q] * 5.0 * uq**4, 0.0)
-    return b_at
+    return float(b_at)
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -269,13 +273,13 @@ def _integral_bar(sk: F64, uk: F64, due: F64, n: int, bint: F64, bu: F64, bdu: F
         suffix += bint[i]  # the bar of the piece over interval i - 1
         if suffix == 0.0:
             continue
-        l = i - 1
-        h = sk[l + 1] - sk[l]
+        iv = i - 1
+        h = sk[iv + 1] - sk[iv]
         for q in range(4):
             b = _basis(_GN[q], h)
-            u, _, _ = _edge_at(uk, due, l, b)
+            u, _, _ = _edge_at(uk, due, iv, b)
             if u > 0.0:
-                _edge_bar(bu, bdu, l, b, suffix * h * _GW[q] * 5.0 * u**4, 0.0)
+                _edge_bar(bu, bdu, iv, b, suffix * h * _GW[q] * 5.0 * u**4, 0.0)
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -423,9 +427,7 @@ def _event_bar(
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _k_bar(
-    p: tuple[float, ...], kt: float, kh: float
-) -> tuple[float, float, float, float]:
+def _k_bar(p: tuple[float, ...], kt: float, kh: float) -> tuple[float, float, float, float]:
     """Transposed Jacobian of Head's right-hand side times the bars (kt, kh) of its two
     components: the bars of theta, H1, Ue and Ue'."""
     return (
@@ -815,3 +817,94 @@ def side_sensitivities(
         for i in range(n):
             out[k, i] = bu[k, i]
     return status
+
+
+# ----------------------------------------------------------------------------- the case
+
+_CAUSE_CODES = {
+    "criterion": kernel.CAUSE_CRITERION,
+    "trip": kernel.CAUSE_TRIP,
+    "laminar_separation": kernel.CAUSE_LAMINAR_SEPARATION,
+}
+
+
+def _not_covered(case: Case, side: SideInput) -> str | None:
+    """Why a side's derivatives are not computed, or None when they are."""
+    if case.surface.s is None:
+        return "contours (x, y) are not differentiated yet (stagnation point and split)"
+    if side.axisymmetric:
+        return "bodies of revolution are not differentiated yet"
+    if case.pressure.smoothing is not None:
+        return "smoothed input is not differentiated yet"
+    if case.flow.mach > 0.0 and case.pressure.edge_velocity is None:
+        return "the isentropic edge velocity (M > 0) is not differentiated yet"
+    return None
+
+
+def _input_slope(case: Case, side: SideInput) -> F64:
+    """dUe/d(input value) at each input point of a single surface (0 where Ue = 0: there the
+    start of the layer changes kind and the derivative does not exist)."""
+    pressure = case.pressure
+    if pressure.edge_velocity is not None:
+        return np.sign(np.asarray(pressure.edge_velocity, dtype=np.float64))
+    ue = side.ue
+    slope = np.zeros_like(ue)
+    inside = ue > 0.0
+    slope[inside] = -0.5 / ue[inside]  # Ue = sqrt(1 - Cp)
+    if pressure.p is not None:
+        q_inf = _dynamic_pressure(case)
+        assert q_inf is not None
+        slope /= q_inf  # Cp = (p - p_inf) / q_inf
+    return slope
+
+
+def derivatives(
+    case: Case, side: SideInput, state: SideState, pointer: str
+) -> tuple[Sensitivities, list[Notice]]:
+    """The ``sensitivities`` member of a marched side and the warnings that go with it:
+    the quantities the case's ``output.sensitivities`` asks for, per input point."""
+    pressure = case.pressure
+    wrt: Literal["edge_velocity", "cp", "p"] = (
+        "edge_velocity" if pressure.edge_velocity is not None else "p" if pressure.p else "cp"
+    )
+    wanted = list(dict.fromkeys(case.output.sensitivities))
+    values: dict[str, list[float] | None] = dict.fromkeys(wanted)
+    notices: list[Notice] = []
+
+    def unavailable(name: str, reason: str) -> None:
+        notices.append(
+            Notice(
+                code="sensitivities_unavailable",
+                message=f"{side.name}: no derivatives of {name}: {reason}",
+                pointer=f"{pointer}/sensitivities/{name}",
+            )
+        )
+
+    reason = _not_covered(case, side)
+    if reason is not None:
+        for name in wanted:
+            unavailable(name, reason)
+        return Sensitivities(with_respect_to=wrt, **values), notices
+    s, ue, _, _, ints, reals = march_module._stack([side])
+    events = np.full(kernel.N_EVENT_FIELDS, np.nan)
+    events[1] = state.transition_s
+    events[2] = _CAUSE_CODES[state.transition_cause]
+    events[4] = state.laminar_separation_s
+    events[7] = state.separation_s
+    events[8] = 1.0 if state.separation_turbulent else 0.0
+    out = np.zeros((len(QUANTITIES), s.shape[1]))
+    status = side_sensitivities(
+        s[0], ue[0], ints[0], reals[0], events, state.turbulent.copy(),
+        np.ascontiguousarray(state.cf), state.count, out,
+    )  # fmt: skip
+    slope = _input_slope(case, side)
+    for name in wanted:
+        if name == "profile_drag":
+            continue  # a single surface has no profile drag
+        k = QUANTITIES.index(name)
+        code = int(status[k])
+        if code == OK:
+            values[name] = (out[k, : slope.size] * slope).tolist()
+        elif code != ABSENT:
+            unavailable(name, REASONS[code])
+    return Sensitivities(with_respect_to=wrt, **values), notices
