@@ -84,6 +84,9 @@ STOP_NONE, STOP_BUDGET, STOP_INVALID, STOP_THIN = 0, 1, 2, 3
 #: another stop, separated by H crossing its criterion inside the last step, separated at
 #: the start of a step the equations cannot take, or separated at its start.
 TAPE_ATTACHED, TAPE_CROSSING, TAPE_AT_STEP_START, TAPE_AT_START = 0, 1, 2, 3
+#: Columns of a full tape row: start position, step, interval, theta, H1, landed flag, then
+#: d theta/ds, d H1/ds and H at the four Runge-Kutta stages and at the step's end.
+TAPE_COLUMNS = 21
 #: The thin-layer limit of a body of revolution.  The axisymmetric forms of the momentum
 #: and entrainment equations used here (Rott & Crabtree 1952; Head 1958; Mangler 1948)
 #: treat the layer as thin against the body radius, delta99 << r; where it is not,
@@ -420,12 +423,12 @@ def _head(
     A start at or beyond separation (an inflow with H >= ``h_separation``) fills the
     station at the start with the start state and separates there.
 
-    ``tape`` (rows, 6) records the march for its derivatives (``ibl.sensitivity``) when it
-    has more than one row: row 0 holds the record count and how the march ended
-    (``TAPE_*``) and 1 if more steps were taken than it holds, each further row one step
-    taken: its start position, step, interval,
-    theta, H1 and whether it ended on the station at the interval's end.  With one row
-    nothing is written.
+    ``tape`` (rows, ``TAPE_COLUMNS``) records the march for its derivatives
+    (``ibl.sensitivity``) when it has more than one row: row 0 holds the record count, how
+    the march ended (``TAPE_*``) and 1 if more steps were taken than it holds; each further
+    row one step taken (its start position, step, interval, theta, H1, whether it ended
+    on the station at the interval's end, and the right-hand side and H at its stages and
+    its end).  With one row nothing is written.
     """
     record = tape.shape[0] > 1
     if record:
@@ -461,7 +464,7 @@ def _head(
         return pos, 0, STOP_NONE
     if pos > s_peak and _delta99_turbulent(theta, h0) >= THIN_LAYER_RATIO * rr:
         return pos, 0, STOP_THIN
-    f_theta, f_h1, _ = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
+    f_theta, f_h1, f_h = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
     steps = 0
     while True:
         while m < n and s[m] <= pos:
@@ -492,19 +495,19 @@ def _head(
             hh2 = h1 + 0.5 * step * f_h1
             ok = u2 > 0.0 and th2 > 0.0 and hh2 > 3.3 and r2 > 0.0
             if ok:
-                a_theta, a_h1, _ = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                a_theta, a_h1, a_h = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
                 th3 = theta + 0.5 * step * a_theta
                 hh3 = h1 + 0.5 * step * a_h1
                 ok = th3 > 0.0 and hh3 > 3.3
             if ok:
-                b_theta, b_h1, _ = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                b_theta, b_h1, b_h = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
                 t_end = 1.0 if land else (at_end - left) / length
                 u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, j, t_end, axisymmetric)
                 th4 = theta + step * b_theta
                 hh4 = h1 + step * b_h1
                 ok = u4 > 0.0 and th4 > 0.0 and hh4 > 3.3 and r4 > 0.0
             if ok:
-                c_theta, c_h1, _ = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+                c_theta, c_h1, c_h = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
                 theta_new = theta + step / 6.0 * (f_theta + 2.0 * (a_theta + b_theta) + c_theta)
                 h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
                 ok = theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)
@@ -550,6 +553,18 @@ def _head(
                 tape[row, 3] = theta
                 tape[row, 4] = h1
                 tape[row, 5] = 1.0 if land else 0.0
+                if tape.shape[1] >= TAPE_COLUMNS:
+                    stages = (
+                        (f_theta, f_h1, f_h),
+                        (a_theta, a_h1, a_h),
+                        (b_theta, b_h1, b_h),
+                        (c_theta, c_h1, c_h),
+                        (g_theta, g_h1, h_new),
+                    )
+                    for q in range(5):
+                        tape[row, 6 + 3 * q] = stages[q][0]
+                        tape[row, 7 + 3 * q] = stages[q][1]
+                        tape[row, 8 + 3 * q] = stages[q][2]
                 tape[0, 0] = row
             else:
                 tape[0, 2] = 1.0  # more steps than the tape holds
@@ -582,7 +597,7 @@ def _head(
         # No station lies inside a step: the station at its end is filled from the state.
         pos = at_end
         theta, h1 = theta_new, h1_new
-        f_theta, f_h1 = g_theta, g_h1
+        f_theta, f_h1, f_h = g_theta, g_h1, h_new
         u, du, rr, drr = u4, du4, r4, dr4
 
 
@@ -761,7 +776,7 @@ def march_sides(
     running = np.empty(n_max)
     theta_t = np.empty(n_max)
     h_t = np.empty(n_max)
-    no_tape = np.zeros((1, 6))
+    no_tape = np.zeros((1, TAPE_COLUMNS))
     steps = 0
     for k in range(n_sides):
         n = count[k]

@@ -114,16 +114,16 @@ def _edge_bar(bu: F64, bdu: F64, j: int, b: tuple[float, ...], u_bar: float, us_
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _h_slope(h1: float) -> float:
-    """dH/dH1 of ``kernel.h_from_h1`` (zero between the branches)."""
+def _h_and_slope(h1: float) -> tuple[float, float]:
+    """``kernel.h_from_h1`` and dH/dH1 (zero between the branches), with one power."""
     excess = max(h1 - 3.3, 1e-12)
     if excess >= H1_LOW_BRANCH_MIN - 3.3:
-        p = -1.0 / 1.287
-        return float(p * (excess / 0.8234) ** (p - 1.0) / 0.8234)
+        h = 1.1 + (excess / 0.8234) ** (-1.0 / 1.287)
+        return h, -(h - 1.1) / (1.287 * excess)
     if excess <= H1_HIGH_BRANCH_MAX - 3.3:
-        p = -1.0 / 3.064
-        return float(p * (excess / 1.5501) ** (p - 1.0) / 1.5501)
-    return 0.0
+        h = 0.6778 + (excess / 1.5501) ** (-1.0 / 3.064)
+        return h, -(h - 0.6778) / (3.064 * excess)
+    return kernel.h_from_h1(h1), 0.0
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -140,20 +140,42 @@ def _cf_partials(law: int, h: float, re: float) -> tuple[float, float, float]:
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _rhs_partials(
-    theta: float, h1: float, u: float, du: float, inv_nu: float, law: int
+def _rhs_partials_stored(
+    theta: float,
+    h1: float,
+    u: float,
+    du: float,
+    inv_nu: float,
+    law: int,
+    ft: float,
+    fh: float,
+    h: float,
 ) -> tuple[float, ...]:
     """``kernel._rhs`` (planar): d theta/ds, d H1/ds and their derivatives with respect to
-    theta, H1, Ue and Ue' (in that order, first of d theta/ds then of d H1/ds)."""
-    h = kernel.h_from_h1(h1)
-    hp = _h_slope(h1)
-    cf, c_h, c_re = _cf_partials(law, h, u * theta * inv_nu)
+    theta, H1, Ue and Ue' (in that order, first of d theta/ds then of d H1/ds), from the
+    right-hand side (ft, fh) and H the march computed at this state: Cf and F(H1)
+    follow from them by arithmetic, so no power, exponential or logarithm is evaluated
+    again (Ludwieg-Tillmann; White's law takes two logarithms)."""
+    excess = max(h1 - 3.3, 1e-12)
+    if excess >= H1_LOW_BRANCH_MIN - 3.3:
+        hp = -(h - 1.1) / (1.287 * excess)
+    elif excess <= H1_HIGH_BRANCH_MAX - 3.3:
+        hp = -(h - 0.6778) / (3.064 * excess)
+    else:
+        hp = 0.0
     grad = theta * du / u
-    ft = 0.5 * cf - (h + 2.0) * grad
+    cf = 2.0 * (ft + (h + 2.0) * grad)
     q = 0.5 * cf - (h + 1.0) * grad
-    e = kernel.entrainment(h1)
+    e = fh * theta + h1 * q
     ep = -0.6169 * e / (h1 - 3.0) if h1 - 3.0 > 1e-12 else 0.0
-    fh = (e - h1 * q) / theta
+    re = u * theta * inv_nu
+    if law == 0:
+        c_h = -0.678 * _LN10 * cf
+        c_re = -0.268 * cf / re if re > 1e-300 else 0.0
+    else:
+        log_re = np.log10(max(re, 20.0))
+        c_h = cf * (-1.33 - 0.31 * np.log(log_re))
+        c_re = -cf * (1.74 + 0.31 * h) / log_re / (re * _LN10) if re > 20.0 else 0.0
     cf_t, cf_u, cf_h = c_re * u * inv_nu, c_re * theta * inv_nu, c_h * hp
     g_t, g_u, g_du = du / u, -theta * du / (u * u), theta / u
     ft_t = 0.5 * cf_t - (h + 2.0) * g_t
@@ -266,26 +288,36 @@ def _laminar_bar(
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _integral_bar(sk: F64, uk: F64, due: F64, n: int, bint: F64, bu: F64, bdu: F64) -> None:
-    """Reverse of the cumulative Thwaites integral at the stations (``kernel.march_sides``)."""
-    suffix = 0.0
+def _integral_bar(
+    sk: F64, uk: F64, due: F64, n: int, bint: F64, bu: F64, bdu: F64, wanted: NDArray[np.bool_]
+) -> None:
+    """Reverse of the cumulative Thwaites integral at the stations (``kernel.march_sides``)
+    for every wanted row of the bars (k, n)."""
+    rows = bint.shape[0]
+    suffix = np.zeros(rows)
     for i in range(n - 1, 0, -1):
-        suffix += bint[i]  # the bar of the piece over interval i - 1
-        if suffix == 0.0:
-            continue
+        for k in range(rows):
+            suffix[k] += bint[k, i]  # the bar of the piece over interval i - 1
         iv = i - 1
         h = sk[iv + 1] - sk[iv]
         for q in range(4):
             b = _basis(_GN[q], h)
             u, _, _ = _edge_at(uk, due, iv, b)
             if u > 0.0:
-                _edge_bar(bu, bdu, iv, b, suffix * h * _GW[q] * 5.0 * u**4, 0.0)
+                w = h * _GW[q] * 5.0 * u**4
+                for k in range(rows):
+                    if wanted[k] and suffix[k] != 0.0:
+                        _edge_bar(bu[k], bdu[k], iv, b, suffix[k] * w, 0.0)
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _derivative_bar(s: F64, f: F64, n: int, dbar: F64, fbar: F64, d: F64) -> None:
+def _derivative_bar(
+    s: F64, f: F64, n: int, dbars: F64, fbars: F64, wanted: NDArray[np.bool_]
+) -> None:
     """Reverse of ``kernel._derivative`` (stencil, then the limiter): adds the derivatives
-    of the node gradients, weighted by ``dbar`` (overwritten), to ``fbar``."""
+    of the node gradients, weighted by each wanted row of ``dbars`` (k, n; overwritten),
+    to the same row of ``fbars``."""
+    d = np.empty(n)
     for i in range(1, n - 1):
         h1 = s[i] - s[i - 1]
         h2 = s[i + 1] - s[i]
@@ -330,6 +362,14 @@ def _derivative_bar(s: F64, f: F64, n: int, dbar: F64, fbar: F64, d: F64) -> Non
             t = 3.0 / np.sqrt(norm)
             d[i] = t * a * delta
             d[i + 1] = t * b * delta
+    for k in range(dbars.shape[0]):
+        if wanted[k]:
+            _derivative_row_bar(s, f, n, enter, dbars[k], fbars[k])
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _derivative_row_bar(s: F64, f: F64, n: int, enter: F64, dbar: F64, fbar: F64) -> None:
+    """The backward part of ``_derivative_bar`` for one row."""
     # The limiter backward.
     for i in range(n - 2, -1, -1):
         hs = s[i + 1] - s[i]
@@ -360,6 +400,10 @@ def _derivative_bar(s: F64, f: F64, n: int, dbar: F64, fbar: F64, d: F64) -> Non
         dbar[i] = 0.0 if clip_i else bi
         dbar[i + 1] = 0.0 if clip_j else bj
     # The stencil backward.
+    a0 = s[1] - s[0]
+    b0 = s[2] - s[1]
+    a1 = s[n - 1] - s[n - 2]
+    b1 = s[n - 2] - s[n - 3]
     for i in range(1, n - 1):
         h1 = s[i] - s[i - 1]
         h2 = s[i + 1] - s[i]
@@ -443,9 +487,9 @@ def _station_cf_bar(
     law: int, theta: float, h1: float, u: float, inv_nu: float, b: float
 ) -> tuple[float, float, float]:
     """Bars of theta, H1 and Ue from the bar ``b`` of a turbulent station's Cf."""
-    h = kernel.h_from_h1(h1)
+    h, hp = _h_and_slope(h1)
     _, c_h, c_re = _cf_partials(law, h, u * theta * inv_nu)
-    return b * c_re * u * inv_nu, b * c_h * _h_slope(h1), b * c_re * theta * inv_nu
+    return b * c_re * u * inv_nu, b * c_h * hp, b * c_re * theta * inv_nu
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -489,20 +533,21 @@ def _head_bar(
         u1, us1, uu1 = _edge_at(uk, due, j, b1)
         u2, us2, uu2 = _edge_at(uk, due, j, b2)
         u4, us4, uu4 = _edge_at(uk, due, j, b4)
-        k1 = _rhs_partials(theta, h1, u1, us1, inv_nu, law)
+        r_ = tape[rec]
+        k1 = _rhs_partials_stored(theta, h1, u1, us1, inv_nu, law, r_[6], r_[7], r_[8])
         y2t, y2h = theta + 0.5 * step * k1[0], h1 + 0.5 * step * k1[1]
-        k2 = _rhs_partials(y2t, y2h, u2, us2, inv_nu, law)
+        k2 = _rhs_partials_stored(y2t, y2h, u2, us2, inv_nu, law, r_[9], r_[10], r_[11])
         y3t, y3h = theta + 0.5 * step * k2[0], h1 + 0.5 * step * k2[1]
-        k3 = _rhs_partials(y3t, y3h, u2, us2, inv_nu, law)
+        k3 = _rhs_partials_stored(y3t, y3h, u2, us2, inv_nu, law, r_[12], r_[13], r_[14])
         y4t, y4h = theta + step * k3[0], h1 + step * k3[1]
-        k4 = _rhs_partials(y4t, y4h, u4, us4, inv_nu, law)
+        k4 = _rhs_partials_stored(y4t, y4h, u4, us4, inv_nu, law, r_[15], r_[16], r_[17])
         snt = k1[0] + 2.0 * (k2[0] + k3[0]) + k4[0]
         snh = k1[1] + 2.0 * (k2[1] + k3[1]) + k4[1]
         ynt, ynh = theta + step / 6.0 * snt, h1 + step / 6.0 * snh
         crossing = rec == count and end_kind == kernel.TAPE_CROSSING
         frac, v_t, kn, c = 0.0, 1.0, k1, b1
         if crossing:
-            kn = _rhs_partials(ynt, ynh, u4, us4, inv_nu, law)
+            kn = _rhs_partials_stored(ynt, ynh, u4, us4, inv_nu, law, r_[18], r_[19], r_[20])
             frac = kernel._crossing(step, h1, ynh, k1[1], kn[1], h_sep)
             c = _basis(frac, step)
             v_t = step * (c[4] * h1 + c[5] * ynh + c[6] * k1[1] + c[7] * kn[1])
@@ -510,6 +555,9 @@ def _head_bar(
         seeded = land and not crossing and m < keep and turb[m]
         for k in range(rows):
             bnt, bnh, pnb = yt[k], yh[k], pb[k]
+            if bnt == 0.0 and bnh == 0.0 and pnb == 0.0 and sep_seed[k] == 0.0:
+                if not (seeded and bcf[k, m] != 0.0):
+                    continue  # nothing flows back through this step for row k
             k1t_b = k1h_b = 0.0
             bh1 = 0.0
             stepb = 0.0
@@ -602,13 +650,15 @@ def side_sensitivities(
     turb: NDArray[np.bool_],
     cf: F64,
     keep: int,
+    wanted: NDArray[np.bool_],
     out: F64,
 ) -> NDArray[np.int64]:
     """Derivatives of a planar side's transition, laminar separation, separation and
     friction drag (rows of ``out``, ``QUANTITIES``) with respect to Ue/U_inf at each of its
     stations (columns), from the side's arrays as ``kernel.march_sides`` takes them and
-    what it returned (``events`` row, turbulent flags, Cf and kept count of the stations).
-    Returns the status of each quantity (``OK``, ``ABSENT`` or a reason in ``REASONS``).
+    what it returned (``events`` row, turbulent flags, Cf and kept count of the stations);
+    ``wanted`` flags the quantities to compute (the others are left at zero).  Returns
+    the status of each quantity (``OK``, ``ABSENT`` or a reason in ``REASONS``).
     """
     n = sk.shape[0]
     rows = out.shape[0]
@@ -651,7 +701,9 @@ def side_sensitivities(
     tr_kind = 0 if cause == kernel.CAUSE_LAMINAR_SEPARATION else criterion
 
     # Transition.
-    if not np.isfinite(tr):
+    if not wanted[0]:
+        pass
+    elif not np.isfinite(tr):
         status[0] = ABSENT
     elif cause == kernel.CAUSE_CRITERION and criterion == 2:
         status[0] = GRANVILLE
@@ -662,7 +714,9 @@ def side_sensitivities(
         ):  # fmt: skip
             status[0] = TANGENTIAL
     # Laminar separation.
-    if not np.isfinite(lsep):
+    if not wanted[1]:
+        pass
+    elif not np.isfinite(lsep):
         status[1] = ABSENT
     elif not _event_bar(
         0, lsep, 1.0, sk, uk, due, integral, n, c0, c0_slope, nu, lam_sep, tu,
@@ -671,7 +725,9 @@ def side_sensitivities(
         status[1] = TANGENTIAL
     # Separation: laminar, or turbulent through the turbulent march below.
     sep_seed = np.zeros(rows)
-    if not np.isfinite(separation):
+    if not wanted[2]:
+        pass
+    elif not np.isfinite(separation):
         status[2] = ABSENT
     elif not sep_turbulent:
         if not _event_bar(
@@ -683,7 +739,7 @@ def side_sensitivities(
         sep_seed[2] = 1.0
     # Friction drag: trapezoids in s of g = Cf Ue^2, the first panel as g ~ s^p.
     bcf = np.zeros((rows, n))
-    if rows > 3:
+    if wanted[3]:
         g = np.empty(keep)
         for i in range(keep):
             g[i] = cf[i] * uk[i] * uk[i]
@@ -731,22 +787,26 @@ def side_sensitivities(
                 bu[3, 0] += b_re * np.sqrt(th2) / nu
                 bdu[3, 0] += b_lam * th2 / nu
                 continue
-            params = (n, c0, start_theta2, nu, False)
-            layer = (sk, uk, due, sk, due, integral)
-            _, lam_i, re_i, _ = kernel._laminar_at(layer, params, sk[i])
+            # theta^2 = (c0 + a nu integral) / Ue^b at the station itself.
+            weight = uk[i] ** THWAITES_B
+            th2 = (c0 + THWAITES_A * nu * integral[i]) / weight
+            root = np.sqrt(th2)
+            lam_i = th2 * due[i] / nu
+            re_i = uk[i] * root / nu
             b_re = -cf[i] / re_i * b
             b_lam = 0.0
             if lam_sep < lam_i < LAMBDA_MAX and kernel.shear(closure, lam_i) > 0.0:
                 b_lam = 2.0 * _shear_slope(closure, lam_i) / re_i * b
-            _laminar_bar(
-                sk, uk, due, integral, n, c0, c0_slope, nu, sk[i], 0.0, b_lam, b_re, 0.0, True,
-                bu[3], bdu[3], bint[3],
-            )  # fmt: skip
+            bt = b_lam * due[i] / nu + b_re * uk[i] / (2.0 * nu * root)
+            bdu[3, i] += b_lam * th2 / nu
+            bu[3, i] += b_re * root / nu - bt * th2 * THWAITES_B / uk[i]
+            bint[3, i] += bt * THWAITES_A * nu / weight
+            bu[3, 0] += bt / weight * c0_slope
         if not total_ok:
             status[3] = ABSENT
     # The turbulent march, backward, for the quantities that go through it.
     turbulent_march = start_kind == kernel.START_TURBULENT or np.isfinite(tr)
-    if turbulent_march and (sep_seed[2] != 0.0 or rows > 3):
+    if turbulent_march and (sep_seed[2] != 0.0 or wanted[3]):
         if start_kind == kernel.START_TURBULENT:
             start, th0, hh0 = sk[0], theta_in, h_in
         else:
@@ -758,7 +818,7 @@ def side_sensitivities(
             th2_start, _, _, _ = kernel._laminar_at(layer, params, start)
             th0 = np.sqrt(th2_start)
             hh0 = h_init
-        tape = np.zeros((TAPE_STEPS + 2 * n, 6))
+        tape = np.empty((TAPE_STEPS + 2 * n, kernel.TAPE_COLUMNS))  # _head writes its header
         theta_t = np.empty(n)
         h_t = np.empty(n)
         kernel._head(
@@ -807,13 +867,13 @@ def side_sensitivities(
                     ):  # fmt: skip
                         status[k] = TANGENTIAL
     # Through the integral and the node gradients to the node values.
-    work = np.empty(n)
-    for k in range(rows):
-        _integral_bar(sk, uk, due, n, bint[k], bu[k], bdu[k])
-        if start_kind == kernel.START_STAGNATION:
+    _integral_bar(sk, uk, due, n, bint, bu, bdu, wanted)
+    if start_kind == kernel.START_STAGNATION:
+        for k in range(rows):
             bu[k, 1] += bdu[k, 0] / (sk[1] - sk[0])  # slope = Ue[1] / s[1]
             bdu[k, 0] = 0.0
-        _derivative_bar(sk, uk, n, bdu[k], bu[k], work)
+    _derivative_bar(sk, uk, n, bdu, bu, wanted)
+    for k in range(rows):
         for i in range(n):
             out[k, i] = bu[k, i]
     return status
@@ -893,9 +953,10 @@ def derivatives(
     events[7] = state.separation_s
     events[8] = 1.0 if state.separation_turbulent else 0.0
     out = np.zeros((len(QUANTITIES), s.shape[1]))
+    flags = np.array([name in wanted for name in QUANTITIES])
     status = side_sensitivities(
         s[0], ue[0], ints[0], reals[0], events, state.turbulent.copy(),
-        np.ascontiguousarray(state.cf), state.count, out,
+        np.ascontiguousarray(state.cf), state.count, flags, out,
     )  # fmt: skip
     slope = _input_slope(case, side)
     for name in wanted:
