@@ -327,11 +327,14 @@ class Output(Struct, frozen=True):
             "turbulent march's step sizes that do not end on a station, which stations are "
             "laminar or turbulent and how many are kept. They do not exist where an event "
             "changes cause (transition by criterion against laminar separation or a trip), "
-            "where a criterion is crossed tangentially, or at a stagnation point of a single "
-            "surface (Ue = 0); a trip's position has derivative zero. Covered: single "
-            "surfaces (surface.s), planar, unsmoothed, at M = 0, with the criteria none, "
-            "michel or abu_ghannam_shaw; elsewhere the arrays are null with a "
-            "sensitivities_unavailable warning saying why. Empty (the default): none",
+            "where a criterion is crossed tangentially, where two neighbouring edge "
+            "velocities are equal (the interpolant's slope limiter switches), where "
+            "separation crosses a station (friction_drag), or at a stagnation point of a "
+            "single surface (Ue = 0; that entry is 0); a trip's position has derivative "
+            "zero. Covered: single surfaces (surface.s), planar, unsmoothed, edge_velocity, "
+            "or cp or p at M = 0, with the criteria none, michel or abu_ghannam_shaw; "
+            "elsewhere the arrays are null with a sensitivities_unavailable warning saying "
+            "why. Empty (the default): none",
         ),
     ] = msgspec.field(default_factory=list)
 

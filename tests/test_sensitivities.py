@@ -243,3 +243,21 @@ def test_http_carries_the_sensitivities(fmt: str) -> None:
             "sides"
         ][0]["sensitivities"]
     assert got == want
+
+
+def test_cli_carries_the_sensitivities_and_names_a_bad_member(tmp_path, capsys) -> None:
+    from ibl.cli import main
+
+    s = np.linspace(0.0, 1.0, 21)
+    doc = _surface(s, 1.0 - 0.55 * s, 3e6)
+    path = tmp_path / "case.json"
+    path.write_text(json.dumps(doc))
+    assert main(["run", str(path), "--format", "json"]) == 0
+    got = json.loads(capsys.readouterr().out)["sides"][0]["sensitivities"]
+    assert got == ibl.analyze(doc)["sides"][0]["sensitivities"]
+    doc["output"]["sensitivities"] = ["separation", "lift"]
+    path.write_text(json.dumps(doc))
+    assert main(["run", str(path), "--format", "json"]) != 0
+    captured = capsys.readouterr()
+    assert "/output/sensitivities/1" in captured.err
+    assert "Traceback" not in captured.err
