@@ -61,7 +61,9 @@ def _figures(result: Result) -> dict[str, float]:
     return figures
 
 
-def _central_differences(doc: dict[str, Any], skip: tuple[int, ...] = ()) -> dict[str, Any]:
+def _central_differences(
+    doc: dict[str, Any], skip: tuple[int, ...] = (), step: float = STEP
+) -> dict[str, Any]:
     """d(figure)/d(input value i) by central differences of whole runs (NaN where skipped)."""
     key = next(iter(doc["pressure"]))
     base = np.array(doc["pressure"][key], dtype=float)
@@ -69,7 +71,7 @@ def _central_differences(doc: dict[str, Any], skip: tuple[int, ...] = ()) -> dic
     for i in range(base.size):
         for sign in (1.0, -1.0):
             values = base.copy()
-            values[i] += sign * STEP
+            values[i] += sign * step
             moved = json.loads(json.dumps(doc))
             moved["pressure"][key] = values.tolist()
             moved["output"] = {"stations": False}
@@ -83,19 +85,23 @@ def _central_differences(doc: dict[str, Any], skip: tuple[int, ...] = ()) -> dic
         assert isinstance(up, Result) and isinstance(down, Result)
         a, b = _figures(up), _figures(down)
         for name in QUANTITIES:
-            out[name][i] = (a[name] - b[name]) / (2.0 * STEP)
+            out[name][i] = (a[name] - b[name]) / (2.0 * step)
     return out
 
 
 def _check(
-    doc: dict[str, Any], present: set[str], skip: tuple[int, ...] = (), zero: set[str] = frozenset()
+    doc: dict[str, Any],
+    present: set[str],
+    skip: tuple[int, ...] = (),
+    zero: set[str] = frozenset(),
+    step: float = STEP,
 ) -> None:
     """The derivatives of the figures in ``present`` against central differences, null for
     the others; those in ``zero`` are zero in both (a trip's position)."""
     result = ibl.run(ibl.parse_case(doc))
     derived = result.sides[0].sensitivities
     assert isinstance(derived, ibl.schema.Sensitivities)
-    reference = _central_differences(doc, skip)
+    reference = _central_differences(doc, skip, step)
     for name in QUANTITIES:
         got = getattr(derived, name)
         if name not in present:
@@ -261,3 +267,57 @@ def test_cli_carries_the_sensitivities_and_names_a_bad_member(tmp_path, capsys) 
     captured = capsys.readouterr()
     assert "/output/sensitivities/1" in captured.err
     assert "Traceback" not in captured.err
+
+
+@pytest.mark.parametrize(
+    ("edit", "present"),
+    [
+        (
+            lambda d: d.update(inflow={"theta": 2e-4, "shape_factor": 2.59}),
+            {"transition", "separation", "friction_drag"},
+        ),
+        (
+            lambda d: d.update(
+                inflow={"theta": 5e-4, "shape_factor": 1.4, "regime": "turbulent"},
+            ),
+            {"separation", "friction_drag"},
+        ),
+        (
+            lambda d: d.update(turbulent={"skin_friction": "white"}),
+            {"transition", "separation", "friction_drag"},
+        ),
+        (
+            lambda d: d.update(laminar={"closure": "white"}),
+            {"transition", "separation", "friction_drag"},
+        ),
+        (
+            lambda d: d["pressure"].update(
+                edge_velocity=[-v for v in d["pressure"]["edge_velocity"]]
+            ),
+            {"transition", "separation", "friction_drag"},
+        ),
+    ],
+    ids=["laminar inflow", "turbulent inflow", "white skin friction", "white closure", "negative"],
+)
+def test_other_starts_and_laws(edit: Any, present: set[str]) -> None:
+    # Inflow states, the other skin-friction law and laminar closure, and a surface whose
+    # edge velocity is given negative (Ue = |value|): the same check against central
+    # differences.
+    s = np.linspace(0.1, 1.1, 31)
+    doc = _surface(s, 1.0 - 0.5 * (s - 0.1), 3e6)
+    edit(doc)
+    _check(doc, present)
+
+
+def test_pressure_in_pascals() -> None:
+    # p [Pa] with p_inf = 1e5 Pa and q_inf = 500 Pa: d/dp = d/dCp / q_inf, checked the same way.
+    s = np.linspace(0.0, 1.0, 31)
+    ue = 1.0 - 0.55 * s
+    p = 1e5 + 500.0 * (1.0 - ue**2)
+    doc = _surface(s, p, 3e6, key="p")
+    doc["pressure"].update(reference_pressure=1e5, dynamic_pressure=500.0)
+    result = ibl.run(ibl.parse_case(doc))
+    derived = result.sides[0].sensitivities
+    assert isinstance(derived, ibl.schema.Sensitivities)
+    assert derived.with_respect_to == "p"
+    _check(doc, {"transition", "separation", "friction_drag"}, step=1e-6 * 500.0)
