@@ -23,8 +23,8 @@ sizes of the turbulent march that do not end on a station (a continuous function
 state whose influence on the result is of the order of the truncation error), which
 stations are laminar or turbulent and how many are kept (discrete).
 
-Covered: planar sides of a single surface (``surface.s`` with edge velocity, or Cp at
-M = 0), without smoothing, transition criterion none, michel or abu_ghannam_shaw, trips.
+Covered: planar sides of a single surface (``surface.s`` with edge velocity, or Cp or p
+at M = 0), smoothed or not, transition criterion none, michel or abu_ghannam_shaw, trips.
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
@@ -38,6 +38,7 @@ from numpy.typing import NDArray
 
 from ibl import kernel
 from ibl import march as march_module
+from ibl import smoothing as smoothing_module
 from ibl.drag import FIRST_PANEL_EXPONENTS
 from ibl.laminar import GAUSS_NODES, GAUSS_WEIGHTS, LAMBDA_MAX, THWAITES_A, THWAITES_B
 from ibl.march import SideState
@@ -894,28 +895,62 @@ def _not_covered(case: Case, side: SideInput) -> str | None:
         return "contours (x, y) are not differentiated yet (stagnation point and split)"
     if side.axisymmetric:
         return "bodies of revolution are not differentiated yet"
-    if case.pressure.smoothing is not None:
-        return "smoothed input is not differentiated yet"
     if case.flow.mach > 0.0 and case.pressure.edge_velocity is None:
         return "the isentropic edge velocity (M > 0) is not differentiated yet"
     return None
 
 
-def _input_slope(case: Case, side: SideInput) -> F64:
-    """dUe/d(input value) at each input point of a single surface (0 where Ue = 0: there the
-    start of the layer changes kind and the derivative does not exist)."""
+def _to_inputs(case: Case, side: SideInput, bars: F64) -> F64:
+    """Derivatives with respect to Ue/U_inf at the stations of a single surface (rows of
+    ``bars``) turned into derivatives with respect to the input values: through
+    (Ue/U_inf)^2 = q, q = value^2 (edge velocity), 1 - Cp (M = 0) or 1 - (p - p_inf)/q_inf,
+    and the smoothing spline at its penalty when the case smooths.  A station with Ue = 0
+    passes nothing on (there the start of the layer changes kind: no derivative)."""
     pressure = case.pressure
-    if pressure.edge_velocity is not None:
-        return np.sign(np.asarray(pressure.edge_velocity, dtype=np.float64))
     ue = side.ue
-    slope = np.zeros_like(ue)
+    d_q = np.zeros_like(ue)  # dUe/dq
     inside = ue > 0.0
-    slope[inside] = -0.5 / ue[inside]  # Ue = sqrt(1 - Cp)
+    d_q[inside] = 0.5 / ue[inside]
+    bar_q = bars[:, : ue.size] * d_q
+    if pressure.smoothing is not None:
+        # The spline is linear in q at a given penalty, and symmetric (a penalised least
+        # squares fit evaluated at the data points: S = B (B'B + penalty P)^-1 B'), so the
+        # transpose is the same smoothing.  The penalty the case chose (or GCV chose on its
+        # grid, a choice that does not change with small moves of the data) is held fixed.
+        raw = _raw_q(case)
+        t = (side.s - side.s[0]) / float(side.s[-1] - side.s[0])
+        penalty = None if pressure.smoothing == "auto" else float(pressure.smoothing)
+        fitted = smoothing_module.smooth(t, raw, penalty, False)
+        if not fitted.undetermined:
+            bar_q = np.array(
+                [smoothing_module.smooth(t, row, fitted.penalty, False).values for row in bar_q]
+            )
+            bar_q[:, fitted.values < 0.0] = 0.0  # clipped to zero after smoothing
+    if pressure.edge_velocity is not None:
+        values = np.asarray(pressure.edge_velocity, dtype=np.float64)
+        return np.asarray(bar_q * 2.0 * values)  # q = value^2
+    raw = _raw_q(case)
+    result = np.where(raw > 0.0, -bar_q, 0.0)  # q = max(1 - Cp, 0)
     if pressure.p is not None:
         q_inf = _dynamic_pressure(case)
         assert q_inf is not None
-        slope /= q_inf  # Cp = (p - p_inf) / q_inf
-    return slope
+        result /= q_inf  # Cp = (p - p_inf) / q_inf
+    return np.asarray(result)
+
+
+def _raw_q(case: Case) -> F64:
+    """(Ue/U_inf)^2 from the input values before any smoothing (M = 0, or edge velocity)."""
+    pressure = case.pressure
+    if pressure.edge_velocity is not None:
+        return np.asarray(pressure.edge_velocity, dtype=np.float64) ** 2
+    if pressure.cp is not None:
+        cp = np.asarray(pressure.cp, dtype=np.float64)
+    else:
+        assert pressure.p is not None and pressure.reference_pressure is not None
+        q_inf = _dynamic_pressure(case)
+        assert q_inf is not None
+        cp = (np.asarray(pressure.p, dtype=np.float64) - pressure.reference_pressure) / q_inf
+    return np.maximum(1.0 - cp, 0.0)
 
 
 def derivatives(
@@ -958,14 +993,14 @@ def derivatives(
         s[0], ue[0], ints[0], reals[0], events, state.turbulent.copy(),
         np.ascontiguousarray(state.cf), state.count, flags, out,
     )  # fmt: skip
-    slope = _input_slope(case, side)
+    inputs = _to_inputs(case, side, out)
     for name in wanted:
         if name == "profile_drag":
             continue  # a single surface has no profile drag
         k = QUANTITIES.index(name)
         code = int(status[k])
         if code == OK:
-            values[name] = (out[k, : slope.size] * slope).tolist()
+            values[name] = inputs[k].tolist()
         elif code != ABSENT:
             unavailable(name, REASONS[code])
     return Sensitivities(with_respect_to=wrt, **values), notices

@@ -321,3 +321,16 @@ def test_pressure_in_pascals() -> None:
     assert isinstance(derived, ibl.schema.Sensitivities)
     assert derived.with_respect_to == "p"
     _check(doc, {"transition", "separation", "friction_drag"}, step=1e-6 * 500.0)
+
+
+@pytest.mark.parametrize("smoothing", [1e-9, "auto"])
+def test_smoothed_cp(smoothing: Any) -> None:
+    # Cp with a deterministic ripple, smoothed: at a given penalty the smoothing spline is
+    # linear in the data; "auto" picks the penalty from a grid by GCV, a choice that small
+    # moves of the data do not change, so the same central differences apply.
+    s = np.linspace(0.0, 1.0, 41)
+    ue = 1.0 - 0.55 * s
+    ripple = 2e-3 * np.sin(37.0 * s)
+    doc = _surface(s, 1.0 - ue**2 + ripple, 3e6, key="cp")
+    doc["pressure"]["smoothing"] = smoothing
+    _check(doc, {"transition", "separation", "friction_drag"})
