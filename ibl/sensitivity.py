@@ -23,13 +23,15 @@ sizes of the turbulent march that do not end on a station (a continuous function
 state whose influence on the result is of the order of the truncation error), which
 stations are laminar or turbulent and how many are kept (discrete).
 
-Covered: planar sides of a single surface (``surface.s`` with edge velocity, or Cp or p
-at M = 0), smoothed or not, transition criterion none, michel or abu_ghannam_shaw, trips.
+Covered: sides of a single surface (``surface.s`` with edge velocity, or Cp or p at
+M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
+transition criterion none, michel or abu_ghannam_shaw, trips.
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
 from __future__ import annotations
 
+import math
 from typing import Literal
 
 import numba
@@ -151,9 +153,11 @@ def _rhs_partials_stored(
     ft: float,
     fh: float,
     h: float,
+    rho: float,
 ) -> tuple[float, ...]:
-    """``kernel._rhs`` (planar): d theta/ds, d H1/ds and their derivatives with respect to
-    theta, H1, Ue and Ue' (in that order, first of d theta/ds then of d H1/ds), from the
+    """``kernel._rhs``: d theta/ds, d H1/ds and their derivatives with respect to theta,
+    H1, Ue and Ue' (in that order, first of d theta/ds then of d H1/ds), then that of
+    d theta/ds with respect to rho = r'/r (zero when planar), from the
     right-hand side (ft, fh) and H the march computed at this state: Cf and F(H1)
     follow from them by arithmetic, so no power, exponential or logarithm is evaluated
     again (Ludwieg-Tillmann; White's law takes two logarithms)."""
@@ -165,7 +169,7 @@ def _rhs_partials_stored(
     else:
         hp = 0.0
     grad = theta * du / u
-    cf = 2.0 * (ft + (h + 2.0) * grad)
+    cf = 2.0 * (ft + (h + 2.0) * grad + theta * rho)
     q = 0.5 * cf - (h + 1.0) * grad
     e = fh * theta + h1 * q
     ep = -0.6169 * e / (h1 - 3.0) if h1 - 3.0 > 1e-12 else 0.0
@@ -179,7 +183,7 @@ def _rhs_partials_stored(
         c_re = -cf * (1.74 + 0.31 * h) / log_re / (re * _LN10) if re > 20.0 else 0.0
     cf_t, cf_u, cf_h = c_re * u * inv_nu, c_re * theta * inv_nu, c_h * hp
     g_t, g_u, g_du = du / u, -theta * du / (u * u), theta / u
-    ft_t = 0.5 * cf_t - (h + 2.0) * g_t
+    ft_t = 0.5 * cf_t - (h + 2.0) * g_t - rho
     ft_h = 0.5 * cf_h - hp * grad
     ft_u = 0.5 * cf_u - (h + 2.0) * g_u
     ft_du = -(h + 2.0) * g_du
@@ -191,7 +195,7 @@ def _rhs_partials_stored(
     fh_h = (ep - q - h1 * q_h) / theta
     fh_u = -h1 * q_u / theta
     fh_du = -h1 * q_du / theta
-    return ft, fh, ft_t, ft_h, ft_u, ft_du, fh_t, fh_h, fh_u, fh_du
+    return ft, fh, ft_t, ft_h, ft_u, ft_du, fh_t, fh_h, fh_u, fh_du, -theta
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -231,6 +235,8 @@ def _laminar_bar(
     sk: F64,
     uk: F64,
     due: F64,
+    rk: F64,
+    dr: F64,
     integral: F64,
     n: int,
     c0: float,
@@ -246,10 +252,11 @@ def _laminar_bar(
     bdu: F64,
     bint: F64,
 ) -> float:
-    """Reverse of ``kernel._laminar_at`` (planar): adds bars times the derivatives of
-    theta^2, lambda, Re_theta and Ue at ``at`` to the bars of Ue, Ue' and the cumulative
-    integral at the stations (when ``accumulate``), and returns the same combination of
-    their derivatives with respect to ``at``.  ``c0_slope`` is dc0/dUe[0]."""
+    """Reverse of ``kernel._laminar_at``: adds bars times the derivatives of theta^2,
+    lambda, Re_theta and Ue at ``at`` to the bars of Ue, Ue' and the cumulative integral at
+    the stations (when ``accumulate``), and returns the same combination of their
+    derivatives with respect to ``at``.  ``c0_slope`` is dc0/dUe[0]; r and r' are ones and
+    zeros when planar (the same arithmetic as the march's)."""
     j = 0
     while j < n - 2 and sk[j + 1] < at:
         j += 1
@@ -260,22 +267,26 @@ def _laminar_bar(
     for q in range(4):
         b = _basis(_GN[q] * t, h)
         u, us, _ = _edge_at(uk, due, j, b)
+        rq, rs, _ = _edge_at(rk, dr, j, b)
         if u > 0.0:
-            acc += _GW[q] * u**5
-            dacc += _GW[q] * 5.0 * u**4 * us * h * _GN[q]
+            acc += _GW[q] * u**5 * rq * rq
+            dacc += _GW[q] * (5.0 * u**4 * us * rq * rq + u**5 * 2.0 * rq * rs) * h * _GN[q]
     total = integral[j] + acc * h * t
     d_total = acc + t * dacc  # d total / d at
     b = _basis(t, h)
     u, us, uu = _edge_at(uk, due, j, b)
+    rr, rs, _ = _edge_at(rk, dr, j, b)
     u = max(u, 0.0)
-    weight = u**THWAITES_B
+    weight = rr * rr * u**THWAITES_B
     theta2 = (c0 + THWAITES_A * nu * total) / weight
     root = np.sqrt(theta2)
     bt = b_th2 + b_lam * us / nu + b_re * u / (2.0 * nu * root)
     bus = b_lam * theta2 / nu
-    bu_ = b_u + b_re * root / nu - bt * theta2 / weight * THWAITES_B * u ** (THWAITES_B - 1.0)
+    b_weight = -bt * theta2 / weight
+    bu_ = b_u + b_re * root / nu + b_weight * rr * rr * THWAITES_B * u ** (THWAITES_B - 1.0)
+    br = b_weight * 2.0 * rr * u**THWAITES_B
     btotal = bt * THWAITES_A * nu / weight
-    b_at = btotal * d_total + bu_ * us + bus * uu
+    b_at = btotal * d_total + bu_ * us + bus * uu + br * rs
     if accumulate:
         _edge_bar(bu, bdu, j, b, bu_, bus)
         bint[j] += btotal
@@ -283,14 +294,25 @@ def _laminar_bar(
         for q in range(4):
             bq = _basis(_GN[q] * t, h)
             uq, _, _ = _edge_at(uk, due, j, bq)
+            rq, _, _ = _edge_at(rk, dr, j, bq)
             if uq > 0.0:
-                _edge_bar(bu, bdu, j, bq, btotal * h * t * _GW[q] * 5.0 * uq**4, 0.0)
+                w = btotal * h * t * _GW[q] * 5.0 * uq**4 * rq * rq
+                _edge_bar(bu, bdu, j, bq, w, 0.0)
     return float(b_at)
 
 
 @numba.njit(cache=True, error_model="numpy")
 def _integral_bar(
-    sk: F64, uk: F64, due: F64, n: int, bint: F64, bu: F64, bdu: F64, wanted: NDArray[np.bool_]
+    sk: F64,
+    uk: F64,
+    due: F64,
+    rk: F64,
+    dr: F64,
+    n: int,
+    bint: F64,
+    bu: F64,
+    bdu: F64,
+    wanted: NDArray[np.bool_],
 ) -> None:
     """Reverse of the cumulative Thwaites integral at the stations (``kernel.march_sides``)
     for every wanted row of the bars (k, n)."""
@@ -304,8 +326,9 @@ def _integral_bar(
         for q in range(4):
             b = _basis(_GN[q], h)
             u, _, _ = _edge_at(uk, due, iv, b)
+            rq, _, _ = _edge_at(rk, dr, iv, b)
             if u > 0.0:
-                w = h * _GW[q] * 5.0 * u**4
+                w = h * _GW[q] * 5.0 * u**4 * rq * rq
                 for k in range(rows):
                     if wanted[k] and suffix[k] != 0.0:
                         _edge_bar(bu[k], bdu[k], iv, b, suffix[k] * w, 0.0)
@@ -427,11 +450,14 @@ def _event_bar(
     sk: F64,
     uk: F64,
     due: F64,
+    rk: F64,
+    dr: F64,
     integral: F64,
     n: int,
     c0: float,
     c0_slope: float,
     nu: float,
+    axisym: bool,
     lam_sep: float,
     tu: float,
     bu: F64,
@@ -441,8 +467,8 @@ def _event_bar(
     """Adds ``scale`` times the derivatives of an event position ``at`` (the zero of
     ``kernel._margin`` of ``kind``) by the implicit-function rule; False when the margin
     is crossed tangentially (no derivative)."""
-    params = (n, c0, c0, nu, False)
-    layer = (sk, uk, due, sk, due, integral)
+    params = (n, c0, c0, nu, axisym)
+    layer = (sk, uk, due, rk, dr, integral)
     _, lam, _, u = kernel._laminar_at(layer, params, at)
     b_lam = b_re = b_u = direct = 0.0
     if kind == 0:
@@ -456,15 +482,50 @@ def _event_bar(
         if lam_sep < lam < LAMBDA_MAX:
             b_lam = -_ags_slope(lam, tu)
     g_s = direct + _laminar_bar(
-        sk, uk, due, integral, n, c0, c0_slope, nu, at, 0.0, b_lam, b_re, b_u, False, bu, bdu, bint
+        sk,
+        uk,
+        due,
+        rk,
+        dr,
+        integral,
+        n,
+        c0,
+        c0_slope,
+        nu,
+        at,
+        0.0,
+        b_lam,
+        b_re,
+        b_u,
+        False,
+        bu,
+        bdu,
+        bint,
     )
     if not (g_s > 0.0 and np.isfinite(g_s)):
         return False
     w = -scale / g_s
     _laminar_bar(
-        sk, uk, due, integral, n, c0, c0_slope, nu, at, 0.0, w * b_lam, w * b_re, w * b_u, True,
-        bu, bdu, bint,
-    )  # fmt: skip
+        sk,
+        uk,
+        due,
+        rk,
+        dr,
+        integral,
+        n,
+        c0,
+        c0_slope,
+        nu,
+        at,
+        0.0,
+        w * b_lam,
+        w * b_re,
+        w * b_u,
+        True,
+        bu,
+        bdu,
+        bint,
+    )
     return True
 
 
@@ -472,14 +533,15 @@ def _event_bar(
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _k_bar(p: tuple[float, ...], kt: float, kh: float) -> tuple[float, float, float, float]:
+def _k_bar(p: tuple[float, ...], kt: float, kh: float) -> tuple[float, float, float, float, float]:
     """Transposed Jacobian of Head's right-hand side times the bars (kt, kh) of its two
-    components: the bars of theta, H1, Ue and Ue'."""
+    components: the bars of theta, H1, Ue, Ue' and r'/r."""
     return (
         kt * p[2] + kh * p[6],
         kt * p[3] + kh * p[7],
         kt * p[4] + kh * p[8],
         kt * p[5] + kh * p[9],
+        kt * p[10],
     )
 
 
@@ -498,6 +560,8 @@ def _head_bar(
     sk: F64,
     uk: F64,
     due: F64,
+    rk: F64,
+    dr: F64,
     n: int,
     tape: F64,
     inv_nu: float,
@@ -534,21 +598,28 @@ def _head_bar(
         u1, us1, uu1 = _edge_at(uk, due, j, b1)
         u2, us2, uu2 = _edge_at(uk, due, j, b2)
         u4, us4, uu4 = _edge_at(uk, due, j, b4)
+        # r'/r at the three positions and its derivative along s (zero when planar).
+        ra, rsa, rra = _edge_at(rk, dr, j, b1)
+        rho1, drho1 = rsa / ra, rra / ra - (rsa / ra) ** 2
+        ra, rsa, rra = _edge_at(rk, dr, j, b2)
+        rho2, drho2 = rsa / ra, rra / ra - (rsa / ra) ** 2
+        ra, rsa, rra = _edge_at(rk, dr, j, b4)
+        rho4, drho4 = rsa / ra, rra / ra - (rsa / ra) ** 2
         r_ = tape[rec]
-        k1 = _rhs_partials_stored(theta, h1, u1, us1, inv_nu, law, r_[6], r_[7], r_[8])
+        k1 = _rhs_partials_stored(theta, h1, u1, us1, inv_nu, law, r_[6], r_[7], r_[8], rho1)
         y2t, y2h = theta + 0.5 * step * k1[0], h1 + 0.5 * step * k1[1]
-        k2 = _rhs_partials_stored(y2t, y2h, u2, us2, inv_nu, law, r_[9], r_[10], r_[11])
+        k2 = _rhs_partials_stored(y2t, y2h, u2, us2, inv_nu, law, r_[9], r_[10], r_[11], rho2)
         y3t, y3h = theta + 0.5 * step * k2[0], h1 + 0.5 * step * k2[1]
-        k3 = _rhs_partials_stored(y3t, y3h, u2, us2, inv_nu, law, r_[12], r_[13], r_[14])
+        k3 = _rhs_partials_stored(y3t, y3h, u2, us2, inv_nu, law, r_[12], r_[13], r_[14], rho2)
         y4t, y4h = theta + step * k3[0], h1 + step * k3[1]
-        k4 = _rhs_partials_stored(y4t, y4h, u4, us4, inv_nu, law, r_[15], r_[16], r_[17])
+        k4 = _rhs_partials_stored(y4t, y4h, u4, us4, inv_nu, law, r_[15], r_[16], r_[17], rho4)
         snt = k1[0] + 2.0 * (k2[0] + k3[0]) + k4[0]
         snh = k1[1] + 2.0 * (k2[1] + k3[1]) + k4[1]
         ynt, ynh = theta + step / 6.0 * snt, h1 + step / 6.0 * snh
         crossing = rec == count and end_kind == kernel.TAPE_CROSSING
         frac, v_t, kn, c = 0.0, 1.0, k1, b1
         if crossing:
-            kn = _rhs_partials_stored(ynt, ynh, u4, us4, inv_nu, law, r_[18], r_[19], r_[20])
+            kn = _rhs_partials_stored(ynt, ynh, u4, us4, inv_nu, law, r_[18], r_[19], r_[20], rho4)
             frac = kernel._crossing(step, h1, ynh, k1[1], kn[1], h_sep)
             c = _basis(frac, step)
             v_t = step * (c[4] * h1 + c[5] * ynh + c[6] * k1[1] + c[7] * kn[1])
@@ -563,7 +634,7 @@ def _head_bar(
             bh1 = 0.0
             stepb = 0.0
             posb = 0.0
-            u4b = us4b = 0.0
+            u4b = us4b = rho4b = 0.0
             if crossing:
                 sb = sep_seed[k]
                 posb += sb
@@ -579,6 +650,7 @@ def _head_bar(
                 bnh += kb[1]
                 u4b += kb[2]
                 us4b += kb[3]
+                rho4b += kb[4]
             elif rec == count and end_kind == kernel.TAPE_AT_STEP_START:
                 pnb += sep_seed[k]
             if seeded and bcf[k, m] != 0.0:
@@ -600,13 +672,14 @@ def _head_bar(
             bh += g[1]
             u4b += g[2]
             us4b += g[3]
+            rho4b += g[4]
             k3t_b += step * g[0]
             k3h_b += step * g[1]
             stepb += g[0] * k3[0] + g[1] * k3[1]
             g = _k_bar(k3, k3t_b, k3h_b)
             bt += g[0]
             bh += g[1]
-            u2b, us2b = g[2], g[3]
+            u2b, us2b, rho2b = g[2], g[3], g[4]
             k2t_b += 0.5 * step * g[0]
             k2h_b += 0.5 * step * g[1]
             stepb += 0.5 * (g[0] * k2[0] + g[1] * k2[1])
@@ -615,6 +688,7 @@ def _head_bar(
             bh += g[1]
             u2b += g[2]
             us2b += g[3]
+            rho2b += g[4]
             k1t_b += 0.5 * step * g[0]
             k1h_b += 0.5 * step * g[1]
             stepb += 0.5 * (g[0] * k1[0] + g[1] * k1[1])
@@ -624,14 +698,14 @@ def _head_bar(
             _edge_bar(bu[k], bdu[k], j, b1, g[2], g[3])
             _edge_bar(bu[k], bdu[k], j, b2, u2b, us2b)
             _edge_bar(bu[k], bdu[k], j, b4, u4b, us4b)
-            posb += g[2] * us1 + g[3] * uu1
-            p2b = u2b * us2 + us2b * uu2
+            posb += g[2] * us1 + g[3] * uu1 + g[4] * drho1
+            p2b = u2b * us2 + us2b * uu2 + rho2b * drho2
             posb += p2b
             stepb += 0.5 * p2b
             if land:
                 posb -= stepb  # the step is the room left to the station
             else:
-                p4b = u4b * us4 + us4b * uu4 + pnb
+                p4b = u4b * us4 + us4b * uu4 + rho4b * drho4 + pnb
                 posb += p4b
                 # the step itself is held fixed (see the module docstring)
             yt[k], yh[k], pb[k] = bt, bh, posb
@@ -645,6 +719,7 @@ def _head_bar(
 def side_sensitivities(
     sk: F64,
     uk: F64,
+    rk: F64,
     ints: NDArray[np.int64],
     reals: F64,
     events: F64,
@@ -654,7 +729,7 @@ def side_sensitivities(
     wanted: NDArray[np.bool_],
     out: F64,
 ) -> NDArray[np.int64]:
-    """Derivatives of a planar side's transition, laminar separation, separation and
+    """Derivatives of a side's transition, laminar separation, separation and
     friction drag (rows of ``out``, ``QUANTITIES``) with respect to Ue/U_inf at each of its
     stations (columns), from the side's arrays as ``kernel.march_sides`` takes them and
     what it returned (``events`` row, turbulent flags, Cf and kept count of the stations);
@@ -667,11 +742,15 @@ def side_sensitivities(
     start_kind, criterion, closure, law = ints[0], ints[1], ints[2], ints[3]
     nu, slope, theta_in, h_in = reals[0], reals[1], reals[2], reals[3]
     tu, lam_sep, h_init, h_sep = reals[5], reals[6], reals[7], reals[8]
+    axisym = ints[4] != 0
     length = sk[n - 1] - sk[0]
     due = np.empty(n)
     kernel._derivative(sk, uk, n, due)
     if start_kind == kernel.START_STAGNATION:
         due[0] = slope
+    dr = np.zeros(n)  # r = 1, r' = 0 when planar: the same arithmetic as the march's
+    if axisym:
+        kernel._derivative(sk, rk, n, dr)
     integral = np.empty(n)
     integral[0] = 0.0
     for i in range(n - 1):
@@ -680,14 +759,20 @@ def side_sensitivities(
         for q in range(4):
             u, _ = kernel._hermite(_GN[q], h, uk[i], uk[i + 1], due[i], due[i + 1])
             u = max(u, 0.0)
-            acc += _GW[q] * u**4 * u
+            w = u**4 * u
+            if axisym:
+                rr, _ = kernel._hermite(_GN[q], h, rk[i], rk[i + 1], dr[i], dr[i + 1])
+                w *= rr * rr
+            acc += _GW[q] * w
         integral[i + 1] = integral[i] + h * acc
     if start_kind == kernel.START_STAGNATION:
-        start_theta2 = THWAITES_A * nu / (THWAITES_B * slope)
+        on_axis = axisym and rk[0] <= 1e-9 * length
+        power = THWAITES_B + 2.0 if on_axis else THWAITES_B
+        start_theta2 = THWAITES_A * nu / (power * slope)
     else:
         start_theta2 = theta_in * theta_in
-    c0 = start_theta2 * uk[0] ** THWAITES_B
-    c0_slope = start_theta2 * THWAITES_B * uk[0] ** (THWAITES_B - 1.0)
+    c0 = start_theta2 * rk[0] ** 2 * uk[0] ** THWAITES_B
+    c0_slope = start_theta2 * rk[0] ** 2 * THWAITES_B * uk[0] ** (THWAITES_B - 1.0)
     if start_kind == kernel.START_STAGNATION:
         c0_slope = 0.0  # Ue[0] = 0 and stays there
     tr = events[1]
@@ -710,9 +795,26 @@ def side_sensitivities(
         status[0] = GRANVILLE
     elif cause != kernel.CAUSE_TRIP:
         if not _event_bar(
-            tr_kind, tr, 1.0, sk, uk, due, integral, n, c0, c0_slope, nu, lam_sep, tu,
-            bu[0], bdu[0], bint[0],
-        ):  # fmt: skip
+            tr_kind,
+            tr,
+            1.0,
+            sk,
+            uk,
+            due,
+            rk,
+            dr,
+            integral,
+            n,
+            c0,
+            c0_slope,
+            nu,
+            axisym,
+            lam_sep,
+            tu,
+            bu[0],
+            bdu[0],
+            bint[0],
+        ):
             status[0] = TANGENTIAL
     # Laminar separation.
     if not wanted[1]:
@@ -720,9 +822,26 @@ def side_sensitivities(
     elif not np.isfinite(lsep):
         status[1] = ABSENT
     elif not _event_bar(
-        0, lsep, 1.0, sk, uk, due, integral, n, c0, c0_slope, nu, lam_sep, tu,
-        bu[1], bdu[1], bint[1],
-    ):  # fmt: skip
+        0,
+        lsep,
+        1.0,
+        sk,
+        uk,
+        due,
+        rk,
+        dr,
+        integral,
+        n,
+        c0,
+        c0_slope,
+        nu,
+        axisym,
+        lam_sep,
+        tu,
+        bu[1],
+        bdu[1],
+        bint[1],
+    ):
         status[1] = TANGENTIAL
     # Separation: laminar, or turbulent through the turbulent march below.
     sep_seed = np.zeros(rows)
@@ -732,18 +851,39 @@ def side_sensitivities(
         status[2] = ABSENT
     elif not sep_turbulent:
         if not _event_bar(
-            0, separation, 1.0, sk, uk, due, integral, n, c0, c0_slope, nu, lam_sep, tu,
-            bu[2], bdu[2], bint[2],
-        ):  # fmt: skip
+            0,
+            separation,
+            1.0,
+            sk,
+            uk,
+            due,
+            rk,
+            dr,
+            integral,
+            n,
+            c0,
+            c0_slope,
+            nu,
+            axisym,
+            lam_sep,
+            tu,
+            bu[2],
+            bdu[2],
+            bint[2],
+        ):
             status[2] = TANGENTIAL
     else:
         sep_seed[2] = 1.0
-    # Friction drag: trapezoids in s of g = Cf Ue^2, the first panel as g ~ s^p.
+    # Friction drag: trapezoids in s of g = Cf Ue^2 (times 2 pi r on a body of
+    # revolution), the first panel as g ~ s^p.
     bcf = np.zeros((rows, n))
     if wanted[3]:
         g = np.empty(keep)
+        wall = np.ones(keep)
         for i in range(keep):
-            g[i] = cf[i] * uk[i] * uk[i]
+            if axisym:
+                wall[i] = 2.0 * np.pi * rk[i]
+            g[i] = cf[i] * uk[i] * uk[i] * wall[i]
         bg = np.zeros(keep)
         first = 0
         total_ok = keep >= 2
@@ -771,8 +911,8 @@ def side_sensitivities(
         for i in range(keep):
             if bg[i] == 0.0 or not np.isfinite(g[i]):
                 continue
-            bu[3, i] += bg[i] * cf[i] * 2.0 * uk[i]
-            bcf[3, i] = bg[i] * uk[i] * uk[i]
+            bu[3, i] += bg[i] * cf[i] * 2.0 * uk[i] * wall[i]
+            bcf[3, i] = bg[i] * uk[i] * uk[i] * wall[i]
             if turb[i]:
                 continue
             # A laminar station: Cf = 2 l(lambda) / Re_theta.
@@ -788,8 +928,8 @@ def side_sensitivities(
                 bu[3, 0] += b_re * np.sqrt(th2) / nu
                 bdu[3, 0] += b_lam * th2 / nu
                 continue
-            # theta^2 = (c0 + a nu integral) / Ue^b at the station itself.
-            weight = uk[i] ** THWAITES_B
+            # theta^2 = (c0 + a nu integral) / (r^2 Ue^b) at the station itself.
+            weight = rk[i] ** 2 * uk[i] ** THWAITES_B
             th2 = (c0 + THWAITES_A * nu * integral[i]) / weight
             root = np.sqrt(th2)
             lam_i = th2 * due[i] / nu
@@ -814,18 +954,41 @@ def side_sensitivities(
             start = tr
             if start_kind != kernel.START_INFLOW:
                 start = max(tr, sk[0] + kernel.START_OFFSET * length)
-            params = (n, c0, start_theta2, nu, False)
-            layer = (sk, uk, due, sk, due, integral)
+            params = (n, c0, start_theta2, nu, axisym)
+            layer = (sk, uk, due, rk, dr, integral)
             th2_start, _, _, _ = kernel._laminar_at(layer, params, start)
             th0 = np.sqrt(th2_start)
             hh0 = h_init
         tape = np.empty((TAPE_STEPS + 2 * n, kernel.TAPE_COLUMNS))  # _head writes its header
         theta_t = np.empty(n)
         h_t = np.empty(n)
+        s_peak = np.inf
+        if axisym:
+            i_peak = 0
+            for i in range(1, n):
+                if rk[i] >= rk[i_peak]:
+                    i_peak = i
+            s_peak = sk[i_peak]
         kernel._head(
-            sk, uk, due, sk, due, n, start, th0, hh0, 1.0 / nu, h_sep, law, False,
-            theta_t, h_t, 1.0, np.inf, tape,
-        )  # fmt: skip
+            sk,
+            uk,
+            due,
+            rk,
+            dr,
+            n,
+            start,
+            th0,
+            hh0,
+            1.0 / nu,
+            h_sep,
+            law,
+            axisym,
+            theta_t,
+            h_t,
+            1.0,
+            s_peak,
+            tape,
+        )
         end_kind = int(tape[0, 1])
         if tape[0, 2] > 0.5:
             for k in range(2, rows):
@@ -838,7 +1001,22 @@ def side_sensitivities(
             tb = np.zeros(rows)
         else:
             pb, tb = _head_bar(
-                sk, uk, due, n, tape, 1.0 / nu, law, h_sep, sep_seed, bcf, turb, keep, bu, bdu
+                sk,
+                uk,
+                due,
+                rk,
+                dr,
+                n,
+                tape,
+                1.0 / nu,
+                law,
+                h_sep,
+                sep_seed,
+                bcf,
+                turb,
+                keep,
+                bu,
+                bdu,
             )
         # A turbulent station at the start holds the start state.
         for m in range(keep):
@@ -856,19 +1034,53 @@ def side_sensitivities(
                     continue
                 # theta at the start from Thwaites' integral there.
                 b_start = pb[k] + _laminar_bar(
-                    sk, uk, due, integral, n, c0, c0_slope, nu, start,
-                    tb[k] / (2.0 * th0), 0.0, 0.0, 0.0, True, bu[k], bdu[k], bint[k],
-                )  # fmt: skip
+                    sk,
+                    uk,
+                    due,
+                    rk,
+                    dr,
+                    integral,
+                    n,
+                    c0,
+                    c0_slope,
+                    nu,
+                    start,
+                    tb[k] / (2.0 * th0),
+                    0.0,
+                    0.0,
+                    0.0,
+                    True,
+                    bu[k],
+                    bdu[k],
+                    bint[k],
+                )
                 if start == tr and cause != kernel.CAUSE_TRIP:
                     if cause == kernel.CAUSE_CRITERION and criterion == 2:
                         status[k] = GRANVILLE
                     elif not _event_bar(
-                        tr_kind, tr, b_start, sk, uk, due, integral, n, c0, c0_slope, nu,
-                        lam_sep, tu, bu[k], bdu[k], bint[k],
-                    ):  # fmt: skip
+                        tr_kind,
+                        tr,
+                        b_start,
+                        sk,
+                        uk,
+                        due,
+                        rk,
+                        dr,
+                        integral,
+                        n,
+                        c0,
+                        c0_slope,
+                        nu,
+                        axisym,
+                        lam_sep,
+                        tu,
+                        bu[k],
+                        bdu[k],
+                        bint[k],
+                    ):
                         status[k] = TANGENTIAL
     # Through the integral and the node gradients to the node values.
-    _integral_bar(sk, uk, due, n, bint, bu, bdu, wanted)
+    _integral_bar(sk, uk, due, rk, dr, n, bint, bu, bdu, wanted)
     if start_kind == kernel.START_STAGNATION:
         for k in range(rows):
             bu[k, 1] += bdu[k, 0] / (sk[1] - sk[0])  # slope = Ue[1] / s[1]
@@ -889,12 +1101,12 @@ _CAUSE_CODES = {
 }
 
 
-def _not_covered(case: Case, side: SideInput) -> str | None:
+def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
     """Why a side's derivatives are not computed, or None when they are."""
     if case.surface.s is None:
         return "contours (x, y) are not differentiated yet (stagnation point and split)"
-    if side.axisymmetric:
-        return "bodies of revolution are not differentiated yet"
+    if side.axisymmetric and math.isfinite(state.thin_layer_s):
+        return "the stations end at the thin-layer limit, which is not differentiated"
     if case.flow.mach > 0.0 and case.pressure.edge_velocity is None:
         return "the isentropic edge velocity (M > 0) is not differentiated yet"
     return None
@@ -975,12 +1187,12 @@ def derivatives(
             )
         )
 
-    reason = _not_covered(case, side)
+    reason = _not_covered(case, side, state)
     if reason is not None:
         for name in wanted:
             unavailable(name, reason)
         return Sensitivities(with_respect_to=wrt, **values), notices
-    s, ue, _, _, ints, reals = march_module._stack([side])
+    s, ue, r, _, ints, reals = march_module._stack([side])
     events = np.full(kernel.N_EVENT_FIELDS, np.nan)
     events[1] = state.transition_s
     events[2] = _CAUSE_CODES[state.transition_cause]
@@ -990,9 +1202,18 @@ def derivatives(
     out = np.zeros((len(QUANTITIES), s.shape[1]))
     flags = np.array([name in wanted for name in QUANTITIES])
     status = side_sensitivities(
-        s[0], ue[0], ints[0], reals[0], events, state.turbulent.copy(),
-        np.ascontiguousarray(state.cf), state.count, flags, out,
-    )  # fmt: skip
+        s[0],
+        ue[0],
+        r[0],
+        ints[0],
+        reals[0],
+        events,
+        state.turbulent.copy(),
+        np.ascontiguousarray(state.cf),
+        state.count,
+        flags,
+        out,
+    )
     inputs = _to_inputs(case, side, out)
     for name in wanted:
         if name == "profile_drag":
