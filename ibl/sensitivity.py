@@ -63,8 +63,9 @@ REASONS = {
     TAPE_FULL: "the turbulent march took more steps than recorded",
     NOT_COVERED: "the march ended in a way that is not differentiated (numerical stop)",
 }
-#: Most recorded steps of the turbulent march per side beyond one per station.
-TAPE_STEPS = 4000
+#: Most recorded steps of the turbulent march per side beyond two per station, and the
+#: rows of the tape tried first (the march usually takes fewer than two steps per station).
+TAPE_STEPS, TAPE_FIRST_ROWS = 4000, 64
 
 _GN = GAUSS_NODES.copy()
 _GW = GAUSS_WEIGHTS.copy()
@@ -959,7 +960,6 @@ def side_sensitivities(
             th2_start, _, _, _ = kernel._laminar_at(layer, params, start)
             th0 = np.sqrt(th2_start)
             hh0 = h_init
-        tape = np.empty((TAPE_STEPS + 2 * n, kernel.TAPE_COLUMNS))  # _head writes its header
         theta_t = np.empty(n)
         h_t = np.empty(n)
         s_peak = np.inf
@@ -969,26 +969,34 @@ def side_sensitivities(
                 if rk[i] >= rk[i_peak]:
                     i_peak = i
             s_peak = sk[i_peak]
-        kernel._head(
-            sk,
-            uk,
-            due,
-            rk,
-            dr,
-            n,
-            start,
-            th0,
-            hh0,
-            1.0 / nu,
-            h_sep,
-            law,
-            axisym,
-            theta_t,
-            h_t,
-            1.0,
-            s_peak,
-            tape,
-        )
+        # A tape for the usual step count first (a large one costs more to allocate than
+        # the march), the largest if that was not enough.
+        tape = np.empty((TAPE_FIRST_ROWS + 2 * n, kernel.TAPE_COLUMNS))  # header by _head
+        for attempt in range(2):
+            if attempt == 1:
+                if tape[0, 2] < 0.5:
+                    break
+                tape = np.empty((TAPE_STEPS + 2 * n, kernel.TAPE_COLUMNS))
+            kernel._head(
+                sk,
+                uk,
+                due,
+                rk,
+                dr,
+                n,
+                start,
+                th0,
+                hh0,
+                1.0 / nu,
+                h_sep,
+                law,
+                axisym,
+                theta_t,
+                h_t,
+                1.0,
+                s_peak,
+                tape,
+            )
         end_kind = int(tape[0, 1])
         if tape[0, 2] > 0.5:
             for k in range(2, rows):
@@ -1120,6 +1128,10 @@ def _to_inputs(case: Case, side: SideInput, bars: F64) -> F64:
     passes nothing on (there the start of the layer changes kind: no derivative)."""
     pressure = case.pressure
     ue = side.ue
+    if pressure.edge_velocity is not None and pressure.smoothing is None:
+        # Ue = |value|, one sign on a single surface: dUe/dvalue = its sign (0 at Ue = 0).
+        sign = next((1.0 if v > 0.0 else -1.0 for v in pressure.edge_velocity if v != 0.0), 1.0)
+        return np.where(ue > 0.0, sign * bars[:, : ue.size], 0.0)
     d_q = np.zeros_like(ue)  # dUe/dq
     inside = ue > 0.0
     d_q[inside] = 0.5 / ue[inside]
