@@ -5,9 +5,10 @@ the side's laminar part is recomputed (node gradients, Thwaites' integral), Head
 is run again with its steps recorded (``kernel._head``'s tape), and one backward sweep
 carries the derivatives of every quantity asked for at once, through:
 
-- each event located between stations (laminar separation, Michel's and Abu-Ghannam &
-  Shaw's criteria) by the implicit-function rule ds*/dp = -(dg/dp)/(dg/ds), g the event's
-  margin (``kernel._margin``) on the interpolated laminar state;
+- each event located between stations (laminar separation, Michel's, Granville's
+  instability and Abu-Ghannam & Shaw's criteria) by the implicit-function rule ds*/dp = -(dg/dp)/(dg/ds), g the event's
+  margin (``kernel._margin``) on the interpolated laminar state; Granville's growth
+  step, crossed by linear interpolation between stations, through that interpolation;
 - Thwaites' integral (four-point Gauss quadrature of the cubic Hermite interpolant of Ue),
   theta^2 = (c0 + a nu integral)/Ue^b, lambda = theta^2 Ue'/nu, Re_theta = Ue theta/nu;
 - the node gradients Ue' (three-point stencil and the Fritsch-Carlson limiter), and the
@@ -25,7 +26,7 @@ stations are laminar or turbulent and how many are kept (discrete).
 
 Covered: sides of a single surface (``surface.s`` with edge velocity, or Cp or p at
 M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
-transition criterion none, michel or abu_ghannam_shaw, trips.
+every transition criterion (Granville's two steps in ``_granville_bar``), trips.
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
@@ -56,9 +57,8 @@ F64 = NDArray[np.float64]
 QUANTITIES = ("transition", "laminar_separation", "separation", "friction_drag")
 #: Status codes of ``side_sensitivities`` per quantity: derivatives computed, the event
 #: does not occur (or no friction drag), and the reasons why no derivative is given.
-OK, ABSENT, GRANVILLE, TANGENTIAL, TAPE_FULL, NOT_COVERED = 0, 1, 2, 3, 4, 5
+OK, ABSENT, TANGENTIAL, TAPE_FULL, NOT_COVERED = 0, 1, 3, 4, 5
 REASONS = {
-    GRANVILLE: "Granville's two-step criterion is not differentiated",
     TANGENTIAL: "the criterion is crossed tangentially: the position has no derivative",
     TAPE_FULL: "the turbulent march took more steps than recorded",
     NOT_COVERED: "the march ended in a way that is not differentiated (numerical stop)",
@@ -213,6 +213,27 @@ def _shear_slope(closure: int, lam: float) -> float:
 def _michel_slope(re_s: float) -> float:
     """d/dRe_s of ``kernel.michel``."""
     return float(1.174 * (0.46 * re_s**-0.54 - 0.54 * 22400.0 * re_s**-1.54))
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _granville_instability_slope(lam: float) -> float:
+    """d/dlambda of ``kernel.granville_instability`` (exp of a piecewise-linear table:
+    zero outside the table; at a table point the derivative does not exist and the
+    segment above is taken)."""
+    table = kernel._G_LAM
+    if not table[0] <= lam < table[-1]:
+        return 0.0
+    j = np.searchsorted(table, lam, side="right") - 1
+    rise = (kernel._G_LOG_RE[j + 1] - kernel._G_LOG_RE[j]) / (table[j + 1] - table[j])
+    return float(kernel.granville_instability(lam) * rise)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _granville_growth_slope(mean: float) -> float:
+    """d/dlambda_mean of ``kernel.granville_growth`` (zero where the mean is clipped)."""
+    if not -0.04 < mean < 0.04:
+        return 0.0
+    return float(55.0 * np.exp(6.1 + 55.0 * mean))
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -478,6 +499,10 @@ def _event_bar(
         sigma = at - sk[0]
         slope = _michel_slope(u * sigma / nu)
         b_re, b_u, direct = 1.0, -slope * sigma / nu, -slope * u / nu
+    elif kind == 2:
+        b_re = 1.0
+        if lam_sep < lam < LAMBDA_MAX:
+            b_lam = -_granville_instability_slope(lam)
     else:
         b_re = 1.0
         if lam_sep < lam < LAMBDA_MAX:
@@ -528,6 +553,197 @@ def _event_bar(
         bint,
     )
     return True
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _granville_bar(
+    scale: float,
+    sk: F64,
+    uk: F64,
+    due: F64,
+    rk: F64,
+    dr: F64,
+    integral: F64,
+    n: int,
+    c0: float,
+    c0_slope: float,
+    start_theta2: float,
+    nu: float,
+    axisym: bool,
+    lam_sep: float,
+    tu: float,
+    bu: F64,
+    bdu: F64,
+    bint: F64,
+) -> bool:
+    """Adds ``scale`` times the derivatives of Granville's transition position (the
+    instability point located by ``kernel._refine``, then the growth criterion crossed
+    between stations by linear interpolation of its margin, as ``kernel.march_sides``
+    does); False when a crossing has no derivative."""
+    lam = np.empty(n)
+    re = np.empty(n)
+    theta2 = np.empty(n)
+    for k in range(n):
+        weight = rk[k] ** 2 * uk[k] ** THWAITES_B
+        theta2[k] = (c0 + THWAITES_A * nu * integral[k]) / weight if k > 0 else start_theta2
+        lam[k] = theta2[k] * due[k] / nu
+        re[k] = uk[k] * np.sqrt(theta2[k]) / nu
+    running = np.zeros(n)
+    for k in range(1, n):
+        l0 = min(max(lam[k - 1], lam_sep), LAMBDA_MAX)
+        l1 = min(max(lam[k], lam_sep), LAMBDA_MAX)
+        running[k] = running[k - 1] + 0.5 * (l0 + l1) * (sk[k] - sk[k - 1])
+    params = (n, c0, c0, nu, axisym)
+    layer = (sk, uk, due, rk, dr, integral)
+    s_i = np.inf
+    for k in range(1, n):
+        lc = min(max(lam[k], lam_sep), LAMBDA_MAX)
+        if re[k] >= kernel.granville_instability(lc):
+            s_i = kernel._refine(2, sk[k - 1], sk[k], layer, params, lam_sep, tu)
+            break
+    if not np.isfinite(s_i) or s_i <= sk[0]:
+        return False
+    _, _, re_i, _ = kernel._laminar_at(layer, params, s_i)
+    run_i = kernel._interp(sk, running, n, s_i)
+    # The station interval of the linear interpolations at s_i (``kernel._interp``).
+    ji = 1
+    while ji < n - 1 and sk[ji] < s_i:
+        ji += 1
+    frac_i = (s_i - sk[ji - 1]) / (sk[ji] - sk[ji - 1])
+    lam_i = kernel._interp(sk, lam, n, s_i)
+    lc_i = min(max(lam_i, lam_sep), LAMBDA_MAX)
+    g_prev = -kernel.granville_growth(lc_i)
+    first = True
+    hit = -1
+    mean_hit = 0.0
+    g_hit = 0.0
+    for k in range(1, n):
+        if sk[k] <= s_i:
+            continue
+        mean = (running[k] - run_i) / (sk[k] - s_i)
+        gk = re[k] - re_i - kernel.granville_growth(mean)
+        if gk >= 0.0:
+            hit, mean_hit, g_hit = k, mean, gk
+            break
+        g_prev = gk
+        first = False
+    if hit < 0:
+        return False
+    span = g_prev - g_hit
+    frac = g_prev / span
+    if not 0.0 < frac < 1.0:
+        return False  # at a station: the interpolation switches interval there
+    s_prev = s_i if first else sk[hit - 1]
+    # Bars, backward from crit = s_prev + frac (s_hit - s_prev).
+    b_lam = np.zeros(n)
+    b_re = np.zeros(n)
+    b_run = np.zeros(n)
+    b_frac = scale * (sk[hit] - s_prev)
+    b_si = 0.0
+    if first:
+        b_si += scale * (1.0 - frac)
+    b_gprev = b_frac * (-g_hit / (span * span))
+    b_ghit = b_frac * (g_prev / (span * span))
+    b_rei = 0.0
+    b_runi = 0.0
+
+    # g at the station where the criterion is met.
+    b_re[hit] += b_ghit
+    b_rei -= b_ghit
+    b_mean = -b_ghit * _granville_growth_slope(mean_hit)
+    d = sk[hit] - s_i
+    b_run[hit] += b_mean / d
+    b_runi -= b_mean / d
+    b_si += b_mean * mean_hit / d
+    if first:
+        # g_prev = -growth(clip(lambda interpolated at s_i)).
+        b_lc = -b_gprev * (_granville_growth_slope(lc_i) if -0.04 < lc_i < 0.04 else 0.0)
+        if lam_sep < lam_i < LAMBDA_MAX:
+            b_lam[ji - 1] += b_lc * (1.0 - frac_i)
+            b_lam[ji] += b_lc * frac_i
+            b_si += b_lc * (lam[ji] - lam[ji - 1]) / (sk[ji] - sk[ji - 1])
+    else:
+        kp = hit - 1
+        mean_p = (running[kp] - run_i) / (sk[kp] - s_i)
+        b_re[kp] += b_gprev
+        b_rei -= b_gprev
+        b_mp = -b_gprev * _granville_growth_slope(mean_p)
+        dp = sk[kp] - s_i
+        b_run[kp] += b_mp / dp
+        b_runi -= b_mp / dp
+        b_si += b_mp * mean_p / dp
+    # run_i = running interpolated at s_i.
+    b_run[ji - 1] += b_runi * (1.0 - frac_i)
+    b_run[ji] += b_runi * frac_i
+    b_si += b_runi * (running[ji] - running[ji - 1]) / (sk[ji] - sk[ji - 1])
+    # re_i: Thwaites' state at s_i.
+    b_si += _laminar_bar(
+        sk,
+        uk,
+        due,
+        rk,
+        dr,
+        integral,
+        n,
+        c0,
+        c0_slope,
+        nu,
+        s_i,
+        0.0,
+        0.0,
+        b_rei,
+        0.0,
+        True,
+        bu,
+        bdu,
+        bint,
+    )
+    # The running integral of the clipped lambda (trapezoids).
+    acc = 0.0
+    for k in range(n - 1, 0, -1):
+        acc += b_run[k]
+        if acc == 0.0:
+            continue
+        half = 0.5 * acc * (sk[k] - sk[k - 1])
+        if lam_sep < lam[k] < LAMBDA_MAX:
+            b_lam[k] += half
+        if lam_sep < lam[k - 1] < LAMBDA_MAX:
+            b_lam[k - 1] += half
+    # Station values: lambda = theta^2 Ue'/nu, Re_theta = Ue theta/nu, theta^2 from the
+    # integral at the station.
+    bdu[0] += b_lam[0] * start_theta2 / nu  # the start's theta is fixed data
+    for k in range(1, n):
+        if b_lam[k] == 0.0 and b_re[k] == 0.0:
+            continue
+        weight = rk[k] ** 2 * uk[k] ** THWAITES_B
+        root = np.sqrt(theta2[k])
+        bt = b_lam[k] * due[k] / nu + b_re[k] * uk[k] / (2.0 * nu * root)
+        bdu[k] += b_lam[k] * theta2[k] / nu
+        bu[k] += b_re[k] * root / nu - bt * theta2[k] * THWAITES_B / uk[k]
+        bint[k] += bt * THWAITES_A * nu / weight
+        bu[0] += bt / weight * c0_slope
+    # The instability point itself.
+    return _event_bar(
+        2,
+        s_i,
+        b_si,
+        sk,
+        uk,
+        due,
+        rk,
+        dr,
+        integral,
+        n,
+        c0,
+        c0_slope,
+        nu,
+        axisym,
+        lam_sep,
+        tu,
+        bu,
+        bdu,
+        bint,
+    )
 
 
 # ----------------------------------------------------------------------------- turbulent
@@ -793,7 +1009,27 @@ def side_sensitivities(
     elif not np.isfinite(tr):
         status[0] = ABSENT
     elif cause == kernel.CAUSE_CRITERION and criterion == 2:
-        status[0] = GRANVILLE
+        if not _granville_bar(
+            1.0,
+            sk,
+            uk,
+            due,
+            rk,
+            dr,
+            integral,
+            n,
+            c0,
+            c0_slope,
+            start_theta2,
+            nu,
+            axisym,
+            lam_sep,
+            tu,
+            bu[0],
+            bdu[0],
+            bint[0],
+        ):
+            status[0] = TANGENTIAL
     elif cause != kernel.CAUSE_TRIP:
         if not _event_bar(
             tr_kind,
@@ -1064,7 +1300,27 @@ def side_sensitivities(
                 )
                 if start == tr and cause != kernel.CAUSE_TRIP:
                     if cause == kernel.CAUSE_CRITERION and criterion == 2:
-                        status[k] = GRANVILLE
+                        if not _granville_bar(
+                            b_start,
+                            sk,
+                            uk,
+                            due,
+                            rk,
+                            dr,
+                            integral,
+                            n,
+                            c0,
+                            c0_slope,
+                            start_theta2,
+                            nu,
+                            axisym,
+                            lam_sep,
+                            tu,
+                            bu[k],
+                            bdu[k],
+                            bint[k],
+                        ):
+                            status[k] = TANGENTIAL
                     elif not _event_bar(
                         tr_kind,
                         tr,

@@ -365,3 +365,15 @@ def test_cone_body_of_revolution_from_a_sharp_tip() -> None:
     present = {"friction_drag"} | {n for n in QUANTITIES[:3] if getattr(side, n) is not None}
     assert {"transition", "separation"} <= present
     _check(doc, present)
+
+
+@pytest.mark.parametrize("gradient", [0.1, 0.3])
+def test_granville_transition(gradient: float) -> None:
+    # Granville's two steps: the instability point between stations, then the growth
+    # criterion on the mean lambda, interpolated linearly between stations.
+    s = np.linspace(0.0, 1.0, 41)
+    doc = _surface(s, 1.0 - gradient * s, 3e6, transition={"criterion": "granville"})
+    side = ibl.run(ibl.parse_case(doc)).sides[0]
+    assert side.transition is not None and side.transition.cause == "criterion"
+    present = {"friction_drag"} | {n for n in QUANTITIES[:3] if getattr(side, n) is not None}
+    _check(doc, present)
