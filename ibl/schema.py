@@ -333,8 +333,9 @@ class Output(Struct, frozen=True):
             "single surface (Ue = 0; that entry is 0); a trip's position has derivative "
             "zero. Covered: single surfaces (surface.s), planar or axisymmetric (short of "
             "the thin-layer limit), edge_velocity, or cp or p at M = 0, smoothed (the "
-            "penalty held fixed) or not, with every transition criterion; elsewhere the arrays are null with a "
-            "sensitivities_unavailable warning saying why. Empty (the default): none",
+            "penalty held fixed) or not, with every transition criterion; elsewhere the "
+            "arrays are null with a sensitivities_unavailable warning saying why. Empty "
+            "(the default): none",
         ),
     ] = msgspec.field(default_factory=list)
 
