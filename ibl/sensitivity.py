@@ -7,8 +7,9 @@ carries the derivatives of every quantity asked for at once, through:
 
 - each event located between stations (laminar separation, Michel's, Granville's
   instability and Abu-Ghannam & Shaw's criteria) by the implicit-function rule
-  ds*/dp = -(dg/dp)/(dg/ds), g the event's margin (``kernel._margin``) on the interpolated laminar state; Granville's growth
-  step, crossed by linear interpolation between stations, through that interpolation;
+  ds*/dp = -(dg/dp)/(dg/ds), g the event's margin (``kernel._margin``) on the
+  interpolated laminar state; Granville's growth step, crossed by linear interpolation
+  between stations, through that interpolation;
 - Thwaites' integral (four-point Gauss quadrature of the cubic Hermite interpolant of Ue),
   theta^2 = (c0 + a nu integral)/Ue^b, lambda = theta^2 Ue'/nu, Re_theta = Ue theta/nu;
 - the node gradients Ue' (three-point stencil and the Fritsch-Carlson limiter), and the
