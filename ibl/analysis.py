@@ -20,7 +20,7 @@ import numpy as np
 import orjson
 from numpy.typing import NDArray
 
-from ibl import drag, kernel, mesh, transition, turbulent
+from ibl import drag, kernel, mesh, sensitivity, transition, turbulent
 from ibl import march as march_module
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
@@ -258,6 +258,10 @@ def _results(
             pointer = f"/sides/{index}"
             found = ready.plateaus[index]
             built.append(_side(side, state, convert, warnings, pointer, found, wanted))
+            if case.output.sensitivities:
+                derived, notes = sensitivity.derivatives(case, side, state, pointer)
+                built[-1] = msgspec.structs.replace(built[-1], sensitivities=derived)
+                warnings.extend(notes)
             if found is not None:
                 warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
             warnings.extend(_range_warnings(side, state))

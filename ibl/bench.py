@@ -18,6 +18,9 @@ Contents
 - ``finite_difference_side(side)``: the finite-difference laminar march
   (``ibl.finite_difference``) of one side; ``main`` times it at N = 200 per side against
   the march of the integral methods on the same sides, as a ratio with its target.
+- ``_sensitivity_figures``: at N = 200, the time per side of a plain march and of a
+  march with the derivatives of every event and the friction drag
+  (``output.sensitivities``), and their ratio, measured in one run.
 """
 
 from __future__ import annotations
@@ -189,6 +192,45 @@ def _figures(n: int, repeat: int, batch: int) -> None:
         print(f"{'':>7} one answer in {fmt}: {full:,} bytes full, {short:,} bytes summary")
 
 
+def _sensitivity_figures(n: int, repeat: int) -> None:
+    """Per side: a plain march, and the same march with all derivatives, timed alternately
+    in one run (so that both see the same load), the ratio of their medians."""
+    from ibl.sensitivity import derivatives
+
+    wanted = ["transition", "laminar_separation", "separation", "friction_drag"]
+    print(f"{'N/side':>7} sensitivities (each side of the ellipse as a single surface)")
+    for side in prepare(parse_case(ellipse_case(n))).sides:
+        doc = {
+            "surface": {"s": side.s.tolist()},
+            "pressure": {"edge_velocity": side.ue.tolist()},
+            "flow": {"reynolds": 2e6},
+            "output": {"stations": False, "sensitivities": wanted},
+        }
+        case = parse_case(doc)
+        one = prepare(case).sides
+
+        def plain(one: list[SideInput] = one) -> object:
+            return march(one)
+
+        def derived(case: Any = case, one: list[SideInput] = one) -> object:
+            return derivatives(case, one[0], march(one)[0], "/sides/0")
+
+        plain()
+        derived()
+        times: dict[str, list[float]] = {"plain": [], "derived": []}
+        for _ in range(repeat):
+            for key, function in (("plain", plain), ("derived", derived)):
+                start = time.perf_counter()
+                function()
+                times[key].append(time.perf_counter() - start)
+        t_plain = statistics.median(times["plain"])
+        t_derived = statistics.median(times["derived"])
+        print(
+            f"{n:>7} {side.name}: plain march {t_plain * 1e6:.1f} us, with all sensitivities "
+            f"{t_derived * 1e6:.1f} us, ratio {t_derived / t_plain:.2f}"
+        )
+
+
 #: Target: the finite-difference laminar march costs at most this many times the march of
 #: the integral methods, per side.
 FD_COST_TARGET = 10.0
@@ -294,6 +336,10 @@ def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> 
     for n in (200, 400):
         _figures(n, repeat, batch)
     _finite_difference_figures(200, repeat)
-    print("Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch.")
+    _sensitivity_figures(200, max(repeat, 50))
+    print(
+        "Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch; "
+        "all sensitivities <= 3 times a plain march per side."
+    )
     ratios(200)
     return 0

@@ -80,6 +80,13 @@ MAX_STEPS = 20_000
 #: of a body of revolution (``THIN_LAYER_RATIO``; handled by ``march_sides``, not reported
 #: as a stop).
 STOP_NONE, STOP_BUDGET, STOP_INVALID, STOP_THIN = 0, 1, 2, 3
+#: How a recorded turbulent march ended (row 0 of ``_head``'s tape): attached to its end or
+#: another stop, separated by H crossing its criterion inside the last step, separated at
+#: the start of a step the equations cannot take, or separated at its start.
+TAPE_ATTACHED, TAPE_CROSSING, TAPE_AT_STEP_START, TAPE_AT_START = 0, 1, 2, 3
+#: Columns of a full tape row: start position, step, interval, theta, H1, landed flag, then
+#: d theta/ds, d H1/ds and H at the four Runge-Kutta stages and at the step's end.
+TAPE_COLUMNS = 21
 #: The thin-layer limit of a body of revolution.  The axisymmetric forms of the momentum
 #: and entrainment equations used here (Rott & Crabtree 1952; Head 1958; Mangler 1948)
 #: treat the layer as thin against the body radius, delta99 << r; where it is not,
@@ -395,6 +402,7 @@ def _head(
     h_out: F64,
     scale: float,
     s_peak: float,
+    tape: F64,
 ) -> tuple[float, int, int]:
     """Head's equations from ``start`` by classical Runge-Kutta with limited steps.
 
@@ -414,7 +422,19 @@ def _head(
     the march stops where delta99 reaches ``THIN_LAYER_RATIO`` times the radius.
     A start at or beyond separation (an inflow with H >= ``h_separation``) fills the
     station at the start with the start state and separates there.
+
+    ``tape`` (rows, ``TAPE_COLUMNS``) records the march for its derivatives
+    (``ibl.sensitivity``) when it has more than one row: row 0 holds the record count, how
+    the march ended (``TAPE_*``) and 1 if more steps were taken than it holds; each further
+    row one step taken (its start position, step, interval, theta, H1, whether it ended
+    on the station at the interval's end, and the right-hand side and H at its stages and
+    its end).  With one row nothing is written.
     """
+    record = tape.shape[0] > 1
+    if record:
+        tape[0, 0] = 0.0
+        tape[0, 1] = TAPE_ATTACHED
+        tape[0, 2] = 0.0
     origin = s[0]
     end = s[n - 1]
     span = end - origin
@@ -439,10 +459,12 @@ def _head(
             theta_out[m] = theta
             h_out[m] = h0
             m += 1
+        if record:
+            tape[0, 1] = TAPE_AT_START
         return pos, 0, STOP_NONE
     if pos > s_peak and _delta99_turbulent(theta, h0) >= THIN_LAYER_RATIO * rr:
         return pos, 0, STOP_THIN
-    f_theta, f_h1, _ = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
+    f_theta, f_h1, f_h = _rhs(theta, h1, u, du, rr, drr, inv_nu, law, axisymmetric)
     steps = 0
     while True:
         while m < n and s[m] <= pos:
@@ -473,19 +495,19 @@ def _head(
             hh2 = h1 + 0.5 * step * f_h1
             ok = u2 > 0.0 and th2 > 0.0 and hh2 > 3.3 and r2 > 0.0
             if ok:
-                a_theta, a_h1, _ = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                a_theta, a_h1, a_h = _rhs(th2, hh2, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
                 th3 = theta + 0.5 * step * a_theta
                 hh3 = h1 + 0.5 * step * a_h1
                 ok = th3 > 0.0 and hh3 > 3.3
             if ok:
-                b_theta, b_h1, _ = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
+                b_theta, b_h1, b_h = _rhs(th3, hh3, u2, du2, r2, dr2, inv_nu, law, axisymmetric)
                 t_end = 1.0 if land else (at_end - left) / length
                 u4, du4, r4, dr4 = _edge(s, ue, due, r, dr, j, t_end, axisymmetric)
                 th4 = theta + step * b_theta
                 hh4 = h1 + step * b_h1
                 ok = u4 > 0.0 and th4 > 0.0 and hh4 > 3.3 and r4 > 0.0
             if ok:
-                c_theta, c_h1, _ = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
+                c_theta, c_h1, c_h = _rhs(th4, hh4, u4, du4, r4, dr4, inv_nu, law, axisymmetric)
                 theta_new = theta + step / 6.0 * (f_theta + 2.0 * (a_theta + b_theta) + c_theta)
                 h1_new = h1 + step / 6.0 * (f_h1 + 2.0 * (a_h1 + b_h1) + c_h1)
                 ok = theta_new > 0.0 and h1_new > 3.3 and np.isfinite(theta_new + h1_new)
@@ -495,6 +517,8 @@ def _head(
                     # H1 at its floor or Ue at zero: the layer separates; anything else
                     # is a numerical stop.
                     if hh2 <= 3.3 or u2 <= 0.0:
+                        if record:
+                            tape[0, 1] = TAPE_AT_STEP_START
                         return pos, steps, STOP_NONE
                     return pos, steps, STOP_INVALID
                 step = max(0.5 * step, min_step)
@@ -520,7 +544,33 @@ def _head(
                     retakes += 1
                     continue
             break
+        if record:
+            row = int(tape[0, 0]) + 1
+            if row < tape.shape[0]:
+                tape[row, 0] = pos
+                tape[row, 1] = step
+                tape[row, 2] = j
+                tape[row, 3] = theta
+                tape[row, 4] = h1
+                tape[row, 5] = 1.0 if land else 0.0
+                if tape.shape[1] >= TAPE_COLUMNS:
+                    stages = (
+                        (f_theta, f_h1, f_h),
+                        (a_theta, a_h1, a_h),
+                        (b_theta, b_h1, b_h),
+                        (c_theta, c_h1, c_h),
+                        (g_theta, g_h1, h_new),
+                    )
+                    for q in range(5):
+                        tape[row, 6 + 3 * q] = stages[q][0]
+                        tape[row, 7 + 3 * q] = stages[q][1]
+                        tape[row, 8 + 3 * q] = stages[q][2]
+                tape[0, 0] = row
+            else:
+                tape[0, 2] = 1.0  # more steps than the tape holds
         if h_new >= h_separation:
+            if record:
+                tape[0, 1] = TAPE_CROSSING
             frac = _crossing(step, h1, h1_new, f_h1, g_h1, h_separation)
             separation = pos + frac * step
             while m < n and s[m] <= separation:  # the step's end, when separation is there
@@ -547,7 +597,7 @@ def _head(
         # No station lies inside a step: the station at its end is filled from the state.
         pos = at_end
         theta, h1 = theta_new, h1_new
-        f_theta, f_h1 = g_theta, g_h1
+        f_theta, f_h1, f_h = g_theta, g_h1, h_new
         u, du, rr, drr = u4, du4, r4, dr4
 
 
@@ -726,6 +776,7 @@ def march_sides(
     running = np.empty(n_max)
     theta_t = np.empty(n_max)
     h_t = np.empty(n_max)
+    no_tape = np.zeros((1, TAPE_COLUMNS))
     steps = 0
     for k in range(n_sides):
         n = count[k]
@@ -912,6 +963,7 @@ def march_sides(
                 h_t,
                 step_scale,
                 s_peak,
+                no_tape,
             )
             steps += taken
         thin_s = np.nan  # where the thin-layer limit is reached (NaN if nowhere)

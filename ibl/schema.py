@@ -27,6 +27,7 @@ __all__ = [
     "MAX_LENGTH",
     "MAX_POINTS",
     "MAX_PRESSURE",
+    "SENSITIVITY_QUANTITIES",
     "SMOOTHING_MAX",
     "STATION_QUANTITIES",
     "Body",
@@ -46,6 +47,8 @@ __all__ = [
     "Pressure",
     "PressurePlateauEvent",
     "Result",
+    "Sensitivities",
+    "SensitivityName",
     "SeparationEvent",
     "SeparationOptions",
     "Side",
@@ -292,6 +295,12 @@ StationName = Literal[
 ]
 STATION_QUANTITIES: tuple[str, ...] = StationName.__args__  # type: ignore[attr-defined]
 
+#: The quantities whose derivatives a case may ask for (``Output.sensitivities``).
+SensitivityName = Literal[
+    "transition", "laminar_separation", "separation", "friction_drag", "profile_drag"
+]
+SENSITIVITY_QUANTITIES: tuple[str, ...] = SensitivityName.__args__  # type: ignore[attr-defined]
+
 
 class Output(Struct, frozen=True):
     """What the result carries: all station arrays (the default), none, or some."""
@@ -306,6 +315,29 @@ class Output(Struct, frozen=True):
             "re_theta, delta99, regime). Arrays left out are absent from the sides"
         ),
     ] = True
+    sensitivities: Annotated[
+        list[SensitivityName],
+        Meta(
+            max_length=len(SENSITIVITY_QUANTITIES),
+            description="Quantities whose derivatives with respect to every input pressure "
+            "value (the Cp, p or edge_velocity given, per input point) each side carries in "
+            "its sensitivities member: transition, laminar_separation, separation (the "
+            "event's s), friction_drag (the side's), profile_drag. Computed by reverse-mode "
+            "differentiation of the discrete march. Held fixed: the surface, the flow, the "
+            "turbulent march's step sizes that do not end on a station, which stations are "
+            "laminar or turbulent and how many are kept. They do not exist where an event "
+            "changes cause (transition by criterion against laminar separation or a trip), "
+            "where a criterion is crossed tangentially, where two neighbouring edge "
+            "velocities are equal (the interpolant's slope limiter switches), where "
+            "separation crosses a station (friction_drag), or at a stagnation point of a "
+            "single surface (Ue = 0; that entry is 0); a trip's position has derivative "
+            "zero. Covered: single surfaces (surface.s), planar or axisymmetric (short of "
+            "the thin-layer limit), edge_velocity, or cp or p at M = 0, smoothed (the "
+            "penalty held fixed) or not, with every transition criterion; elsewhere the "
+            "arrays are null with a sensitivities_unavailable warning saying why. Empty "
+            "(the default): none",
+        ),
+    ] = msgspec.field(default_factory=list)
 
 
 class Case(Struct, frozen=True):
@@ -434,6 +466,41 @@ class MeshAdvice(Struct, frozen=True):
     max_eddy_viscosity_ratio_s: float
 
 
+class Sensitivities(Struct, frozen=True, kw_only=True):
+    """Derivatives of a side's events and friction drag with respect to each input
+    pressure value (one entry per input point of the case); members the case's
+    ``output.sensitivities`` does not ask for are absent, null where the event does not
+    occur or the derivative is not available (then with a warning)."""
+
+    with_respect_to: Annotated[
+        Literal["edge_velocity", "cp", "p"],
+        Meta(
+            description="The input the derivatives are taken with respect to: the case's "
+            "pressure.edge_velocity (Ue/U_inf), pressure.cp or pressure.p [Pa]"
+        ),
+    ]
+    transition: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="d(transition s)/d(input value) [length unit per input unit]"),
+    ] = UNSET
+    laminar_separation: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="d(laminar separation s)/d(input value) [length unit per input unit]"),
+    ] = UNSET
+    separation: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="d(separation s)/d(input value) [length unit per input unit]"),
+    ] = UNSET
+    friction_drag: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="d(friction_drag of the side)/d(input value) [per input unit]"),
+    ] = UNSET
+    profile_drag: Annotated[
+        list[float] | UnsetType | None,
+        Meta(description="d(the side's share of the profile drag)/d(input value)"),
+    ] = UNSET
+
+
 class Side(Struct, frozen=True, kw_only=True):
     """Station arrays and events of one side, from its start to separation, to the onset of a
     pressure plateau in the input, or to its end.
@@ -505,6 +572,13 @@ class Side(Struct, frozen=True, kw_only=True):
             "geometry): x is taken along s. Null with fewer than two stations"
         ),
     ]
+    sensitivities: Annotated[
+        Sensitivities | UnsetType,
+        Meta(
+            description="Derivatives with respect to every input pressure value, as the "
+            "case's output.sensitivities asks; absent when it asks for none"
+        ),
+    ] = UNSET
 
 
 class Notice(Struct, frozen=True):

@@ -1,0 +1,379 @@
+"""Derivatives of events and drag with respect to every input pressure value.
+
+The reference for every derivative is a central difference of whole runs (``ibl.run_batch``
+on the case with one input value moved up and down), computed here; the derivatives come
+from the reverse-mode differentiation of the march (``ibl.sensitivity``).
+
+Step of the central differences: 1e-6 of the input value's scale (Ue/U_inf and Cp are of
+order 1).  The truncation error of a central difference is of order step^2 times the third
+derivative, far below anything checked; the rounding error is about 1e-16 / 1e-6 = 1e-10
+of the positions (of order 1), and events are located to 1e-14 of the surface length, so
+the reference is good to about 1e-7 of the derivatives (of order 0.1 to 10).
+
+Tolerance: 1 % of the largest derivative magnitude of each array (the requirement).  The
+differentiated march holds the step sizes of the turbulent march that do not end on a
+station fixed; their effect is of the order of the march's truncation error (separation
+moves by less than 1e-5 % of the side length with twenty times smaller steps,
+``tests/test_kernel.py``), far inside the tolerance.
+"""
+
+from __future__ import annotations
+
+import json
+import math
+from typing import Any
+
+import msgspec
+import numpy as np
+import pytest
+from litestar.testing import TestClient
+
+import ibl
+from ibl.schema import Result
+from service.app import create_app
+from service.config import Settings
+
+STEP = 1e-6
+TOLERANCE = 0.01
+QUANTITIES = ("transition", "laminar_separation", "separation", "friction_drag")
+
+
+def _surface(s: np.ndarray, values: np.ndarray, reynolds: float, **extra: Any) -> dict[str, Any]:
+    key = extra.pop("key", "edge_velocity")
+    doc: dict[str, Any] = {
+        "surface": {"s": s.tolist()},
+        "pressure": {key: values.tolist()},
+        "flow": {"reynolds": reynolds},
+        "output": {"stations": False, "sensitivities": list(QUANTITIES)},
+    }
+    doc.update(extra)
+    return doc
+
+
+def _figures(result: Result) -> dict[str, float]:
+    side = result.sides[0]
+    figures = {
+        "transition": side.transition.s if side.transition else math.nan,
+        "laminar_separation": side.laminar_separation.s if side.laminar_separation else math.nan,
+        "separation": side.separation.s if side.separation else math.nan,
+        "friction_drag": side.friction_drag if side.friction_drag is not None else math.nan,
+    }
+    return figures
+
+
+def _central_differences(
+    doc: dict[str, Any], skip: tuple[int, ...] = (), step: float = STEP
+) -> dict[str, Any]:
+    """d(figure)/d(input value i) by central differences of whole runs (NaN where skipped)."""
+    key = next(iter(doc["pressure"]))
+    base = np.array(doc["pressure"][key], dtype=float)
+    cases = []
+    for i in range(base.size):
+        for sign in (1.0, -1.0):
+            values = base.copy()
+            values[i] += sign * step
+            moved = json.loads(json.dumps(doc))
+            moved["pressure"][key] = values.tolist()
+            moved["output"] = {"stations": False}
+            cases.append(ibl.parse_case(moved))
+    results = ibl.run_batch(cases)
+    out = {name: np.full(base.size, math.nan) for name in QUANTITIES}
+    for i in range(base.size):
+        if i in skip:
+            continue
+        up, down = results[2 * i], results[2 * i + 1]
+        assert isinstance(up, Result) and isinstance(down, Result)
+        a, b = _figures(up), _figures(down)
+        for name in QUANTITIES:
+            out[name][i] = (a[name] - b[name]) / (2.0 * step)
+    return out
+
+
+def _check(
+    doc: dict[str, Any],
+    present: set[str],
+    skip: tuple[int, ...] = (),
+    zero: set[str] = frozenset(),
+    step: float = STEP,
+) -> None:
+    """The derivatives of the figures in ``present`` against central differences, null for
+    the others; those in ``zero`` are zero in both (a trip's position)."""
+    result = ibl.run(ibl.parse_case(doc))
+    derived = result.sides[0].sensitivities
+    assert isinstance(derived, ibl.schema.Sensitivities)
+    reference = _central_differences(doc, skip, step)
+    for name in QUANTITIES:
+        got = getattr(derived, name)
+        if name not in present:
+            assert got is None, name  # the event does not occur
+            continue
+        assert got is not None, name
+        got = np.array(got)
+        want = reference[name]
+        keep = np.isfinite(want)
+        scale = np.max(np.abs(want[keep]))
+        assert (scale == 0.0) == (name in zero), name
+        error = np.max(np.abs(got[keep] - want[keep]))
+        assert error <= TOLERANCE * scale, (name, error / scale)
+
+
+def test_howarth_retarded_flow_laminar_separation_and_friction() -> None:
+    # Howarth's (1938) linearly retarded flow Ue = 1 - s/8: laminar separation near
+    # s = 0.96 (Thwaites' method), no transition criterion.
+    s = np.linspace(0.0, 1.5, 41)
+    doc = _surface(s, 1.0 - s / 8.0, 1e5, transition={"criterion": "none"})
+    _check(doc, {"laminar_separation", "separation", "friction_drag"})
+
+
+def test_michel_transition_then_turbulent_separation() -> None:
+    # A linear deceleration steep enough for Head's layer to separate after Michel's
+    # transition.
+    s = np.linspace(0.0, 1.0, 41)
+    doc = _surface(s, 1.0 - 0.55 * s, 3e6, transition={"criterion": "michel"})
+    _check(doc, {"transition", "separation", "friction_drag"})
+
+
+def test_tripped_layer_separation_and_friction() -> None:
+    # A trip: the transition position is given, its derivatives are zero.
+    s = np.linspace(0.0, 1.0, 41)
+    trip = {"criterion": "none", "trip": {"surface": 0.05}}
+    doc = _surface(s, 1.0 - 0.55 * s, 1e6, transition=trip)
+    result = ibl.run(ibl.parse_case(doc))
+    derived = result.sides[0].sensitivities
+    assert isinstance(derived, ibl.schema.Sensitivities)
+    assert derived.transition == [0.0] * s.size
+    _check(doc, {"transition", "separation", "friction_drag"}, zero={"transition"})
+
+
+def test_abu_ghannam_shaw_transition() -> None:
+    s = np.linspace(0.0, 1.0, 41)
+    doc = _surface(s, 1.0 - 0.2 * s, 2e6, transition={"criterion": "abu_ghannam_shaw"})
+    doc["flow"]["turbulence_intensity"] = 0.01
+    _check(doc, {"transition", "friction_drag"})
+
+
+def test_ellipse_nose_in_cp_from_the_stagnation_point() -> None:
+    # Potential flow over an ellipse (a cos t, b sin t) at zero incidence (Milne-Thomson,
+    # Theoretical Hydrodynamics, the elliptic cylinder): Ue/U = (1 + b/a) sin t /
+    # sqrt(sin^2 t + (b/a)^2 cos^2 t), here from the leading-edge stagnation point, given
+    # as Cp = 1 - (Ue/U)^2 on a single surface.  At the stagnation point (Cp = 1, Ue = 0)
+    # the derivative does not exist (the start of the layer changes kind): skipped.  The
+    # points avoid the symmetric pair round the largest Ue: two equal neighbouring values
+    # make the slope limiter's secant zero, where the march has no derivative (README).
+    a, b = 0.5, 0.1
+    t = np.linspace(0.0, 0.8 * np.pi, 60)
+    x, y = -a * np.cos(t), b * np.sin(t)
+    s = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))])
+    ratio = b / a
+    ue = (1.0 + ratio) * np.sin(t) / np.sqrt(np.sin(t) ** 2 + ratio**2 * np.cos(t) ** 2)
+    doc = _surface(s, 1.0 - ue**2, 2e6, key="cp", transition={"criterion": "michel"})
+    result = ibl.run(ibl.parse_case(doc))
+    derived = result.sides[0].sensitivities
+    assert isinstance(derived, ibl.schema.Sensitivities)
+    assert derived.with_respect_to == "cp"
+    present = {n for n in QUANTITIES if getattr(derived, n) is not None}
+    assert {"transition", "friction_drag"} <= present
+    _check(doc, present, skip=(0,))
+
+
+def test_only_what_is_asked_for_and_nothing_by_default() -> None:
+    s = np.linspace(0.0, 1.0, 21)
+    doc = _surface(s, 1.0 - 0.2 * s, 1e6)
+    doc["output"]["sensitivities"] = ["friction_drag"]
+    out = ibl.analyze(doc)["sides"][0]["sensitivities"]
+    assert set(out) == {"with_respect_to", "friction_drag"}
+    assert len(out["friction_drag"]) == s.size
+    del doc["output"]["sensitivities"]
+    assert "sensitivities" not in ibl.analyze(doc)["sides"][0]
+
+
+def test_contour_not_covered_is_null_with_a_warning() -> None:
+    a, b = 0.5, 0.06
+    t = np.linspace(0.0, 2.0 * np.pi, 81)[:-1]
+    ratio = b / a
+    ue = (1.0 + ratio) * np.abs(np.sin(t)) / np.sqrt(np.sin(t) ** 2 + ratio**2 * np.cos(t) ** 2)
+    doc = {
+        "surface": {"x": (a * np.cos(t)).tolist(), "y": (b * np.sin(t)).tolist()},
+        "pressure": {"cp": (1.0 - ue**2).tolist()},
+        "flow": {"reynolds": 1e6},
+        "output": {"stations": False, "sensitivities": ["separation", "profile_drag"]},
+    }
+    result = ibl.analyze(doc)
+    for side in result["sides"]:
+        assert side["sensitivities"]["separation"] is None
+        assert side["sensitivities"]["profile_drag"] is None
+    codes = [w["code"] for w in result["warnings"]]
+    assert "sensitivities_unavailable" in codes
+
+
+@pytest.mark.parametrize(
+    ("value", "pointer"),
+    [
+        (["separation", "lift"], "/output/sensitivities/1"),
+        ("separation", "/output/sensitivities"),
+        ([1], "/output/sensitivities/0"),
+    ],
+    ids=["unknown name", "not a list", "not a name"],
+)
+def test_bad_sensitivities_name_the_field(value: Any, pointer: str) -> None:
+    s = np.linspace(0.0, 1.0, 11)
+    doc = _surface(s, np.ones(11), 1e6)
+    doc["output"]["sensitivities"] = value
+    with pytest.raises(ibl.CaseError) as caught:
+        ibl.parse_case(doc)
+    assert [p.pointer for p in caught.value.problems] == [pointer]
+    with TestClient(create_app(Settings()), raise_server_exceptions=False) as client:
+        response = client.post(
+            "/v1/analyses", content=json.dumps(doc), headers={"content-type": "application/json"}
+        )
+        assert response.status_code == 422
+        assert response.headers["content-type"].startswith("application/problem+json")
+        assert [e["pointer"] for e in response.json()["errors"]] == [pointer]
+
+
+@pytest.mark.parametrize("fmt", ["json", "msgpack"])
+def test_http_carries_the_sensitivities(fmt: str) -> None:
+    s = np.linspace(0.0, 1.0, 21)
+    doc = _surface(s, 1.0 - 0.55 * s, 3e6)
+    want = ibl.analyze(doc)["sides"][0]["sensitivities"]
+    with TestClient(create_app(Settings()), raise_server_exceptions=False) as client:
+        if fmt == "json":
+            body, kind = json.dumps(doc).encode(), "application/json"
+        else:
+            body, kind = msgspec.msgpack.encode(doc), "application/msgpack"
+        response = client.post(
+            "/v1/analyses", content=body, headers={"content-type": kind, "accept": kind}
+        )
+        assert response.status_code == 200, response.text
+        got = (response.json() if fmt == "json" else msgspec.msgpack.decode(response.content))[
+            "sides"
+        ][0]["sensitivities"]
+    assert got == want
+
+
+def test_cli_carries_the_sensitivities_and_names_a_bad_member(tmp_path, capsys) -> None:
+    from ibl.cli import main
+
+    s = np.linspace(0.0, 1.0, 21)
+    doc = _surface(s, 1.0 - 0.55 * s, 3e6)
+    path = tmp_path / "case.json"
+    path.write_text(json.dumps(doc))
+    assert main(["run", str(path), "--format", "json"]) == 0
+    got = json.loads(capsys.readouterr().out)["sides"][0]["sensitivities"]
+    assert got == ibl.analyze(doc)["sides"][0]["sensitivities"]
+    doc["output"]["sensitivities"] = ["separation", "lift"]
+    path.write_text(json.dumps(doc))
+    assert main(["run", str(path), "--format", "json"]) != 0
+    captured = capsys.readouterr()
+    assert "/output/sensitivities/1" in captured.err
+    assert "Traceback" not in captured.err
+
+
+@pytest.mark.parametrize(
+    ("edit", "present"),
+    [
+        (
+            lambda d: d.update(inflow={"theta": 2e-4, "shape_factor": 2.59}),
+            {"transition", "separation", "friction_drag"},
+        ),
+        (
+            lambda d: d.update(
+                inflow={"theta": 5e-4, "shape_factor": 1.4, "regime": "turbulent"},
+            ),
+            {"separation", "friction_drag"},
+        ),
+        (
+            lambda d: d.update(turbulent={"skin_friction": "white"}),
+            {"transition", "separation", "friction_drag"},
+        ),
+        (
+            lambda d: d.update(laminar={"closure": "white"}),
+            {"transition", "separation", "friction_drag"},
+        ),
+        (
+            lambda d: d["pressure"].update(
+                edge_velocity=[-v for v in d["pressure"]["edge_velocity"]]
+            ),
+            {"transition", "separation", "friction_drag"},
+        ),
+    ],
+    ids=["laminar inflow", "turbulent inflow", "white skin friction", "white closure", "negative"],
+)
+def test_other_starts_and_laws(edit: Any, present: set[str]) -> None:
+    # Inflow states, the other skin-friction law and laminar closure, and a surface whose
+    # edge velocity is given negative (Ue = |value|): the same check against central
+    # differences.
+    s = np.linspace(0.1, 1.1, 31)
+    doc = _surface(s, 1.0 - 0.5 * (s - 0.1), 3e6)
+    edit(doc)
+    _check(doc, present)
+
+
+def test_pressure_in_pascals() -> None:
+    # p [Pa] with p_inf = 1e5 Pa and q_inf = 500 Pa: d/dp = d/dCp / q_inf, checked the same way.
+    s = np.linspace(0.0, 1.0, 31)
+    ue = 1.0 - 0.55 * s
+    p = 1e5 + 500.0 * (1.0 - ue**2)
+    doc = _surface(s, p, 3e6, key="p")
+    doc["pressure"].update(reference_pressure=1e5, dynamic_pressure=500.0)
+    result = ibl.run(ibl.parse_case(doc))
+    derived = result.sides[0].sensitivities
+    assert isinstance(derived, ibl.schema.Sensitivities)
+    assert derived.with_respect_to == "p"
+    _check(doc, {"transition", "separation", "friction_drag"}, step=1e-6 * 500.0)
+
+
+@pytest.mark.parametrize("smoothing", [1e-9, "auto"])
+def test_smoothed_cp(smoothing: Any) -> None:
+    # Cp with a deterministic ripple, smoothed: at a given penalty the smoothing spline is
+    # linear in the data; "auto" picks the penalty from a grid by GCV, a choice that small
+    # moves of the data do not change, so the same central differences apply.
+    s = np.linspace(0.0, 1.0, 41)
+    ue = 1.0 - 0.55 * s
+    ripple = 2e-3 * np.sin(37.0 * s)
+    doc = _surface(s, 1.0 - ue**2 + ripple, 3e6, key="cp")
+    doc["pressure"]["smoothing"] = smoothing
+    _check(doc, {"transition", "separation", "friction_drag"})
+
+
+@pytest.mark.parametrize("reynolds", [2e5, 5e6])
+def test_sphere_body_of_revolution(reynolds: float) -> None:
+    # Potential flow round a sphere of radius R (Lamb, Hydrodynamics, art. 92):
+    # Ue/U = 1.5 sin(s/R), body radius r = R sin(s/R), from the nose on the axis, as a
+    # single surface of a body of revolution.  Derivatives for the events that occur.  The
+    # points keep clear of switches of the slope limiter near the largest Ue, where the
+    # march has no derivative (51 points put one within 1e-6 of a switch, where one-sided
+    # differences disagree; 53 a symmetric pair round the peak).
+    radius = 0.5
+    s = np.linspace(0.0, 0.8 * np.pi * radius, 54)
+    ue = 1.5 * np.sin(s / radius)
+    doc = _surface(s, ue, reynolds)
+    doc["body"] = {"kind": "axisymmetric", "radius": (radius * np.sin(s / radius)).tolist()}
+    side = ibl.run(ibl.parse_case(doc)).sides[0]
+    present = {"friction_drag"} | {n for n in QUANTITIES[:3] if getattr(side, n) is not None}
+    assert {"transition", "separation"} <= present
+    _check(doc, present, skip=(0,))
+
+
+def test_cone_body_of_revolution_from_a_sharp_tip() -> None:
+    # A body of revolution whose radius grows linearly along s, with a sharp start at
+    # Ue = U_inf and a linear deceleration: turbulent separation after transition.
+    s = np.linspace(0.0, 1.0, 41)
+    doc = _surface(s, 1.0 - 0.7 * s, 3e6)
+    doc["body"] = {"kind": "axisymmetric", "radius": (0.05 + 0.2 * s).tolist()}
+    side = ibl.run(ibl.parse_case(doc)).sides[0]
+    present = {"friction_drag"} | {n for n in QUANTITIES[:3] if getattr(side, n) is not None}
+    assert {"transition", "separation"} <= present
+    _check(doc, present)
+
+
+@pytest.mark.parametrize("gradient", [0.1, 0.3])
+def test_granville_transition(gradient: float) -> None:
+    # Granville's two steps: the instability point between stations, then the growth
+    # criterion on the mean lambda, interpolated linearly between stations.
+    s = np.linspace(0.0, 1.0, 41)
+    doc = _surface(s, 1.0 - gradient * s, 3e6, transition={"criterion": "granville"})
+    side = ibl.run(ibl.parse_case(doc)).sides[0]
+    assert side.transition is not None and side.transition.cause == "criterion"
+    present = {"friction_drag"} | {n for n in QUANTITIES[:3] if getattr(side, n) is not None}
+    _check(doc, present)
