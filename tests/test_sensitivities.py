@@ -30,8 +30,8 @@ from litestar.testing import TestClient
 
 import ibl
 from ibl.schema import Result
-from service.app import create_app
-from service.config import Settings
+from ibl_service.app import create_app
+from ibl_service.config import Settings
 
 STEP = 1e-6
 TOLERANCE = 0.01

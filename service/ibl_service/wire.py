@@ -125,7 +125,7 @@ class CsvTable(Wire, frozen=True):
             "optionally radius, which makes the body axisymmetric), then one row per point in "
             "order along the contour. Other columns are ignored; `#` lines are comments; the "
             "delimiter is `,`, `;` or a tab, recognised from the header, and with `;` or a tab "
-            "a decimal comma is read as a decimal point"
+            "a decimal comma is read as a decimal point",
         ),
     ]
     columns: Annotated[
