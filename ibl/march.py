@@ -28,7 +28,7 @@ from numpy.typing import NDArray
 
 from ibl import kernel
 from ibl.prepare import SideInput
-from ibl.turbulent import SKIN_FRICTION
+from ibl.turbulent import METHODS, SKIN_FRICTION
 
 __all__ = ["SideState", "march", "march_released"]
 
@@ -120,6 +120,7 @@ def _stack(
                 kernel.CLOSURE_CODES[o.closure],
                 SKIN_FRICTION[o.skin_friction].code,
                 side.axisymmetric,
+                METHODS[o.turbulent_method].code,
             )
         )
         real_rows.append(
