@@ -832,7 +832,7 @@ def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
                 code="march_stopped",
                 message=f"{name}: the turbulent march stopped at s = "
                 f"{state.stopped_s + side.offset:.4g} ({state.stop}); the edge velocity is "
-                "too rough there for Head's equations; try pressure.smoothing",
+                "too rough there for the turbulent equations; try pressure.smoothing",
             )
         )
     if state.max_laminar_lambda > 0.1:
