@@ -60,6 +60,8 @@ criterion on H acts first; the Cf = 0 bound keeps Cf non-negative whatever optio
 
 from __future__ import annotations
 
+import math
+
 import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
@@ -399,13 +401,13 @@ def dh1_dh_nb(h: float) -> float:
 @numba.njit(cache=True, error_model="numpy")
 def cf0_nb(re_theta: float) -> float:
     """Twin of ``cf0_winter_gaudet_1973``."""
-    return W_A / (np.log10(max(re_theta, MIN_RE_THETA)) - W_B) - W_C
+    return W_A / (math.log10(max(re_theta, MIN_RE_THETA)) - W_B) - W_C
 
 
 @numba.njit(cache=True, error_model="numpy")
 def h0_nb(cf0: float) -> float:
     """Twin of ``h0_winter_gaudet_1973``."""
-    return 1.0 / (1.0 - W_H * np.sqrt(0.5 * cf0))
+    return 1.0 / (1.0 - W_H * math.sqrt(0.5 * cf0))
 
 
 @numba.njit(cache=True, error_model="numpy")

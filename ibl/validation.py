@@ -18,6 +18,7 @@ suite where the same comparison is made there.
 
 from __future__ import annotations
 
+import functools
 import math
 from collections.abc import Callable
 from dataclasses import dataclass
@@ -561,6 +562,10 @@ _NASH_SOURCE = (
 )
 
 
+def _lag_plate_values(re_x: float, key: str, coefficient: float) -> tuple[float, float]:
+    return coefficient * re_x**-0.2, _plate_at(re_x, key, method="lag_entrainment")
+
+
 def _lag_plate_specs() -> list[_Spec]:
     specs = []
     for re_x in (1e6, 1e7):
@@ -576,10 +581,7 @@ def _lag_plate_specs() -> list[_Spec]:
                     source=f"1/7-power law {quantity} = {coefficient} Re_x^-0.2, Schlichting "
                     "1979 ch. 21 [memory]",
                     reason=_LAW_REASON,
-                    values=lambda re_x=re_x, key=key, c=coefficient: (
-                        c * re_x**-0.2,
-                        _plate_at(re_x, key, method="lag_entrainment"),
-                    ),
+                    values=functools.partial(_lag_plate_values, re_x, key, coefficient),
                 )
             )
     specs.append(
@@ -644,7 +646,7 @@ def _equilibrium_specs() -> list[_Spec]:
                 reason="the measured layers scatter about the line by about 5 % in G "
                 "[memory]; the method's equilibrium relation G = 6.432 (1 + 0.8 beta)^1/2 "
                 "is a fit of similar data",
-                values=lambda m=m: _nash_values("lag_entrainment", m),
+                values=functools.partial(_nash_values, "lag_entrainment", m),
             )
         )
         specs.append(
@@ -660,7 +662,7 @@ def _equilibrium_specs() -> list[_Spec]:
                 "with Ludwieg-Tillmann friction its G runs 20 to 35 % above the line in "
                 "these flows (computed here), the shortcoming the lag equation was "
                 "introduced to remove (Green et al. 1977 [memory]); 40 % bounds it",
-                values=lambda m=m: _nash_values("head", m),
+                values=functools.partial(_nash_values, "head", m),
             )
         )
     return specs
