@@ -4,7 +4,8 @@ Contents
 --------
 - ``march_sides``: one compiled loop over sides (sides along axis 0 of padded arrays,
   stations along axis 1): Thwaites' integral, laminar separation, the transition
-  criterion, the bubble class, then Head's equations from transition to separation.
+  criterion, the bubble class, then Head's equations from transition to separation (or
+  the lag-entrainment equations of ``ibl.lag_entrainment``, by the side's method code).
 - Scalar twins of the published correlations in ``ibl.laminar``, ``ibl.transition`` and
   ``ibl.turbulent``: those modules hold the documented, vectorised definitions; the twins
   here repeat the same formulas for the compiled loop, and ``tests/test_kernel.py`` checks

@@ -54,8 +54,9 @@ local profile), no smaller than ``START_CE_MIN``.
 Separation: where H reaches the smaller of the ``separation_shape_factor`` option (the same
 criterion as Head's method, so both methods report the same event) and
 ``separation_shape_factor_green_1977`` (Cf = 0 by the Winter & Gaudet law, H = 2.2 H0).
-Cf vanishes only at H of about 2.6 to 3 (Re_theta 1e6 to 1e3), so at the default 2.4 the
-criterion on H acts first; the Cf = 0 bound keeps Cf non-negative whatever option is given.
+Cf vanishes only at H of about 2.64 to 3.17 (Re_theta 1e6 to 1e3) [derived], so at the
+default 2.4 the criterion on H acts first; the Cf = 0 bound keeps Cf non-negative whatever
+option is given (up to 2.8), since the equations beyond Cf = 0 describe no attached layer.
 """
 
 from __future__ import annotations
