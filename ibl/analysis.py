@@ -20,7 +20,7 @@ import numpy as np
 import orjson
 from numpy.typing import NDArray
 
-from ibl import drag, kernel, mesh, sensitivity, transition, turbulent
+from ibl import drag, kernel, lag_entrainment, mesh, sensitivity, transition, turbulent
 from ibl import march as march_module
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
@@ -296,8 +296,9 @@ def _options(case: Case) -> dict[str, str | float]:
         "transition_criterion": case.transition.criterion,
         "bubble_criterion": "owen_klanfer_1953",
         "bubble_re_delta_star": transition.OWEN_KLANFER_RE_DELTA_STAR,
-        "turbulent_method": "head_1958",
-        "skin_friction": case.turbulent.skin_friction,
+        "turbulent_method": turbulent.METHODS[case.turbulent.method].name,
+        "skin_friction": turbulent.METHODS[case.turbulent.method].skin_friction
+        or case.turbulent.skin_friction,
         "initial_shape_factor": case.turbulent.initial_shape_factor,
         "separation_shape_factor": case.turbulent.separation_shape_factor,
         "pressure_plateau": (
@@ -835,7 +836,7 @@ def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
                 code="march_stopped",
                 message=f"{name}: the turbulent march stopped at s = "
                 f"{state.stopped_s + side.offset:.4g} ({state.stop}); the edge velocity is "
-                "too rough there for Head's equations; try pressure.smoothing",
+                "too rough there for the turbulent equations; try pressure.smoothing",
             )
         )
     if state.max_laminar_lambda > 0.1:
@@ -848,14 +849,18 @@ def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
         )
     low, high = state.turbulent_re_theta_range
     if math.isfinite(low):
-        law = turbulent.SKIN_FRICTION[options.skin_friction]
-        lo, hi = law.validity["re_theta"]
+        law_name = turbulent.METHODS[options.turbulent_method].skin_friction
+        if law_name is None:
+            law_name = options.skin_friction
+            lo, hi = turbulent.SKIN_FRICTION[law_name].validity["re_theta"]
+        else:
+            lo, hi = lag_entrainment.WINTER_GAUDET_RE_THETA
         if low < lo or high > hi:
             notes.append(
                 Notice(
                     code="skin_friction_extrapolated",
                     message=f"{name}: turbulent Re_theta spans {low:.3g} to {high:.3g}; the "
-                    f"{options.skin_friction} law was fitted for {lo:g} to {hi:g}",
+                    f"{law_name} law was fitted for {lo:g} to {hi:g}",
                 )
             )
     if options.criterion == "michel" and math.isfinite(state.transition_re_s):

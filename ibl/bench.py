@@ -257,6 +257,27 @@ def _finite_difference_figures(n: int, repeat: int) -> None:
     )
 
 
+def _lag_entrainment_figures(n: int, repeat: int) -> None:
+    """The march of the same sides with the lag-entrainment method and with Head's, calls
+    taken in turn; the ratio of their costs per side."""
+    doc = ellipse_case(n)
+    lag_doc = {**doc, "turbulent": {**doc.get("turbulent", {}), "method": "lag_entrainment"}}
+    head_sides = prepare(parse_case(doc)).sides
+    lag_sides = prepare(parse_case(lag_doc)).sides
+    times = _interleaved(
+        {"head": lambda: march(head_sides), "lag": lambda: march(lag_sides)}, repeat
+    )
+    per_side = times["lag"] / len(lag_sides)
+    print(
+        f"{n:>7} {'march, lag-entrainment turbulent method':<46} "
+        f"{times['lag'] * 1e3:>8.3f} ms {per_side * 1e6:>8.1f} us"
+    )
+    print(
+        f"{'':>7} lag-entrainment / Head march per side (same sides): "
+        f"{times['lag'] / times['head']:.2f}"
+    )
+
+
 def _interleaved(functions: dict[str, Callable[[], object]], rounds: int) -> dict[str, float]:
     """Median wall time of each function, calls taken in turn round after round, so that
     a change in the machine's load touches all of them alike."""
@@ -336,6 +357,7 @@ def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> 
     for n in (200, 400):
         _figures(n, repeat, batch)
     _finite_difference_figures(200, repeat)
+    _lag_entrainment_figures(200, repeat)
     _sensitivity_figures(200, max(repeat, 50))
     print(
         "Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch; "

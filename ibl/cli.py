@@ -26,6 +26,7 @@ import msgspec
 
 from ibl.analysis import CAUTION, analyze
 from ibl.errors import CaseError
+from ibl.turbulent import METHODS
 from ibl.units import COORDINATE_UNIT, lengths_note
 
 if TYPE_CHECKING:
@@ -329,6 +330,9 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
         flow("--turbulence-intensity")["turbulence_intensity"] = args.turbulence_intensity
     if args.criterion is not None:
         transition("--criterion")["criterion"] = args.criterion
+    if args.turbulent_method is not None:
+        turbulent = _object_member(case, "turbulent", "/turbulent", "--turbulent-method")
+        turbulent["method"] = args.turbulent_method
     trips = {"upper": args.trip_upper, "lower": args.trip_lower, "surface": args.trip}
     for side, value in trips.items():
         if value is not None:
@@ -642,6 +646,11 @@ def _add_case_flags(
         "--criterion",
         choices=["michel", "granville", "abu_ghannam_shaw", "none"],
         help="natural-transition criterion (none: no criterion is applied)",
+    )
+    parser.add_argument(
+        "--turbulent-method",
+        choices=list(METHODS),
+        help="turbulent method: head (Head 1958) or lag_entrainment (Green, Weeks & Brooman 1977)",
     )
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
     parser.add_argument(

@@ -687,7 +687,10 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
     note = f"{failed} swept case(s) could not be analysed (see the table)." if failed else ""
     info = VARIABLES.get(sweep.variable)
     quantity = info.name if info is not None and info.name else sweep.variable
-    title = f"{sweep.name or '(unnamed case)'}: sweep of the {quantity}"
+    title = (
+        f"{sweep.name or '(unnamed case)'}: sweep of the {quantity} "
+        f"(turbulent: {sweep.turbulent_method})"
+    )
     chars = int(width * 72.0 / (0.6 * 11.0))
     fig.suptitle("\n".join(textwrap.wrap(title, chars)), fontsize=11)
     add_footer(fig, caution_footer(note))

@@ -4,7 +4,8 @@ Contents
 --------
 - ``march_sides``: one compiled loop over sides (sides along axis 0 of padded arrays,
   stations along axis 1): Thwaites' integral, laminar separation, the transition
-  criterion, the bubble class, then Head's equations from transition to separation.
+  criterion, the bubble class, then Head's equations from transition to separation (or
+  the lag-entrainment equations of ``ibl.lag_entrainment``, by the side's method code).
 - Scalar twins of the published correlations in ``ibl.laminar``, ``ibl.transition`` and
   ``ibl.turbulent``: those modules hold the documented, vectorised definitions; the twins
   here repeat the same formulas for the compiled loop, and ``tests/test_kernel.py`` checks
@@ -50,6 +51,9 @@ F64 = NDArray[np.float64]
 N_STATION_FIELDS, N_EVENT_FIELDS = 7, 25
 CRITERION_CODES = {"none": 0, "michel": 1, "granville": 2, "abu_ghannam_shaw": 3}
 CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
+#: Turbulent methods by their code in column 5 of ``ints`` (absent: Head): Head (1958)
+#: here, the lag-entrainment method in ``ibl.lag_entrainment``.
+METHOD_HEAD, METHOD_LAG_ENTRAINMENT = 0, 1
 START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
 CAUSE_CRITERION, CAUSE_TRIP, CAUSE_LAMINAR_SEPARATION = 0, 1, 2
 
@@ -741,8 +745,8 @@ def march_sides(
     -------------------------------
     s, ue, r : (sides, n) arc length from the side's origin, Ue/U_inf, body radius
         (ones when planar); only the first ``count`` stations of a row are read.
-    ints : (sides, 5) start kind, criterion code, closure code, skin-friction law,
-        axisymmetric flag.
+    ints : (sides, 5 or 6) start kind, criterion code, closure code, skin-friction law,
+        axisymmetric flag, turbulent method (``METHOD_HEAD`` when absent).
     reals : (sides, 10) nu/U_inf, stagnation slope dUe/ds, inflow theta, inflow H,
         trip position (inf for none), Tu [%], separation lambda, initial H, separation H,
         unused.
@@ -777,6 +781,7 @@ def march_sides(
     theta_t = np.empty(n_max)
     h_t = np.empty(n_max)
     no_tape = np.zeros((1, TAPE_COLUMNS))
+    ce_t = np.empty(n_max)
     steps = 0
     for k in range(n_sides):
         n = count[k]
@@ -797,6 +802,7 @@ def march_sides(
             reals[k, 5],
         )
         lam_sep, h_init, h_sep = reals[k, 6], reals[k, 7], reals[k, 8]
+        method = ints[k, 5] if ints.shape[1] > 5 else METHOD_HEAD
         length = sk[n - 1] - sk[0]
 
         # Gradients at the stations.
@@ -945,26 +951,47 @@ def march_sides(
                 th2_start, _, _, _ = _laminar_at(layer, params, start)
                 th0 = np.sqrt(th2_start)
                 hh0 = h_init
-            separation, taken, stop = _head(
-                sk,
-                uk,
-                due,
-                rk,
-                dr,
-                n,
-                start,
-                th0,
-                hh0,
-                1.0 / nu,
-                h_sep,
-                law,
-                axisym,
-                theta_t,
-                h_t,
-                step_scale,
-                s_peak,
-                no_tape,
-            )
+            if method == METHOD_LAG_ENTRAINMENT:
+                separation, taken, stop = _lag.march(
+                    sk,
+                    uk,
+                    due,
+                    rk,
+                    dr,
+                    n,
+                    start,
+                    th0,
+                    hh0,
+                    1.0 / nu,
+                    h_sep,
+                    axisym,
+                    theta_t,
+                    h_t,
+                    ce_t,
+                    step_scale,
+                    s_peak,
+                )
+            else:
+                separation, taken, stop = _head(
+                    sk,
+                    uk,
+                    due,
+                    rk,
+                    dr,
+                    n,
+                    start,
+                    th0,
+                    hh0,
+                    1.0 / nu,
+                    h_sep,
+                    law,
+                    axisym,
+                    theta_t,
+                    h_t,
+                    step_scale,
+                    s_peak,
+                    no_tape,
+                )
             steps += taken
         thin_s = np.nan  # where the thin-layer limit is reached (NaN if nowhere)
         if stop == STOP_THIN:
@@ -993,7 +1020,10 @@ def march_sides(
                 th = theta_t[i]
                 hh = h_t[i]
                 re = uk[i] * th / nu
-                cf = cf_turbulent(law, hh, re)
+                if method == METHOD_LAG_ENTRAINMENT:
+                    cf = _lag.cf_nb(hh, re)
+                else:
+                    cf = cf_turbulent(law, hh, re)
                 d99 = _delta99_turbulent(th, hh)
             else:
                 th = np.sqrt(theta2[i])
@@ -1104,3 +1134,7 @@ def march_sides_nogil(
     between threads.  A lone march keeps the lock: in the service, handing it to the event
     loop's thread and waiting to get it back costs more than the march itself."""
     return march_sides(s, ue, r, count, ints, reals, stations, events)
+
+
+# The lag-entrainment march calls this module's helpers; imported last for that reason.
+from ibl import lag_entrainment as _lag  # noqa: E402

@@ -28,7 +28,7 @@ from numpy.typing import NDArray
 
 from ibl import kernel
 from ibl.prepare import SideInput
-from ibl.turbulent import SKIN_FRICTION
+from ibl.turbulent import METHODS, SKIN_FRICTION
 
 __all__ = ["SideState", "march", "march_released"]
 
@@ -38,6 +38,29 @@ F64 = NDArray[np.float64]
 SIDES_PER_THREAD = 256
 #: Threads a march may use: the cores this process may run on.
 THREADS = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
+
+#: The named columns of the kernel's integer and real per-side parameters, in column order
+#: (``kernel.march_sides``); a row is built from a mapping by these names.
+INT_COLUMNS = (
+    "start",
+    "criterion",
+    "closure",
+    "skin_friction",
+    "axisymmetric",
+    "turbulent_method",
+)
+REAL_COLUMNS = (
+    "nu",
+    "stagnation_slope",
+    "inflow_theta",
+    "inflow_shape_factor",
+    "trip",
+    "tu_percent",
+    "separation_lambda",
+    "initial_shape_factor",
+    "separation_shape_factor",
+    "unused",
+)
 
 _START = {
     "stagnation": kernel.START_STAGNATION,
@@ -113,29 +136,28 @@ def _stack(
             ue[i, m:], r[i, m:] = side.ue[-1], side.r[-1]
         o = side.options
         start = kernel.START_TURBULENT if side.turbulent_start else _START[side.start]
-        int_rows.append(
-            (
-                start,
-                kernel.CRITERION_CODES[o.criterion],
-                kernel.CLOSURE_CODES[o.closure],
-                SKIN_FRICTION[o.skin_friction].code,
-                side.axisymmetric,
-            )
-        )
-        real_rows.append(
-            (
-                side.nu,
-                side.slope,
-                side.theta0,
-                side.h0,
-                np.inf if side.trip is None else side.trip,
-                100.0 * (o.turbulence_intensity or 0.0),
-                o.separation_lambda,
-                o.initial_shape_factor,
-                o.separation_shape_factor,
-                0.0,
-            )
-        )
+        named_ints = {
+            "start": start,
+            "criterion": kernel.CRITERION_CODES[o.criterion],
+            "closure": kernel.CLOSURE_CODES[o.closure],
+            "skin_friction": SKIN_FRICTION[o.skin_friction].code,
+            "axisymmetric": int(side.axisymmetric),
+            "turbulent_method": METHODS[o.turbulent_method].code,
+        }
+        named_reals: dict[str, float] = {
+            "nu": side.nu,
+            "stagnation_slope": side.slope,
+            "inflow_theta": side.theta0,
+            "inflow_shape_factor": side.h0,
+            "trip": np.inf if side.trip is None else side.trip,
+            "tu_percent": 100.0 * (o.turbulence_intensity or 0.0),
+            "separation_lambda": o.separation_lambda,
+            "initial_shape_factor": o.initial_shape_factor,
+            "separation_shape_factor": o.separation_shape_factor,
+            "unused": 0.0,
+        }
+        int_rows.append(tuple(named_ints[name] for name in INT_COLUMNS))
+        real_rows.append(tuple(named_reals[name] for name in REAL_COLUMNS))
     # The codes of all sides converted at once.
     ints = np.array(int_rows, dtype=np.int64)
     reals = np.array(real_rows, dtype=np.float64)

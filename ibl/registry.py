@@ -101,10 +101,22 @@ def _catalogue() -> dict[str, Any]:
             },
         },
         "turbulent": {
-            "method": "head_1958",
-            "summary": "Head's entrainment method, planar and axisymmetric (thin layers)",
-            "reference": "Head (1958) ARC R&M 3152; fits of Cebeci & Bradshaw (1977)",
+            "method": turbulent.METHODS[turb_defaults.method].name,
+            "summary": turbulent.METHODS[turb_defaults.method].summary,
+            "reference": turbulent.METHODS[turb_defaults.method].reference,
             "options": {
+                "method": {
+                    "default": turb_defaults.method,
+                    "choices": {
+                        name: {
+                            "name": m.name,
+                            "summary": m.summary,
+                            "reference": m.reference,
+                            "skin_friction": m.skin_friction or "option skin_friction",
+                        }
+                        for name, m in turbulent.METHODS.items()
+                    },
+                },
                 "initial_shape_factor": {"default": turb_defaults.initial_shape_factor},
                 "separation_shape_factor": {
                     "default": turb_defaults.separation_shape_factor,
@@ -156,7 +168,7 @@ def _catalogue() -> dict[str, Any]:
 
 
 def method_names(kind: str) -> list[str]:
-    """Valid names for ``criterion``, ``closure`` or ``skin_friction``.
+    """Valid names for ``criterion``, ``closure``, ``skin_friction`` or ``method``.
 
     >>> method_names("criterion")
     ['michel', 'granville', 'abu_ghannam_shaw', 'none']
@@ -165,5 +177,6 @@ def method_names(kind: str) -> list[str]:
         "criterion": transition.CRITERIA,
         "closure": laminar.CLOSURES,
         "skin_friction": turbulent.SKIN_FRICTION,
+        "method": turbulent.METHODS,
     }
     return list(table[kind])

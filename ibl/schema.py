@@ -227,8 +227,16 @@ class LaminarOptions(Struct, frozen=True):
 
 
 class TurbulentOptions(Struct, frozen=True):
-    """Options of Head's entrainment method."""
+    """Options of the turbulent integral method."""
 
+    method: Annotated[
+        Literal["head", "lag_entrainment"],
+        Meta(
+            description="Turbulent method: Head's entrainment method (1958) or the "
+            "lag-entrainment method of Green, Weeks & Brooman (1977), whose skin friction "
+            "is Winter & Gaudet's law (skin_friction is then not used)"
+        ),
+    ] = "head"
     initial_shape_factor: Annotated[
         float, Meta(ge=1.2, le=1.8, description="Shape factor H just after transition [-]")
     ] = 1.4

@@ -1370,6 +1370,8 @@ def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
     """Why a side's derivatives are not computed, or None when they are."""
     if case.surface.s is None:
         return "contours (x, y) are not differentiated yet (stagnation point and split)"
+    if case.turbulent.method != "head":
+        return f"the {case.turbulent.method} turbulent method is not differentiated yet"
     if side.axisymmetric and math.isfinite(state.thin_layer_s):
         return "the stations end at the thin-layer limit, which is not differentiated"
     if case.flow.mach > 0.0 and case.pressure.edge_velocity is None:

@@ -37,6 +37,7 @@ import numpy as np
 from ibl.analysis import CAUTION, parse_case, run, run_batch
 from ibl.errors import CaseError
 from ibl.schema import Case, Output, Result
+from ibl.turbulent import METHODS
 from ibl.units import COORDINATE_UNIT, lengths_note
 from ibl.units import length_unit as case_length_unit
 
@@ -173,6 +174,7 @@ class Sweep(msgspec.Struct, frozen=True, kw_only=True):
     points: list[SweepPoint]
     length_unit: str = COORDINATE_UNIT
     caution: str = CAUTION
+    turbulent_method: str = METHODS["head"].name
 
 
 # ------------------------------------------------------------------------ the variable
@@ -420,7 +422,8 @@ def sweep(
     if chunk is not None and chunk < 1:
         raise ValueError("chunk must be at least 1")
     # A case that cannot be analysed at the first value is wrong in itself: say so once.
-    run(parse_case(set_variable(case_doc, variable, values[0])))
+    first = parse_case(set_variable(case_doc, variable, values[0]))
+    run(first)
     with _progress(len(values), progress) as bar:
         if scheduler is None:
             points = _run_local(case_doc, variable, values, chunk or DEFAULT_CHUNK, bar)
@@ -433,6 +436,7 @@ def sweep(
         label=variable_label(variable, unit),
         points=msgspec.convert(points, list[SweepPoint]),
         length_unit=unit,
+        turbulent_method=METHODS[first.turbulent.method].name,
     )
 
 
@@ -543,7 +547,7 @@ def sweep_notes(result: Sweep, *, units: str | None = None) -> str:
         f"# ibl sweep of the {_quantity(result)}: first column {result.variable} = "
         f"{result.label}; one row per value and side (one row with `error` for a case that "
         "could not be run)",
-        f"# case: {result.name or '(unnamed)'}",
+        f"# case: {result.name or '(unnamed)'}; turbulent method {result.turbulent_method}",
         f"# {lengths_note(unit)} Header names carry the unit in brackets "
         f"(`separation_s [{unit}]`; `-` dimensionless). s: arc length from the stagnation "
         "point or leading edge of each side; empty: the event does not occur",

@@ -32,8 +32,10 @@ __all__ = [
     "H1_HIGH_BRANCH_MAX",
     "H1_LOW_BRANCH_MIN",
     "H_BRANCH",
+    "METHODS",
     "SKIN_FRICTION",
     "SkinFrictionLaw",
+    "TurbulentMethod",
     "cf_ludwieg_tillmann_1949",
     "cf_white_1974",
     "entrainment_coefficient_head_1958",
@@ -216,6 +218,41 @@ def cf_white_1974(h: ArrayLike, re_theta: ArrayLike) -> F64:
     h = np.asarray(h, dtype=np.float64)
     log_re = np.log10(np.maximum(np.asarray(re_theta, dtype=np.float64), _WHITE_MIN_RE_THETA))
     return np.asarray(0.3 * np.exp(-1.33 * h) / log_re ** (1.74 + 0.31 * h), dtype=np.float64)
+
+
+class TurbulentMethod(NamedTuple):
+    """A turbulent integral method: its code in the compiled march (column 5 of the
+    kernel's ``ints``; ``ibl.kernel`` dispatches on it), name in results, skin friction
+    (None: the case's ``skin_friction`` option), summary and source."""
+
+    code: int
+    name: str
+    skin_friction: str | None
+    summary: str
+    reference: str
+
+
+#: Registry of turbulent methods (the case's ``turbulent.method``); the first is the
+#: default.  A method is a module with its compiled march (inputs and outputs of
+#: ``ibl.kernel._head``) and a row here.
+METHODS: dict[str, TurbulentMethod] = {
+    "head": TurbulentMethod(
+        0,
+        "head_1958",
+        None,
+        "Head's entrainment method, planar and axisymmetric (thin layers)",
+        "Head (1958) ARC R&M 3152; fits of Cebeci & Bradshaw (1977)",
+    ),
+    "lag_entrainment": TurbulentMethod(
+        1,
+        "green_weeks_brooman_1977",
+        "winter_gaudet_1973",
+        "Lag-entrainment method (momentum, entrainment and a lag equation for the "
+        "entrainment coefficient), incompressible, planar and axisymmetric (thin layers); "
+        "skin friction of Winter & Gaudet; constants [memory]",
+        "Green, Weeks & Brooman (1977) ARC R&M 3791; Winter & Gaudet (1973) ARC R&M 3712",
+    ),
+}
 
 
 class SkinFrictionLaw(NamedTuple):

@@ -93,7 +93,24 @@ class CatalogueTransition(_Entry, frozen=True):
     laminar_separation_bubble: CatalogueBubble
 
 
+class CatalogueMethodChoice(_Entry, frozen=True):
+    """One turbulent method: its name in results, summary, source and skin friction."""
+
+    name: str
+    summary: str
+    reference: str
+    skin_friction: str
+
+
+class CatalogueMethodOption(_Entry, frozen=True):
+    """The turbulent method: its default and each choice."""
+
+    default: str
+    choices: dict[str, CatalogueMethodChoice]
+
+
 class CatalogueTurbulentOptions(_Entry, frozen=True):
+    method: CatalogueMethodOption
     initial_shape_factor: CatalogueDefault
     separation_shape_factor: CatalogueDefault
     skin_friction: CatalogueNamedOption
