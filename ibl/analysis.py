@@ -261,6 +261,7 @@ def _results(
             if found is not None:
                 warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
             warnings.extend(_range_warnings(side, state))
+            warnings.extend(_laminar_method_notice(side, state))
             warnings.extend(_laminar_inflow_notice(side, state))
             warnings.extend(_near_separation(side, state, built[-1].margins))
         results.append(
@@ -285,8 +286,12 @@ def analyze(doc: Any) -> dict[str, Any]:
 
 def _options(case: Case) -> dict[str, str | float]:
     return {
-        "laminar_method": "thwaites_1949"
-        + ("_rott_crabtree_1952" if case.body.kind == "axisymmetric" else ""),
+        "laminar_method": (
+            "keller_box_1970" + ("_mangler_1948" if case.body.kind == "axisymmetric" else "")
+            if case.laminar.method == "finite_difference"
+            else "thwaites_1949"
+            + ("_rott_crabtree_1952" if case.body.kind == "axisymmetric" else "")
+        ),
         "laminar_closure": case.laminar.closure,
         "separation_lambda": case.laminar.separation_lambda,
         "transition_criterion": case.transition.criterion,
@@ -799,6 +804,20 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
         max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
         max_eddy_viscosity_ratio_s=float(state.s[i_ratio]) + side.offset,
     )
+
+
+def _laminar_method_notice(side: SideInput, state: SideState) -> list[Notice]:
+    """The finite-difference laminar march failed on a side: Thwaites' method was used."""
+    if not state.laminar_failure:
+        return []
+    return [
+        Notice(
+            code="laminar_method_failed",
+            message=f"{side.name}: the finite-difference laminar march failed "
+            f"({state.laminar_failure}); this side's laminar layer is Thwaites' instead",
+            pointer="/laminar/method",
+        )
+    ]
 
 
 def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:

@@ -4,7 +4,9 @@ Contents
 --------
 - ``march(sides)``: pads the sides into arrays (sides along axis 0, stations along
   axis 1), runs ``ibl.kernel.march_sides`` once over all of them and returns one
-  ``SideState`` per side.  Large marches are split between threads, one kernel call
+  ``SideState`` per side.  Sides whose case asks for the finite-difference laminar
+  method get it first (``ibl.laminar_fd``), and the kernel takes their laminar station
+  values from it.  Large marches are split between threads, one kernel call
   each, of the kernel variant that releases the interpreter lock, so that they run on
   separate cores.
 - ``SideState``: the station arrays and events of one marched side.
@@ -27,6 +29,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ibl import kernel
+from ibl.laminar_fd import Supplied, solve_side
 from ibl.prepare import SideInput
 from ibl.turbulent import SKIN_FRICTION
 
@@ -93,6 +96,11 @@ class SideState:
     # Where the layer reaches the thin-layer limit of a body of revolution (delta99 against
     # the body radius, ``kernel.THIN_LAYER_RATIO``) and the stations end; NaN if nowhere.
     thin_layer_s: float
+    # The laminar method used ("thwaites" or "finite_difference"), and why the
+    # finite-difference march failed when the case asked for it ("" otherwise; the side
+    # then has Thwaites' laminar layer).
+    laminar_method: str = "thwaites"
+    laminar_failure: str = ""
 
 
 def _stack(
@@ -142,6 +150,30 @@ def _stack(
     return s, ue, r, count, ints, reals
 
 
+def _supplied(
+    sides: list[SideInput], ints: NDArray[np.int64], reals: F64, n: int
+) -> tuple[F64 | None, list[Supplied | None]]:
+    """The finite-difference laminar layers of the sides that ask for it, as the kernel's
+    ``laminar`` array, with their method codes and separations set in ``ints`` (column 5)
+    and ``reals`` (column 9); None when no side asks."""
+    solved: list[Supplied | None] = [
+        solve_side(side)
+        if side.options.laminar_method == "finite_difference" and not side.turbulent_start
+        else None
+        for side in sides
+    ]
+    if all(sol is None for sol in solved):
+        return None, solved
+    laminar = np.full((len(sides), 4, n), np.nan)
+    for i, sol in enumerate(solved):
+        if sol is not None and sol.values is not None:
+            m = sol.values.shape[1]
+            laminar[i, :, :m] = sol.values
+            ints[i, 5] = kernel.LAMINAR_SUPPLIED
+            reals[i, 9] = sol.separation
+    return laminar, solved
+
+
 def march(sides: list[SideInput]) -> list[SideState]:
     """March every side from its start to separation or its end.
 
@@ -171,9 +203,14 @@ def _march(
 ) -> list[SideState]:
     """``march`` in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
+    ints = np.column_stack((ints, np.full(len(sides), kernel.LAMINAR_THWAITES)))
+    laminar, solved = _supplied(sides, ints, reals, s.shape[1])
     stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
-    compute(s, ue, r, count, ints, reals, stations, events)
+    if laminar is None:
+        compute(s, ue, r, count, ints, reals, stations, events)
+    else:
+        compute(s, ue, r, count, ints, reals, stations, events, laminar=laminar)
     turbulent = stations[:, 5, :] > 0.5
     states = []
     for i, ev in enumerate(events.tolist()):
@@ -212,6 +249,8 @@ def _march(
                 max_eddy_viscosity_ratio_index=int(ev[21]),
                 cut_non_finite=ev[22] > 0.5,
                 thin_layer_s=ev[24] if ev[23] > 0.5 else float("nan"),
+                laminar_method="finite_difference" if ints[i, 5] else "thwaites",
+                laminar_failure=(sol.failure if (sol := solved[i]) is not None else ""),
             )
         )
     return states

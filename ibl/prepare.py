@@ -99,6 +99,7 @@ class SideOptions:
     separation_shape_factor: float
     skin_friction: str
     y_plus: tuple[float, ...]
+    laminar_method: str = "thwaites"  # or "finite_difference" (ibl.laminar_fd)
 
 
 @dataclass(frozen=True, slots=True)
@@ -463,6 +464,7 @@ def _options(case: Case) -> SideOptions:
         separation_shape_factor=case.turbulent.separation_shape_factor,
         skin_friction=case.turbulent.skin_friction,
         y_plus=tuple(case.mesh.y_plus),
+        laminar_method=case.laminar.method,
     )
 
 
