@@ -329,6 +329,9 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
         flow("--turbulence-intensity")["turbulence_intensity"] = args.turbulence_intensity
     if args.criterion is not None:
         transition("--criterion")["criterion"] = args.criterion
+    method = getattr(args, "laminar_method", None)
+    if method is not None:
+        _object_member(case, "laminar", "/laminar", "--laminar-method")["method"] = method
     trips = {"upper": args.trip_upper, "lower": args.trip_lower, "surface": args.trip}
     for side, value in trips.items():
         if value is not None:
@@ -471,7 +474,13 @@ def summary(
             lines.append(f"  chord c = {_fmt(chord[1])}, {CHORD_DEFINITION}")
     options = result["options"]
     lines.append(
-        f"Methods: {options['laminar_method']} (lambda_sep = {options['separation_lambda']}), "
+        f"Methods: {options['laminar_method']}"
+        + (
+            f" (lambda_sep = {options['separation_lambda']})"
+            if options["laminar_method"].startswith("thwaites")
+            else ""
+        )
+        + ", "
         f"transition {options['transition_criterion']}, {options['turbulent_method']} with "
         f"{options['skin_friction']} (H_sep = {options['separation_shape_factor']})"
     )
@@ -532,7 +541,8 @@ def summary(
             lines.append(f"  friction drag       {_fmt(side['friction_drag'])} (up to separation)")
     drag = result.get("drag")
     if drag:
-        per = "q_inf L^2" if options["laminar_method"].endswith("crabtree_1952") else "q_inf L"
+        axisymmetric = options["laminar_method"].endswith(("crabtree_1952", "mangler_1948"))
+        per = "q_inf L^2" if axisymmetric else "q_inf L"
         lines.append("")
         lines.append(f"Drag (D/{per}, L the coordinate unit):")
         lines.append(f"  friction            {_fmt(drag['friction'])}")
@@ -643,6 +653,20 @@ def _add_case_flags(
         choices=["michel", "granville", "abu_ghannam_shaw", "none"],
         help="natural-transition criterion (none: no criterion is applied)",
     )
+    if sweep:
+        parser.add_argument(
+            "--laminar-method",
+            metavar="METHOD[,METHOD]",
+            help="laminar method: thwaites or finite_difference; a comma-separated list "
+            "runs the sweep once per method (a swept choice), e.g. thwaites,finite_difference",
+        )
+    else:
+        parser.add_argument(
+            "--laminar-method",
+            choices=["thwaites", "finite_difference"],
+            help="laminar method: Thwaites' integral method (default) or the laminar "
+            "boundary-layer equations marched by Keller's box scheme (finite_difference)",
+        )
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
     parser.add_argument(
         "--y-plus", type=float, nargs="+", help="first-cell y+ targets for mesh advice [-]"
@@ -830,6 +854,10 @@ def _sweep(args: argparse.Namespace) -> int:
     if not args.case.exists():
         print(f"ibl: {args.case}: no such file", file=sys.stderr)
         return 2
+    methods = None
+    if args.laminar_method is not None and "," in args.laminar_method:
+        methods = [m.strip() for m in args.laminar_method.split(",")]
+        args.laminar_method = None
     case = load_case(args.case, args)
     flag = "--" + variable.replace("_", "-")
     if variable.startswith("trip"):
@@ -840,10 +868,19 @@ def _sweep(args: argparse.Namespace) -> int:
     progress = sys.stderr.isatty() and not args.quiet
     try:
         result = sweep(
-            case, variable, values, scheduler=args.scheduler, chunk=args.chunk, progress=progress
+            case,
+            variable,
+            values,
+            scheduler=args.scheduler,
+            chunk=args.chunk,
+            progress=progress,
+            methods=methods,
         )
     except ImportError as error:
         print(f"ibl: --scheduler needs dask.distributed ({error})", file=sys.stderr)
+        return 2
+    except ValueError as error:
+        print(f"ibl: {error}", file=sys.stderr)
         return 2
     from ibl.figures import length_unit
 
