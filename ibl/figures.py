@@ -749,9 +749,10 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
 
 
 def _check_label(check: Check) -> str:
-    case = check.case.split(",")[0]
+    case = check.case.split(",")[0].removesuffix(" [finite difference]")
     quantity = check.quantity.split(" (")[0]
-    return f"{case}: {quantity} vs {check.against}"
+    method = " [FD]" if check.method == "finite_difference" else ""
+    return f"{case}{method}: {quantity} vs {check.against}"
 
 
 def _deviation_panel(ax: Axes, checks: Sequence[Check]) -> None:
