@@ -18,6 +18,9 @@ Contents
 - ``finite_difference_side(side)``: the finite-difference laminar march
   (``ibl.finite_difference``) of one side; ``main`` times it at N = 200 per side against
   the march of the integral methods on the same sides, as a ratio with its target.
+- ``finite_difference_analysis(n)``: a full analysis (``analyze(dict)``) of the ellipse with
+  ``laminar.method = "finite_difference"`` against the same analysis with Thwaites' method,
+  timed in turn in one run: the cost of the option, as a ratio (printed by ``main``).
 """
 
 from __future__ import annotations
@@ -37,9 +40,11 @@ from ibl.prepare import SideInput, prepare
 from ibl.schema import Output
 
 __all__ = [
+    "FD_ANALYSIS_TARGET",
     "FD_COST_TARGET",
     "RATIO_TARGETS",
     "ellipse_case",
+    "finite_difference_analysis",
     "finite_difference_side",
     "main",
     "ratios",
@@ -215,6 +220,30 @@ def _finite_difference_figures(n: int, repeat: int) -> None:
     )
 
 
+#: Target: a full analysis with the finite-difference laminar method costs at most this
+#: many times the same analysis with Thwaites' method (the laminar march dominates).
+FD_ANALYSIS_TARGET = 20.0
+
+
+def finite_difference_analysis(n: int = 200, rounds: int = 21) -> float:
+    """``analyze(dict)`` of the ellipse (``n`` points per side) with the finite-difference
+    laminar method against the same with Thwaites' method, in turn; prints and returns
+    the ratio of their median times."""
+    thwaites = ellipse_case(n)
+    fd = {**thwaites, "laminar": {"method": "finite_difference"}}
+    times = _interleaved(
+        {"thwaites": lambda: analyze(thwaites), "fd": lambda: analyze(fd)}, rounds
+    )
+    ratio = times["fd"] / times["thwaites"]
+    met = "met" if ratio <= FD_ANALYSIS_TARGET else "not met"
+    print(
+        f"{n:>7} {'analyze(dict), laminar finite_difference':<46} "
+        f"{times['fd'] * 1e3:>8.3f} ms = {ratio:.1f} times the Thwaites analysis "
+        f"({times['thwaites'] * 1e3:.3f} ms; target <= {FD_ANALYSIS_TARGET:g}: {met})"
+    )
+    return ratio
+
+
 def _interleaved(functions: dict[str, Callable[[], object]], rounds: int) -> dict[str, float]:
     """Median wall time of each function, calls taken in turn round after round, so that
     a change in the machine's load touches all of them alike."""
@@ -294,6 +323,7 @@ def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> 
     for n in (200, 400):
         _figures(n, repeat, batch)
     _finite_difference_figures(200, repeat)
+    finite_difference_analysis(200)
     print("Targets: one case of 2 sides x 200 points <= 0.3 ms; >= 10,000 sides/s in a batch.")
     ratios(200)
     return 0
