@@ -231,9 +231,7 @@ def finite_difference_analysis(n: int = 200, rounds: int = 21) -> float:
     the ratio of their median times."""
     thwaites = ellipse_case(n)
     fd = {**thwaites, "laminar": {"method": "finite_difference"}}
-    times = _interleaved(
-        {"thwaites": lambda: analyze(thwaites), "fd": lambda: analyze(fd)}, rounds
-    )
+    times = _interleaved({"thwaites": lambda: analyze(thwaites), "fd": lambda: analyze(fd)}, rounds)
     ratio = times["fd"] / times["thwaites"]
     met = "met" if ratio <= FD_ANALYSIS_TARGET else "not met"
     print(

@@ -604,9 +604,7 @@ def build(
 # ------------------------------------------------------------------------------ sweeps
 
 
-def _series(
-    sweep: Sweep, side: str, key: str, method: str | None = None
-) -> tuple[Array, Array]:
+def _series(sweep: Sweep, side: str, key: str, method: str | None = None) -> tuple[Array, Array]:
     """Swept values and ``key`` (an attribute of SidePositions) on one side, None as nan;
     only the points of laminar method ``method`` when the sweep has several."""
     values, out = [], []
@@ -621,9 +619,7 @@ def _series(
     return np.array(values, dtype=float), np.array(out, dtype=float)
 
 
-def _regime_split(
-    sweep: Sweep, side: str, method: str | None = None
-) -> tuple[Array, Array, Array]:
+def _regime_split(sweep: Sweep, side: str, method: str | None = None) -> tuple[Array, Array, Array]:
     """Separation s split into turbulent and laminar separations (nan elsewhere)."""
     values, s = _series(sweep, side, "separation_s", method)
     regimes = [
@@ -647,7 +643,8 @@ _METHOD_SHORT = {"thwaites": "Thwaites", "finite_difference": "finite diff."}
 
 
 def _sweep_panel(ax: Axes, sweep: Sweep, side: str) -> None:
-    for method in sweep.methods or [None]:
+    methods: list[str | None] = [*sweep.methods] if sweep.methods else [None]
+    for method in methods:
         suffix = f" [{_METHOD_SHORT.get(method, method)}]" if method is not None else ""
         line = _METHOD_LINES.get(method or "", None)
         for key, style in (("transition_s", "transition"), ("laminar_separation_s", "short")):
@@ -658,7 +655,7 @@ def _sweep_panel(ax: Axes, sweep: Sweep, side: str) -> None:
         _sweep_line(
             ax, v, laminar, _EVENTS["laminar"], "laminar separation (layer ends)" + suffix, line
         )
-    v, plateau = _series(sweep, side, "pressure_plateau_s", (sweep.methods or [None])[0])
+    v, plateau = _series(sweep, side, "pressure_plateau_s", methods[0])
     _sweep_line(ax, v, plateau, _EVENTS["plateau"], "pressure plateau onset (in the data)")
     if VARIABLES[sweep.variable].log:
         ax.set_xscale("log")
@@ -730,7 +727,9 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
     legend.axis("off")
     if handles:
         ncols_legend = 2 if sweep.methods else 4
-        legend.legend(handles, labels, loc="center", ncols=ncols_legend, fontsize=8.5, frameon=False)
+        legend.legend(
+            handles, labels, loc="center", ncols=ncols_legend, fontsize=8.5, frameon=False
+        )
     failed = sum(1 for point in sweep.points if point.error is not None)
     note = f"{failed} swept case(s) could not be analysed (see the table)." if failed else ""
     info = VARIABLES.get(sweep.variable)

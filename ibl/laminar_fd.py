@@ -94,9 +94,7 @@ def solve_side(side: SideInput) -> Supplied:
     else:
         start, start_beta = "sharp", 0.0
         r0 = 1.0 if r is None else float(r[0])
-        xi0 = (side.theta0 * r0 * float(ue[0]) / BLASIUS_GOERTLER_THETA) ** 2 / (
-            2.0 * side.nu
-        )
+        xi0 = (side.theta0 * r0 * float(ue[0]) / BLASIUS_GOERTLER_THETA) ** 2 / (2.0 * side.nu)
     try:
         with np.errstate(all="ignore"):
             sol = march_laminar(

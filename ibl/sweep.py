@@ -453,13 +453,13 @@ def sweep(
         run(parse_case(set_variable(doc, variable, values[0])))
     points: list[SweepPoint] = []
     with _progress(len(values) * len(docs), progress) as bar:
-        for method, doc in docs:
+        for swept, doc in docs:
             if scheduler is None:
                 found = _run_local(doc, variable, values, chunk or DEFAULT_CHUNK, bar)
             else:
                 found = _with_client(scheduler, doc, variable, values, chunk, bar)
             points += [
-                msgspec.structs.replace(point, laminar_method=method)
+                msgspec.structs.replace(point, laminar_method=swept)
                 for point in msgspec.convert(found, list[SweepPoint])
             ]
     unit = case_length_unit(case_doc)
