@@ -315,6 +315,7 @@ def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> 
     """Print timing figures (only the ratios to the march with ``ratios_only``); return 0."""
     if ratios_only:
         ratios(200)
+        finite_difference_analysis(200)
         return 0
     print("ibl bench: median wall time, one process, one core")
     print(f"{'N/side':>7} {'what':<46} {'per case':>11} {'per side':>11}")

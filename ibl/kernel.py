@@ -746,11 +746,12 @@ def march_sides(
     -------------------------------
     s, ue, r : (sides, n) arc length from the side's origin, Ue/U_inf, body radius
         (ones when planar); only the first ``count`` stations of a row are read.
-    ints : (sides, 5) start kind, criterion code, closure code, skin-friction law,
-        axisymmetric flag.
+    ints : (sides, 5 or 6) start kind, criterion code, closure code, skin-friction law,
+        axisymmetric flag, and optionally the laminar method (``LAMINAR_THWAITES`` when
+        absent, or ``LAMINAR_SUPPLIED``).
     reals : (sides, 10) nu/U_inf, stagnation slope dUe/ds, inflow theta, inflow H,
         trip position (inf for none), Tu [%], separation lambda, initial H, separation H,
-        unused.
+        supplied laminar separation s (read on supplied sides only; NaN or inf for none).
     stations : (sides, 7, n) output: theta, H, cf (NaN where undefined), Re_theta,
         delta99, turbulent flag (0/1), lambda.
     events : (sides, N_EVENT_FIELDS) output: kept station count, transition s, cause, Re_theta,

@@ -107,7 +107,8 @@ def _stack(
     sides: list[SideInput],
 ) -> tuple[F64, F64, F64, NDArray[np.int64], NDArray[np.int64], F64]:
     """Pad the sides to one length (s continues with its last spacing, Ue and r are held)
-    and gather their options as integer and real codes."""
+    and gather their options as integer and real codes (``ints`` column 5, the laminar
+    method, is Thwaites' here)."""
     count = np.array([side.s.size for side in sides], dtype=np.int64)
     n = int(count.max())
     shape = (len(sides), n)
@@ -128,6 +129,7 @@ def _stack(
                 kernel.CLOSURE_CODES[o.closure],
                 SKIN_FRICTION[o.skin_friction].code,
                 side.axisymmetric,
+                kernel.LAMINAR_THWAITES,  # LAMINAR_SUPPLIED once ``_supplied`` solves it
             )
         )
         real_rows.append(
@@ -203,7 +205,6 @@ def _march(
 ) -> list[SideState]:
     """``march`` in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
-    ints = np.column_stack((ints, np.full(len(sides), kernel.LAMINAR_THWAITES)))
     laminar, solved = _supplied(sides, ints, reals, s.shape[1])
     stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
