@@ -176,11 +176,24 @@ def test_batch_mixing_methods_equals_each_alone() -> None:
 
 
 def test_unknown_method_is_422_with_pointer() -> None:
+    """HTTP: "nope" is a 422 naming /laminar/method; the method is served by the catalogue
+    and a finite-difference analysis answers 200 with Terrill's separation (0.3 %)."""
     doc = _cylinder("nope", 60)
     with TestClient(create_app(Settings()), raise_server_exceptions=False) as client:
         response = client.post(
             "/v1/analyses", content=json.dumps(doc), headers={"content-type": "application/json"}
         )
+        good = client.post(
+            "/v1/analyses",
+            content=json.dumps(_cylinder("finite_difference", 360)),
+            headers={"content-type": "application/json"},
+        )
+        methods = client.get("/v1/methods").json()
+    assert good.status_code == 200, good.text
+    assert abs(_separation_deg(good.json(), "upper") / TERRILL_DEG - 1.0) < 0.003
+    choices = methods["laminar"]["options"]["method"]["choices"]
+    assert set(choices) == {"thwaites", "finite_difference"}
+    assert "Keller" in choices["finite_difference"]["reference"]
     assert response.status_code == 422, response.text
     body = response.json()
     assert any(e["pointer"] == "/laminar/method" for e in body["errors"]), body
