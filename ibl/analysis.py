@@ -827,6 +827,16 @@ def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
     closure = float(state.shape_factor[0])
     if abs(side.h0 - closure) <= INFLOW_H_TOLERANCE * closure:
         return []
+    if state.laminar_method == "finite_difference":
+        return [
+            Notice(
+                code="inflow_shape_factor_unused",
+                message=f"{side.name}: a laminar inflow's shape factor is not used: the "
+                "finite-difference march starts from the Blasius profile of the inflow theta "
+                f"(H = 2.59), not from a profile of H = {side.h0:.3g}",
+                pointer="/inflow/shape_factor",
+            )
+        ]
     return [
         Notice(
             code="inflow_shape_factor_unused",

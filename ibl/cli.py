@@ -879,7 +879,9 @@ def _sweep(args: argparse.Namespace) -> int:
     except ImportError as error:
         print(f"ibl: --scheduler needs dask.distributed ({error})", file=sys.stderr)
         return 2
-    except ValueError as error:
+    except CaseError:
+        raise  # reported with its pointers by ``main``
+    except ValueError as error:  # the laminar methods of a swept choice
         print(f"ibl: {error}", file=sys.stderr)
         return 2
     from ibl.figures import length_unit
