@@ -265,6 +265,7 @@ def _results(
             if found is not None:
                 warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
             warnings.extend(_range_warnings(side, state))
+            warnings.extend(_laminar_method_notice(side, state))
             warnings.extend(_laminar_inflow_notice(side, state))
             warnings.extend(_near_separation(side, state, built[-1].margins))
         results.append(
@@ -289,8 +290,12 @@ def analyze(doc: Any) -> dict[str, Any]:
 
 def _options(case: Case) -> dict[str, str | float]:
     return {
-        "laminar_method": "thwaites_1949"
-        + ("_rott_crabtree_1952" if case.body.kind == "axisymmetric" else ""),
+        "laminar_method": (
+            "keller_box_1970" + ("_mangler_1948" if case.body.kind == "axisymmetric" else "")
+            if case.laminar.method == "finite_difference"
+            else "thwaites_1949"
+            + ("_rott_crabtree_1952" if case.body.kind == "axisymmetric" else "")
+        ),
         "laminar_closure": case.laminar.closure,
         "separation_lambda": case.laminar.separation_lambda,
         "transition_criterion": case.transition.criterion,
@@ -806,6 +811,20 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
     )
 
 
+def _laminar_method_notice(side: SideInput, state: SideState) -> list[Notice]:
+    """The finite-difference laminar march failed on a side: Thwaites' method was used."""
+    if not state.laminar_failure:
+        return []
+    return [
+        Notice(
+            code="laminar_method_failed",
+            message=f"{side.name}: the finite-difference laminar march failed "
+            f"({state.laminar_failure}); this side's laminar layer is Thwaites' instead",
+            pointer="/laminar/method",
+        )
+    ]
+
+
 def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
     """A laminar inflow whose shape factor disagrees with Thwaites' closure."""
     if side.start != "inflow" or side.turbulent_start or state.count == 0:
@@ -813,6 +832,16 @@ def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
     closure = float(state.shape_factor[0])
     if abs(side.h0 - closure) <= INFLOW_H_TOLERANCE * closure:
         return []
+    if state.laminar_method == "finite_difference":
+        return [
+            Notice(
+                code="inflow_shape_factor_unused",
+                message=f"{side.name}: a laminar inflow's shape factor is not used: the "
+                "finite-difference march starts from the Blasius profile of the inflow theta "
+                f"(H = 2.59), not from a profile of H = {side.h0:.3g}",
+                pointer="/inflow/shape_factor",
+            )
+        ]
     return [
         Notice(
             code="inflow_shape_factor_unused",

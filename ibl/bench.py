@@ -21,6 +21,9 @@ Contents
 - ``_sensitivity_figures``: at N = 200, the time per side of a plain march and of a
   march with the derivatives of every event and the friction drag
   (``output.sensitivities``), and their ratio, measured in one run.
+- ``finite_difference_analysis(n)``: a full analysis (``analyze(dict)``) of the ellipse with
+  ``laminar.method = "finite_difference"`` against the same analysis with Thwaites' method,
+  timed in turn in one run: the cost of the option, as a ratio (printed by ``main``).
 """
 
 from __future__ import annotations
@@ -40,9 +43,11 @@ from ibl.prepare import SideInput, prepare
 from ibl.schema import Output
 
 __all__ = [
+    "FD_ANALYSIS_TARGET",
     "FD_COST_TARGET",
     "RATIO_TARGETS",
     "ellipse_case",
+    "finite_difference_analysis",
     "finite_difference_side",
     "main",
     "ratios",
@@ -278,6 +283,28 @@ def _lag_entrainment_figures(n: int, repeat: int) -> None:
     )
 
 
+#: Target: a full analysis with the finite-difference laminar method costs at most this
+#: many times the same analysis with Thwaites' method (the laminar march dominates).
+FD_ANALYSIS_TARGET = 20.0
+
+
+def finite_difference_analysis(n: int = 200, rounds: int = 21) -> float:
+    """``analyze(dict)`` of the ellipse (``n`` points per side) with the finite-difference
+    laminar method against the same with Thwaites' method, in turn; prints and returns
+    the ratio of their median times."""
+    thwaites = ellipse_case(n)
+    fd = {**thwaites, "laminar": {"method": "finite_difference"}}
+    times = _interleaved({"thwaites": lambda: analyze(thwaites), "fd": lambda: analyze(fd)}, rounds)
+    ratio = times["fd"] / times["thwaites"]
+    met = "met" if ratio <= FD_ANALYSIS_TARGET else "not met"
+    print(
+        f"{n:>7} {'analyze(dict), laminar finite_difference':<46} "
+        f"{times['fd'] * 1e3:>8.3f} ms = {ratio:.1f} times the Thwaites analysis "
+        f"({times['thwaites'] * 1e3:.3f} ms; target <= {FD_ANALYSIS_TARGET:g}: {met})"
+    )
+    return ratio
+
+
 def _interleaved(functions: dict[str, Callable[[], object]], rounds: int) -> dict[str, float]:
     """Median wall time of each function, calls taken in turn round after round, so that
     a change in the machine's load touches all of them alike."""
@@ -351,12 +378,14 @@ def main(repeat: int = 200, batch: int = 2000, *, ratios_only: bool = False) -> 
     """Print timing figures (only the ratios to the march with ``ratios_only``); return 0."""
     if ratios_only:
         ratios(200)
+        finite_difference_analysis(200)
         return 0
     print("ibl bench: median wall time, one process, one core")
     print(f"{'N/side':>7} {'what':<46} {'per case':>11} {'per side':>11}")
     for n in (200, 400):
         _figures(n, repeat, batch)
     _finite_difference_figures(200, repeat)
+    finite_difference_analysis(200)
     _lag_entrainment_figures(200, repeat)
     _sensitivity_figures(200, max(repeat, 50))
     print(

@@ -333,6 +333,9 @@ def _apply_flags(case: dict[str, Any], args: argparse.Namespace) -> None:
     if args.turbulent_method is not None:
         turbulent = _object_member(case, "turbulent", "/turbulent", "--turbulent-method")
         turbulent["method"] = args.turbulent_method
+    method = getattr(args, "laminar_method", None)
+    if method is not None:
+        _object_member(case, "laminar", "/laminar", "--laminar-method")["method"] = method
     trips = {"upper": args.trip_upper, "lower": args.trip_lower, "surface": args.trip}
     for side, value in trips.items():
         if value is not None:
@@ -475,7 +478,13 @@ def summary(
             lines.append(f"  chord c = {_fmt(chord[1])}, {CHORD_DEFINITION}")
     options = result["options"]
     lines.append(
-        f"Methods: {options['laminar_method']} (lambda_sep = {options['separation_lambda']}), "
+        f"Methods: {options['laminar_method']}"
+        + (
+            f" (lambda_sep = {options['separation_lambda']})"
+            if options["laminar_method"].startswith("thwaites")
+            else ""
+        )
+        + ", "
         f"transition {options['transition_criterion']}, {options['turbulent_method']} with "
         f"{options['skin_friction']} (H_sep = {options['separation_shape_factor']})"
     )
@@ -536,7 +545,8 @@ def summary(
             lines.append(f"  friction drag       {_fmt(side['friction_drag'])} (up to separation)")
     drag = result.get("drag")
     if drag:
-        per = "q_inf L^2" if options["laminar_method"].endswith("crabtree_1952") else "q_inf L"
+        axisymmetric = options["laminar_method"].endswith(("crabtree_1952", "mangler_1948"))
+        per = "q_inf L^2" if axisymmetric else "q_inf L"
         lines.append("")
         lines.append(f"Drag (D/{per}, L the coordinate unit):")
         lines.append(f"  friction            {_fmt(drag['friction'])}")
@@ -652,6 +662,20 @@ def _add_case_flags(
         choices=list(METHODS),
         help="turbulent method: head (Head 1958) or lag_entrainment (Green, Weeks & Brooman 1977)",
     )
+    if sweep:
+        parser.add_argument(
+            "--laminar-method",
+            metavar="METHOD[,METHOD]",
+            help="laminar method: thwaites or finite_difference; a comma-separated list "
+            "runs the sweep once per method (a swept choice), e.g. thwaites,finite_difference",
+        )
+    else:
+        parser.add_argument(
+            "--laminar-method",
+            choices=["thwaites", "finite_difference"],
+            help="laminar method: Thwaites' integral method (default) or the laminar "
+            "boundary-layer equations marched by Keller's box scheme (finite_difference)",
+        )
     parser.add_argument("--axisymmetric", action="store_true", help="body of revolution")
     parser.add_argument(
         "--y-plus", type=float, nargs="+", help="first-cell y+ targets for mesh advice [-]"
@@ -839,6 +863,10 @@ def _sweep(args: argparse.Namespace) -> int:
     if not args.case.exists():
         print(f"ibl: {args.case}: no such file", file=sys.stderr)
         return 2
+    methods = None
+    if args.laminar_method is not None and "," in args.laminar_method:
+        methods = [m.strip() for m in args.laminar_method.split(",")]
+        args.laminar_method = None
     case = load_case(args.case, args)
     flag = "--" + variable.replace("_", "-")
     if variable.startswith("trip"):
@@ -849,10 +877,21 @@ def _sweep(args: argparse.Namespace) -> int:
     progress = sys.stderr.isatty() and not args.quiet
     try:
         result = sweep(
-            case, variable, values, scheduler=args.scheduler, chunk=args.chunk, progress=progress
+            case,
+            variable,
+            values,
+            scheduler=args.scheduler,
+            chunk=args.chunk,
+            progress=progress,
+            methods=methods,
         )
     except ImportError as error:
         print(f"ibl: --scheduler needs dask.distributed ({error})", file=sys.stderr)
+        return 2
+    except CaseError:
+        raise  # reported with its pointers by ``main``
+    except ValueError as error:  # the laminar methods of a swept choice
+        print(f"ibl: {error}", file=sys.stderr)
         return 2
     from ibl.figures import length_unit
 

@@ -223,7 +223,8 @@ def _legend_handles(result: Mapping[str, Any], h_sep: float | None) -> list[Line
     regimes = {r for side in result["sides"] for r in side["regime"]}
     handles = []
     if "laminar" in regimes:
-        handles.append(Line2D([], [], color=LAMINAR_COLOUR, lw=1.6, label="laminar"))
+        label = f"laminar ({laminar_method_name(result)})"
+        handles.append(Line2D([], [], color=LAMINAR_COLOUR, lw=1.6, label=label))
     if "turbulent" in regimes:
         handles.append(Line2D([], [], color=TURBULENT_COLOUR, lw=2.2, label="turbulent"))
     seen: list[_Style] = []
@@ -331,7 +332,8 @@ def _contour_panel(
     units: str,
     outline: tuple[Sequence[float], Sequence[float]] | None,
 ) -> None:
-    axisymmetric = "rott_crabtree" in str(result.get("options", {}).get("laminar_method", ""))
+    method_name = str(result.get("options", {}).get("laminar_method", ""))
+    axisymmetric = "rott_crabtree" in method_name or "mangler" in method_name
     if outline is not None:
         ax.plot(outline[0], outline[1], color="#bbbbbb", lw=1.0, zorder=1)
     for side in result["sides"]:
@@ -463,10 +465,29 @@ def _all(result: Mapping[str, Any], key: str) -> Array:
     return np.concatenate([_floats(side[key]) for side in result["sides"]])
 
 
+#: How figures name the laminar methods (``laminar.method`` of a case).
+LAMINAR_NAMES = {
+    "thwaites": "Thwaites",
+    "finite_difference": "finite difference (Keller box)",
+}
+
+
+def laminar_method_name(result: Mapping[str, Any]) -> str:
+    """The laminar method of a result document as figures name it."""
+    method = str(result.get("options", {}).get("laminar_method", ""))
+    return LAMINAR_NAMES["finite_difference" if method.startswith("keller") else "thwaites"]
+
+
 def _subtitle(result: Mapping[str, Any]) -> str:
     o = result.get("options", {})
+    method = str(o.get("laminar_method", "?"))
+    laminar = (
+        f"{method} (finite difference)"
+        if method.startswith("keller")
+        else f"{method} (lambda_sep = {o.get('separation_lambda', '?')})"
+    )
     return (
-        f"{o.get('laminar_method', '?')} (lambda_sep = {o.get('separation_lambda', '?')}), "
+        f"{laminar}, "
         f"transition: {o.get('transition_criterion', '?')}, "
         f"{o.get('turbulent_method', '?')} with {o.get('skin_friction', '?')}"
     )
@@ -583,10 +604,13 @@ def build(
 # ------------------------------------------------------------------------------ sweeps
 
 
-def _series(sweep: Sweep, side: str, key: str) -> tuple[Array, Array]:
-    """Swept values and ``key`` (an attribute of SidePositions) on one side, None as nan."""
+def _series(sweep: Sweep, side: str, key: str, method: str | None = None) -> tuple[Array, Array]:
+    """Swept values and ``key`` (an attribute of SidePositions) on one side, None as nan;
+    only the points of laminar method ``method`` when the sweep has several."""
     values, out = [], []
     for point in sweep.points:
+        if point.laminar_method != method:
+            continue
         for positions in point.sides:
             if positions.side == side:
                 got = getattr(positions, key)
@@ -595,10 +619,16 @@ def _series(sweep: Sweep, side: str, key: str) -> tuple[Array, Array]:
     return np.array(values, dtype=float), np.array(out, dtype=float)
 
 
-def _regime_split(sweep: Sweep, side: str) -> tuple[Array, Array, Array]:
+def _regime_split(sweep: Sweep, side: str, method: str | None = None) -> tuple[Array, Array, Array]:
     """Separation s split into turbulent and laminar separations (nan elsewhere)."""
-    values, s = _series(sweep, side, "separation_s")
-    regimes = [p.separation_regime for point in sweep.points for p in point.sides if p.side == side]
+    values, s = _series(sweep, side, "separation_s", method)
+    regimes = [
+        p.separation_regime
+        for point in sweep.points
+        if point.laminar_method == method
+        for p in point.sides
+        if p.side == side
+    ]
     laminar = np.array([r == "laminar" for r in regimes], dtype=bool)
     return values, np.where(laminar, np.nan, s), np.where(laminar, s, np.nan)
 
@@ -606,14 +636,26 @@ def _regime_split(sweep: Sweep, side: str) -> tuple[Array, Array, Array]:
 _SWEEP_LABELS = {"transition": "transition", "short": "laminar separation (start of a bubble)"}
 
 
+#: Line styles of the laminar methods of a sweep that runs them as a swept choice.
+_METHOD_LINES = {"thwaites": "-", "finite_difference": ":"}
+#: Short names of the laminar methods in a sweep's legend.
+_METHOD_SHORT = {"thwaites": "Thwaites", "finite_difference": "finite diff."}
+
+
 def _sweep_panel(ax: Axes, sweep: Sweep, side: str) -> None:
-    for key, style in (("transition_s", "transition"), ("laminar_separation_s", "short")):
-        v, s = _series(sweep, side, key)
-        _sweep_line(ax, v, s, _EVENTS[style], _SWEEP_LABELS[style])
-    v, turbulent, laminar = _regime_split(sweep, side)
-    _sweep_line(ax, v, turbulent, _EVENTS["turbulent"], "turbulent separation")
-    _sweep_line(ax, v, laminar, _EVENTS["laminar"], "laminar separation (layer ends)")
-    v, plateau = _series(sweep, side, "pressure_plateau_s")
+    methods: list[str | None] = [*sweep.methods] if sweep.methods else [None]
+    for method in methods:
+        suffix = f" [{_METHOD_SHORT.get(method, method)}]" if method is not None else ""
+        line = _METHOD_LINES.get(method or "", None)
+        for key, style in (("transition_s", "transition"), ("laminar_separation_s", "short")):
+            v, s = _series(sweep, side, key, method)
+            _sweep_line(ax, v, s, _EVENTS[style], _SWEEP_LABELS[style] + suffix, line)
+        v, turbulent, laminar = _regime_split(sweep, side, method)
+        _sweep_line(ax, v, turbulent, _EVENTS["turbulent"], "turbulent separation" + suffix, line)
+        _sweep_line(
+            ax, v, laminar, _EVENTS["laminar"], "laminar separation (layer ends)" + suffix, line
+        )
+    v, plateau = _series(sweep, side, "pressure_plateau_s", methods[0])
     _sweep_line(ax, v, plateau, _EVENTS["plateau"], "pressure plateau onset (in the data)")
     if VARIABLES[sweep.variable].log:
         ax.set_xscale("log")
@@ -636,14 +678,16 @@ def _swept_limits(ax: Axes, swept: list[float], log: bool) -> None:
         ax.set_xlim(low - pad, high + pad)
 
 
-def _sweep_line(ax: Axes, values: Array, s: Array, style: _Style, label: str) -> None:
+def _sweep_line(
+    ax: Axes, values: Array, s: Array, style: _Style, label: str, line: str | None = None
+) -> None:
     if not np.isfinite(s).any():
         return
     ax.plot(
         values,
         s,
         color=style.colour,
-        linestyle=style.linestyle,
+        linestyle=line or style.linestyle,
         lw=1.0,
         marker=style.marker,
         markersize=style.size * 0.7,
@@ -666,7 +710,7 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
     width = 6.2 * max(1, len(sides)) + 1.6 / max(1, len(sides))
     fig = new_figure(width, 6.0)
     ncols = max(1, len(sides))
-    grid = fig.add_gridspec(2, ncols, height_ratios=[0.35, 4.6])
+    grid = fig.add_gridspec(2, ncols, height_ratios=[0.9 if sweep.methods else 0.35, 4.6])
     axes: list[Axes] = []
     for col in range(ncols):
         axes.append(fig.add_subplot(grid[1, col], sharey=axes[0] if axes else None))
@@ -682,7 +726,10 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
     legend = fig.add_subplot(grid[0, :])
     legend.axis("off")
     if handles:
-        legend.legend(handles, labels, loc="center", ncols=4, fontsize=8.5, frameon=False)
+        ncols_legend = 2 if sweep.methods else 4
+        legend.legend(
+            handles, labels, loc="center", ncols=ncols_legend, fontsize=8.5, frameon=False
+        )
     failed = sum(1 for point in sweep.points if point.error is not None)
     note = f"{failed} swept case(s) could not be analysed (see the table)." if failed else ""
     info = VARIABLES.get(sweep.variable)
@@ -691,6 +738,9 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
         f"{sweep.name or '(unnamed case)'}: sweep of the {quantity} "
         f"(turbulent: {sweep.turbulent_method})"
     )
+    if sweep.methods:
+        names = " and ".join(LAMINAR_NAMES.get(m, m) for m in sweep.methods)
+        title += f", laminar layer by {names}"
     chars = int(width * 72.0 / (0.6 * 11.0))
     fig.suptitle("\n".join(textwrap.wrap(title, chars)), fontsize=11)
     add_footer(fig, caution_footer(note))
@@ -701,9 +751,10 @@ def build_sweep(sweep: Sweep, *, units: str | None = None) -> Figure:
 
 
 def _check_label(check: Check) -> str:
-    case = check.case.split(",")[0]
+    case = check.case.split(",")[0].removesuffix(" [finite difference]")
     quantity = check.quantity.split(" (")[0]
-    return f"{case}: {quantity} vs {check.against}"
+    method = " [FD]" if check.method == "finite_difference" else ""
+    return f"{case}{method}: {quantity} vs {check.against}"
 
 
 def _deviation_panel(ax: Axes, checks: Sequence[Check]) -> None:

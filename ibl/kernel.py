@@ -34,6 +34,8 @@ __all__ = [
     "CLAUSER",
     "CLOSURE_CODES",
     "CRITERION_CODES",
+    "LAMINAR_SUPPLIED",
+    "LAMINAR_THWAITES",
     "N_EVENT_FIELDS",
     "N_STATION_FIELDS",
     "START_INFLOW",
@@ -56,6 +58,10 @@ CLOSURE_CODES = {"cebeci_bradshaw": 0, "white": 1}
 METHOD_HEAD, METHOD_LAG_ENTRAINMENT = 0, 1
 START_STAGNATION, START_SHARP, START_INFLOW, START_TURBULENT = 0, 1, 2, 3
 CAUSE_CRITERION, CAUSE_TRIP, CAUSE_LAMINAR_SEPARATION = 0, 1, 2
+#: The laminar layer of a side (column 6 of ``ints``, 0 when absent): Thwaites' integral,
+#: or station values supplied by the caller (``laminar`` of ``march_sides``, for example
+#: the finite-difference solution of ``ibl.finite_difference``).
+LAMINAR_THWAITES, LAMINAR_SUPPLIED = 0, 1
 
 #: A turbulent layer tripped at a stagnation point or sharp edge starts this fraction of
 #: the side length downstream, where Ue and theta are positive.
@@ -647,6 +653,52 @@ def _laminar_at(
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _supplied_at(
+    layer: tuple[F64, F64, F64, F64, F64, F64], n: int, nu: float, sup: F64, at: float
+) -> tuple[float, float, float, float, float]:
+    """theta^2, lambda, Re_theta, Ue and H at any arc length from supplied laminar station
+    values (``sup`` rows theta, H): theta^2 and H linear in s between stations (Ue and
+    Ue' by the Hermite interpolant); past the last finite station, extrapolated linearly
+    from the two before it (a solution ending just ahead of separation), theta^2 at least
+    its last value."""
+    sk, uk, due = layer[0], layer[1], layer[2]
+    j = 0
+    while j < n - 2 and sk[j + 1] < at:
+        j += 1
+    h = sk[j + 1] - sk[j]
+    t_end = min(max((at - sk[j]) / h, 0.0), 1.0)
+    u, du = _hermite(t_end, h, uk[j], uk[j + 1], due[j], due[j + 1])
+    u = max(u, 0.0)
+    a, b = j, j + 1
+    while a > 0 and not np.isfinite(sup[0, b]):
+        b = a
+        a -= 1
+    if np.isfinite(sup[0, b]):
+        frac = (at - sk[a]) / (sk[b] - sk[a])
+        t0, t1 = sup[0, a] ** 2, sup[0, b] ** 2
+        theta2 = max(t0 + frac * (t1 - t0), min(t0, t1))
+        hh = sup[1, a] + frac * (sup[1, b] - sup[1, a])
+    else:
+        theta2, hh = sup[0, a] ** 2, sup[1, a]
+    return theta2, theta2 * du / nu, u * np.sqrt(theta2) / nu, u, hh
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _laminar_state(
+    layer: tuple[F64, F64, F64, F64, F64, F64],
+    params: tuple[int, float, float, float, bool],
+    sup: F64,
+    supplied: bool,
+    at: float,
+) -> tuple[float, float, float, float]:
+    """``_laminar_at``, or ``_supplied_at`` on a side whose laminar values are supplied."""
+    if supplied:
+        theta2, lam, re, u, _ = _supplied_at(layer, params[0], params[3], sup, at)
+        return theta2, lam, re, u
+    return _laminar_at(layer, params, at)
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _margin(
     kind: int,
     theta2: float,
@@ -681,6 +733,8 @@ def _refine(
     params: tuple[int, float, float, float, bool],
     lam_sep: float,
     tu: float,
+    sup: F64,
+    supplied: bool,
 ) -> float:
     """Where an event's margin crosses zero between ``lo`` (before) and ``hi`` (after),
     by the Illinois variant of regula falsi on the interpolated laminar state, so that the
@@ -688,9 +742,9 @@ def _refine(
     sk = layer[0]
     n, nu = params[0], params[3]
     origin = sk[0]
-    th, lam, re, u = _laminar_at(layer, params, lo)
+    th, lam, re, u = _laminar_state(layer, params, sup, supplied, lo)
     g_lo = _margin(kind, th, lam, re, u, lo - origin, nu, lam_sep, tu)
-    th, lam, re, u = _laminar_at(layer, params, hi)
+    th, lam, re, u = _laminar_state(layer, params, sup, supplied, hi)
     g_hi = _margin(kind, th, lam, re, u, hi - origin, nu, lam_sep, tu)
     if not g_hi >= 0.0:
         return hi
@@ -709,7 +763,7 @@ def _refine(
                 mid = 0.5 * (lo + hi)
         else:
             mid = 0.5 * (lo + hi)
-        th, lam, re, u = _laminar_at(layer, params, mid)
+        th, lam, re, u = _laminar_state(layer, params, sup, supplied, mid)
         g = _margin(kind, th, lam, re, u, mid - origin, nu, lam_sep, tu)
         if g >= 0.0:
             hi, g_hi = mid, g
@@ -738,6 +792,7 @@ def march_sides(
     stations: F64,
     events: F64,
     step_scale: float = 1.0,
+    laminar: F64 | None = None,
 ) -> int:
     """March every side; see the module docstring.
 
@@ -745,11 +800,12 @@ def march_sides(
     -------------------------------
     s, ue, r : (sides, n) arc length from the side's origin, Ue/U_inf, body radius
         (ones when planar); only the first ``count`` stations of a row are read.
-    ints : (sides, 5 or 6) start kind, criterion code, closure code, skin-friction law,
-        axisymmetric flag, turbulent method (``METHOD_HEAD`` when absent).
+    ints : (sides, 5 to 7) start kind, criterion code, closure code, skin-friction law,
+        axisymmetric flag, turbulent method (``METHOD_HEAD`` when absent), laminar method
+        (``LAMINAR_THWAITES`` when absent, or ``LAMINAR_SUPPLIED``).
     reals : (sides, 10) nu/U_inf, stagnation slope dUe/ds, inflow theta, inflow H,
         trip position (inf for none), Tu [%], separation lambda, initial H, separation H,
-        unused.
+        supplied laminar separation s (read on supplied sides only; NaN or inf for none).
     stations : (sides, 7, n) output: theta, H, cf (NaN where undefined), Re_theta,
         delta99, turbulent flag (0/1), lambda.
     events : (sides, N_EVENT_FIELDS) output: kept station count, transition s, cause, Re_theta,
@@ -764,6 +820,15 @@ def march_sides(
         the thin-layer limit are dropped.
     step_scale : multiplies every step limit of the turbulent march (1 by default;
         smaller for convergence checks).
+    laminar : (sides, 4, n) supplied laminar station values theta, H, Cf, delta99 (NaN
+        where none), read on the sides whose ``ints`` column 5 is ``LAMINAR_SUPPLIED``,
+        with the supplied laminar separation position in ``reals`` column 9 (NaN or inf
+        for none).  There theta^2, H and Re_theta come from these values, lambda =
+        theta^2 Ue'/nu, events between stations are located on theta^2 and H interpolated
+        linearly in s (``_supplied_at``), laminar separation is the supplied one (its
+        Re_delta* from the supplied H), and the laminar Cf and delta99 are the supplied
+        ones; the criteria, the trip, the bubble class, Head's march and the thin-layer
+        limit are unchanged.
     Positions are NaN when an event does not happen.  Returns the turbulent step count.
     """
     n_sides, n_max = s.shape
@@ -783,7 +848,14 @@ def march_sides(
     no_tape = np.zeros((1, TAPE_COLUMNS))
     ce_t = np.empty(n_max)
     steps = 0
+    no_supply = np.full((4, n_max), np.nan)
     for k in range(n_sides):
+        if laminar is not None:
+            sup = laminar[k]
+        else:
+            sup = no_supply
+        laminar_method = ints[k, 6] if ints.shape[1] > 6 else LAMINAR_THWAITES
+        supplied = laminar is not None and laminar_method == LAMINAR_SUPPLIED
         n = count[k]
         sk, uk, rk = s[k], ue[k], r[k]
         start_kind, criterion, closure, law, axisym = (
@@ -839,6 +911,12 @@ def march_sides(
         start_weight = rk[0] ** 2 * uk[0] ** THWAITES_B
         lam_max_seen = 0.0
         for i in range(n):
+            if supplied:
+                theta2[i] = sup[0, i] * sup[0, i]
+                lam[i] = theta2[i] * due[i] / nu
+                h_lam[i] = sup[1, i]
+                re_lam[i] = uk[i] * sup[0, i] / nu
+                continue
             weight = rk[i] ** 2 * uk[i] ** THWAITES_B
             if i == 0 or weight <= 0.0:
                 theta2[i] = start_theta2
@@ -856,11 +934,15 @@ def march_sides(
         lsep = np.inf
         lsep_re_dstar = np.nan
         for i in range(1, n):
-            if lam[i] <= lam_sep:
-                lsep = _refine(0, sk[i - 1], sk[i], layer, params, lam_sep, tu)
+            if lam[i] <= lam_sep and not supplied:
+                lsep = _refine(0, sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied)
                 _, _, re_sep, _ = _laminar_at(layer, params, lsep)
                 lsep_re_dstar = re_sep * shape_factor(closure, lam_sep)
                 break
+        if supplied and reals[k, 9] <= sk[n - 1]:
+            lsep = reals[k, 9]
+            _, _, re_sep, _, h_at = _supplied_at(layer, n, nu, sup, lsep)
+            lsep_re_dstar = re_sep * h_at
 
         # Natural transition.
         crit = np.inf
@@ -876,8 +958,8 @@ def march_sides(
             for i in range(1, n):
                 lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
                 if re_lam[i] >= granville_instability(lc):
-                    s_i = _refine(2, sk[i - 1], sk[i], layer, params, lam_sep, tu)
-                    _, _, re_i, _ = _laminar_at(layer, params, s_i)
+                    s_i = _refine(2, sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied)
+                    _, _, re_i, _ = _laminar_state(layer, params, sup, supplied, s_i)
                     run_i = _interp(sk, running, n, s_i)
                     break
             if np.isfinite(s_i):
@@ -904,7 +986,9 @@ def march_sides(
                     lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
                     gi = re_lam[i] - abu_ghannam_shaw(lc, tu)
                 if gi >= 0.0:
-                    crit = _refine(criterion, sk[i - 1], sk[i], layer, params, lam_sep, tu)
+                    crit = _refine(
+                        criterion, sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
+                    )
                     break
 
         natural = min(crit, trip)
@@ -948,7 +1032,7 @@ def march_sides(
                 start = tr
                 if start_kind != START_INFLOW:
                     start = max(tr, sk[0] + START_OFFSET * length)
-                th2_start, _, _, _ = _laminar_at(layer, params, start)
+                th2_start, _, _, _ = _laminar_state(layer, params, sup, supplied, start)
                 th0 = np.sqrt(th2_start)
                 hh0 = h_init
             if method == METHOD_LAG_ENTRAINMENT:
@@ -1033,6 +1117,8 @@ def march_sides(
                 # The fits give l slightly below zero at lambda = -0.09 (-0.0015): clip.
                 cf = 2.0 * max(shear(closure, lc), 0.0) / re if re > 0.0 else np.nan
                 d99 = LAMINAR_DELTA99_RATIO * th
+                if supplied:
+                    cf, d99 = sup[2, i], sup[3, i]
             if not (np.isfinite(th) and np.isfinite(hh) and np.isfinite(re) and np.isfinite(d99)):
                 keep, cut_non_finite = i, 1.0  # the stations end before the first bad one
                 break
@@ -1077,7 +1163,7 @@ def march_sides(
         ev[3] = np.nan
         ev[12] = np.nan
         if np.isfinite(tr):
-            _, _, ev[3], u_tr = _laminar_at(layer, params, tr)
+            _, _, ev[3], u_tr = _laminar_state(layer, params, sup, supplied, tr)
             ev[12] = u_tr * (tr - sk[0]) / nu
         shown = lsep_first and np.isfinite(lsep)
         ev[4] = lsep if shown else np.nan
@@ -1129,11 +1215,12 @@ def march_sides_nogil(
     reals: F64,
     stations: F64,
     events: F64,
+    laminar: F64 | None = None,
 ) -> int:
     """``march_sides``, releasing the interpreter lock while it runs: for marches split
     between threads.  A lone march keeps the lock: in the service, handing it to the event
     loop's thread and waiting to get it back costs more than the march itself."""
-    return march_sides(s, ue, r, count, ints, reals, stations, events)
+    return march_sides(s, ue, r, count, ints, reals, stations, events, 1.0, laminar)
 
 
 # The lag-entrainment march calls this module's helpers; imported last for that reason.

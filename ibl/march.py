@@ -4,7 +4,9 @@ Contents
 --------
 - ``march(sides)``: pads the sides into arrays (sides along axis 0, stations along
   axis 1), runs ``ibl.kernel.march_sides`` once over all of them and returns one
-  ``SideState`` per side.  Large marches are split between threads, one kernel call
+  ``SideState`` per side.  Sides whose case asks for the finite-difference laminar
+  method get it first (``ibl.laminar_fd``), and the kernel takes their laminar station
+  values from it.  Large marches are split between threads, one kernel call
   each, of the kernel variant that releases the interpreter lock, so that they run on
   separate cores.
 - ``SideState``: the station arrays and events of one marched side.
@@ -27,6 +29,7 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ibl import kernel
+from ibl.laminar_fd import Supplied, solve_side
 from ibl.prepare import SideInput
 from ibl.turbulent import METHODS, SKIN_FRICTION
 
@@ -48,6 +51,7 @@ INT_COLUMNS = (
     "skin_friction",
     "axisymmetric",
     "turbulent_method",
+    "laminar_method",
 )
 REAL_COLUMNS = (
     "nu",
@@ -59,7 +63,7 @@ REAL_COLUMNS = (
     "separation_lambda",
     "initial_shape_factor",
     "separation_shape_factor",
-    "unused",
+    "supplied_laminar_separation",
 )
 
 _START = {
@@ -116,13 +120,19 @@ class SideState:
     # Where the layer reaches the thin-layer limit of a body of revolution (delta99 against
     # the body radius, ``kernel.THIN_LAYER_RATIO``) and the stations end; NaN if nowhere.
     thin_layer_s: float
+    # The laminar method used ("thwaites" or "finite_difference"), and why the
+    # finite-difference march failed when the case asked for it ("" otherwise; the side
+    # then has Thwaites' laminar layer).
+    laminar_method: str = "thwaites"
+    laminar_failure: str = ""
 
 
 def _stack(
     sides: list[SideInput],
 ) -> tuple[F64, F64, F64, NDArray[np.int64], NDArray[np.int64], F64]:
     """Pad the sides to one length (s continues with its last spacing, Ue and r are held)
-    and gather their options as integer and real codes."""
+    and gather their options as integer and real codes (``ints`` column 5, the laminar
+    method, is Thwaites' here)."""
     count = np.array([side.s.size for side in sides], dtype=np.int64)
     n = int(count.max())
     shape = (len(sides), n)
@@ -143,6 +153,8 @@ def _stack(
             "skin_friction": SKIN_FRICTION[o.skin_friction].code,
             "axisymmetric": int(side.axisymmetric),
             "turbulent_method": METHODS[o.turbulent_method].code,
+            # LAMINAR_SUPPLIED once ``_supplied`` solves the side
+            "laminar_method": kernel.LAMINAR_THWAITES,
         }
         named_reals: dict[str, float] = {
             "nu": side.nu,
@@ -154,7 +166,7 @@ def _stack(
             "separation_lambda": o.separation_lambda,
             "initial_shape_factor": o.initial_shape_factor,
             "separation_shape_factor": o.separation_shape_factor,
-            "unused": 0.0,
+            "supplied_laminar_separation": 0.0,  # set by ``_supplied``
         }
         int_rows.append(tuple(named_ints[name] for name in INT_COLUMNS))
         real_rows.append(tuple(named_reals[name] for name in REAL_COLUMNS))
@@ -162,6 +174,31 @@ def _stack(
     ints = np.array(int_rows, dtype=np.int64)
     reals = np.array(real_rows, dtype=np.float64)
     return s, ue, r, count, ints, reals
+
+
+def _supplied(
+    sides: list[SideInput], ints: NDArray[np.int64], reals: F64, n: int
+) -> tuple[F64 | None, list[Supplied | None]]:
+    """The finite-difference laminar layers of the sides that ask for it, as the kernel's
+    ``laminar`` array, with their method codes and separations set in ``ints`` (column
+    ``laminar_method``) and ``reals`` (``supplied_laminar_separation``); None when no
+    side asks."""
+    solved: list[Supplied | None] = [
+        solve_side(side)
+        if side.options.laminar_method == "finite_difference" and not side.turbulent_start
+        else None
+        for side in sides
+    ]
+    if all(sol is None for sol in solved):
+        return None, solved
+    laminar = np.full((len(sides), 4, n), np.nan)
+    for i, sol in enumerate(solved):
+        if sol is not None and sol.values is not None:
+            m = sol.values.shape[1]
+            laminar[i, :, :m] = sol.values
+            ints[i, INT_COLUMNS.index("laminar_method")] = kernel.LAMINAR_SUPPLIED
+            reals[i, REAL_COLUMNS.index("supplied_laminar_separation")] = sol.separation
+    return laminar, solved
 
 
 def march(sides: list[SideInput]) -> list[SideState]:
@@ -193,9 +230,13 @@ def _march(
 ) -> list[SideState]:
     """``march`` in one kernel call."""
     s, ue, r, count, ints, reals = _stack(sides)
+    laminar, solved = _supplied(sides, ints, reals, s.shape[1])
     stations = np.empty((len(sides), kernel.N_STATION_FIELDS, s.shape[1]))
     events = np.empty((len(sides), kernel.N_EVENT_FIELDS))
-    compute(s, ue, r, count, ints, reals, stations, events)
+    if laminar is None:
+        compute(s, ue, r, count, ints, reals, stations, events)
+    else:
+        compute(s, ue, r, count, ints, reals, stations, events, laminar=laminar)
     turbulent = stations[:, 5, :] > 0.5
     states = []
     for i, ev in enumerate(events.tolist()):
@@ -234,6 +275,12 @@ def _march(
                 max_eddy_viscosity_ratio_index=int(ev[21]),
                 cut_non_finite=ev[22] > 0.5,
                 thin_layer_s=ev[24] if ev[23] > 0.5 else float("nan"),
+                laminar_method=(
+                    "finite_difference"
+                    if ints[i, INT_COLUMNS.index("laminar_method")]
+                    else "thwaites"
+                ),
+                laminar_failure=(sol.failure if (sol := solved[i]) is not None else ""),
             )
         )
     return states

@@ -100,6 +100,7 @@ class SideOptions:
     skin_friction: str
     y_plus: tuple[float, ...]
     turbulent_method: str = "head"
+    laminar_method: str = "thwaites"  # or "finite_difference" (ibl.laminar_fd)
 
 
 @dataclass(frozen=True, slots=True)
@@ -465,6 +466,7 @@ def _options(case: Case) -> SideOptions:
         skin_friction=case.turbulent.skin_friction,
         y_plus=tuple(case.mesh.y_plus),
         turbulent_method=case.turbulent.method,
+        laminar_method=case.laminar.method,
     )
 
 

@@ -11,7 +11,7 @@ from __future__ import annotations
 
 from typing import Any
 
-from ibl import laminar, plateau, transition, turbulent
+from ibl import finite_difference, laminar, plateau, transition, turbulent
 from ibl.analysis import NEAR_SEPARATION_FRACTION
 from ibl.schema import (
     LaminarOptions,
@@ -65,7 +65,12 @@ def _catalogue() -> dict[str, Any]:
             "reference": "Thwaites (1949) Aeronaut. Q. 1, 245-280; Rott & Crabtree (1952) "
             "J. Aeronaut. Sci. 19, 553",
             "options": {
+                "method": {
+                    "default": lam_defaults.method,
+                    "choices": LAMINAR_METHODS,
+                },
                 "separation_lambda": {
+                    "note": "Thwaites' method only",
                     "default": lam_defaults.separation_lambda,
                     "choices": {
                         "-0.09": "Thwaites (1949)",
@@ -73,6 +78,7 @@ def _catalogue() -> dict[str, Any]:
                     },
                 },
                 "closure": {
+                    "note": "Thwaites' method only",
                     "default": lam_defaults.closure,
                     "choices": {
                         name: {"validity": {"lambda": _range(c.validity)}, "reference": c.reference}
@@ -167,8 +173,41 @@ def _catalogue() -> dict[str, Any]:
     }
 
 
+#: The laminar methods (``laminar.method`` of a case), with their sources.
+LAMINAR_METHODS: dict[str, dict[str, Any]] = {
+    "thwaites": {
+        "summary": "Thwaites' integral method (one-parameter closure in lambda = theta^2 "
+        "Ue'/nu); bodies of revolution by the Rott-Crabtree (Mangler) form; laminar "
+        "separation at lambda = separation_lambda",
+        "reference": "Thwaites (1949) Aeronaut. Q. 1, 245-280; Rott & Crabtree (1952) "
+        "J. Aeronaut. Sci. 19, 553",
+    },
+    "finite_difference": {
+        "summary": "the laminar boundary-layer equations in Goertler's variables, marched by "
+        "Keller's box scheme with Newton iteration from the Hiemenz, Homann or Blasius "
+        "profile to separation (zero wall shear) or the end of the side; bodies of "
+        "revolution by Mangler's transformation; transition criteria, trips, the bubble "
+        "class and Head's start use its theta, H and Re_theta; delta99 is estimated as "
+        "7.39 theta (Blasius ratio); a march that fails leaves the side to Thwaites' "
+        "method with the warning laminar_method_failed",
+        "reference": "Keller (1970) in Numerical Solution of Partial Differential Equations "
+        "II, Academic Press; Cebeci & Bradshaw (1977) Momentum Transfer in Boundary Layers, "
+        "Hemisphere; Mangler (1948) [memory]",
+        "grid": {
+            "eta_points": finite_difference.N_ETA,
+            "eta_max": finite_difference.ETA_MAX,
+            "eta_stretch": finite_difference.STRETCH,
+        },
+        "accuracy": "grid error below 0.3 % in separation position and 1 % in theta on "
+        "the cylinder, sphere, Howarth and cone flows (grid study in "
+        "ibl.finite_difference)",
+    },
+}
+
+
 def method_names(kind: str) -> list[str]:
-    """Valid names for ``criterion``, ``closure``, ``skin_friction`` or ``method``.
+    """Valid names for ``criterion``, ``closure``, ``skin_friction``, ``method`` (the turbulent
+    method) or ``laminar_method``.
 
     >>> method_names("criterion")
     ['michel', 'granville', 'abu_ghannam_shaw', 'none']
@@ -178,5 +217,6 @@ def method_names(kind: str) -> list[str]:
         "closure": laminar.CLOSURES,
         "skin_friction": turbulent.SKIN_FRICTION,
         "method": turbulent.METHODS,
+        "laminar_method": LAMINAR_METHODS,
     }
     return list(table[kind])

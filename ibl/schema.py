@@ -212,7 +212,18 @@ class TransitionOptions(Struct, frozen=True):
 
 
 class LaminarOptions(Struct, frozen=True):
-    """Options of Thwaites' method."""
+    """The laminar method and the options of Thwaites' method."""
+
+    method: Annotated[
+        Literal["thwaites", "finite_difference"],
+        Meta(
+            description="Laminar method: Thwaites' integral method (Thwaites 1949; Rott & "
+            "Crabtree 1952 on a body of revolution), or the laminar boundary-layer equations "
+            "marched by Keller's box scheme (Keller 1970; Mangler's transformation on a body "
+            "of revolution) to separation or transition. separation_lambda and closure "
+            "apply to Thwaites' method only"
+        ),
+    ] = "thwaites"
 
     separation_lambda: Annotated[
         float,

@@ -600,7 +600,7 @@ def _granville_bar(
     for k in range(1, n):
         lc = min(max(lam[k], lam_sep), LAMBDA_MAX)
         if re[k] >= kernel.granville_instability(lc):
-            s_i = kernel._refine(2, sk[k - 1], sk[k], layer, params, lam_sep, tu)
+            s_i = kernel._refine(2, sk[k - 1], sk[k], layer, params, lam_sep, tu, _NO_SUPPLY, False)
             break
     if not np.isfinite(s_i) or s_i <= sk[0]:
         return False
@@ -1366,10 +1366,16 @@ _CAUSE_CODES = {
 }
 
 
+#: The kernel's empty supplied-laminar array (sides here use Thwaites' integral).
+_NO_SUPPLY = np.full((4, 1), np.nan)
+
+
 def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
     """Why a side's derivatives are not computed, or None when they are."""
     if case.surface.s is None:
         return "contours (x, y) are not differentiated yet (stagnation point and split)"
+    if case.laminar.method != "thwaites":
+        return f"the {case.laminar.method} laminar method is not differentiated yet"
     if case.turbulent.method != "head":
         return f"the {case.turbulent.method} turbulent method is not differentiated yet"
     if side.axisymmetric and math.isfinite(state.thin_layer_s):

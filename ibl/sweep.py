@@ -6,9 +6,11 @@ Contents
 - ``parse_range(text, variable)``: ``"start:stop:count"`` to values (logarithmic spacing for
   the Reynolds number, linear otherwise).
 - ``set_variable(case_doc, variable, value)``: a copy of a case document with one value set.
-- ``sweep(case_doc, variable, values, *, scheduler, chunk, progress)``: the swept cases run
-  through ``ibl.run_batch`` in chunks, locally or on a dask.distributed cluster; returns a
-  ``Sweep``: transition, laminar separation and separation on each side at every value.
+- ``sweep(case_doc, variable, values, *, scheduler, chunk, progress, methods)``: the swept
+  cases run through ``ibl.run_batch`` in chunks, locally or on a dask.distributed cluster;
+  returns a ``Sweep``: transition, laminar separation and separation on each side at every
+  value.  ``methods`` (laminar methods, ``LAMINAR_METHODS``) makes the laminar method a
+  swept choice: the whole range is run once per method, and each point says its method.
 - ``sweep_text(sweep, units)``, ``sweep_csv(sweep, units)``: readable and CSV tables. The
   CSV is plain: its first line is the header row, units in brackets in the header names
   (``separation_s [m]``, ``reynolds [-]``), as in ``ibl.table``.
@@ -46,6 +48,7 @@ if TYPE_CHECKING:
 
 __all__ = [
     "DEFAULT_CHUNK",
+    "LAMINAR_METHODS",
     "VARIABLES",
     "SidePositions",
     "Sweep",
@@ -63,6 +66,9 @@ __all__ = [
 ]
 
 Variable = Literal["reynolds", "turbulence_intensity", "mach", "trip_upper", "trip_lower", "trip"]
+
+#: The laminar methods a sweep can run as a swept choice (``laminar.method`` of a case).
+LAMINAR_METHODS = ("thwaites", "finite_difference")
 
 #: Cases per call of ``run_batch`` when running locally.
 DEFAULT_CHUNK = 64
@@ -162,6 +168,8 @@ class SweepPoint(msgspec.Struct, frozen=True, kw_only=True):
     sides: list[SidePositions]
     warnings: list[str]
     error: str | None = None
+    #: The laminar method of this point when the sweep runs it as a swept choice.
+    laminar_method: str | None = None
 
 
 class Sweep(msgspec.Struct, frozen=True, kw_only=True):
@@ -175,6 +183,8 @@ class Sweep(msgspec.Struct, frozen=True, kw_only=True):
     length_unit: str = COORDINATE_UNIT
     caution: str = CAUTION
     turbulent_method: str = METHODS["head"].name
+    #: The laminar methods swept as a choice (each point carries its own), or None.
+    methods: list[str] | None = None
 
 
 # ------------------------------------------------------------------------ the variable
@@ -390,6 +400,7 @@ def sweep(
     scheduler: str | Client | None = None,
     chunk: int | None = None,
     progress: bool = False,
+    methods: Sequence[str] | None = None,
 ) -> Sweep:
     """Run ``case_doc`` at every value of ``variable`` and collect where the layer changes.
 
@@ -408,6 +419,9 @@ def sweep(
         Cases per chunk: by default 64 here, or enough chunks for two per worker on a cluster.
     progress
         Show a tqdm progress bar on stderr.
+    methods
+        Laminar methods (of ``LAMINAR_METHODS``) to run the whole range with, one after the
+        other: the method as a swept choice.  None: the case's own method.
 
     Raises
     ------
@@ -421,22 +435,45 @@ def sweep(
         raise ValueError("a sweep needs at least one value")
     if chunk is not None and chunk < 1:
         raise ValueError("chunk must be at least 1")
+    if methods is not None:
+        unknown = [m for m in methods if m not in LAMINAR_METHODS]
+        if unknown or not methods or len(set(methods)) != len(methods):
+            raise ValueError(
+                f"laminar methods must be distinct names of {', '.join(LAMINAR_METHODS)}; "
+                f"got {', '.join(methods) or 'none'}"
+            )
+    docs: list[tuple[str | None, dict[str, Any]]] = [(None, case_doc)]
+    if methods is not None:
+        docs = []
+        for method in methods:
+            doc = copy.deepcopy(case_doc)
+            laminar = doc.get("laminar")
+            doc["laminar"] = {**(laminar if isinstance(laminar, dict) else {}), "method": method}
+            docs.append((method, doc))
     # A case that cannot be analysed at the first value is wrong in itself: say so once.
     first = parse_case(set_variable(case_doc, variable, values[0]))
-    run(first)
-    with _progress(len(values), progress) as bar:
-        if scheduler is None:
-            points = _run_local(case_doc, variable, values, chunk or DEFAULT_CHUNK, bar)
-        else:
-            points = _with_client(scheduler, case_doc, variable, values, chunk, bar)
+    for _, doc in docs:
+        run(parse_case(set_variable(doc, variable, values[0])))
+    points: list[SweepPoint] = []
+    with _progress(len(values) * len(docs), progress) as bar:
+        for swept, doc in docs:
+            if scheduler is None:
+                found = _run_local(doc, variable, values, chunk or DEFAULT_CHUNK, bar)
+            else:
+                found = _with_client(scheduler, doc, variable, values, chunk, bar)
+            points += [
+                msgspec.structs.replace(point, laminar_method=swept)
+                for point in msgspec.convert(found, list[SweepPoint])
+            ]
     unit = case_length_unit(case_doc)
     return Sweep(
         name=case_doc.get("name"),
         variable=variable,
         label=variable_label(variable, unit),
-        points=msgspec.convert(points, list[SweepPoint]),
+        points=points,
         length_unit=unit,
         turbulent_method=METHODS[first.turbulent.method].name,
+        methods=list(methods) if methods is not None else None,
     )
 
 
@@ -531,6 +568,7 @@ def sweep_csv_header(result: Sweep, *, units: str | None = None) -> list[str]:
     info = VARIABLES.get(result.variable)
     return [
         _header_name(result.variable, info.unit if info is not None else None, unit),
+        *(["laminar_method"] if result.methods else []),
         *(_header_name(column, CSV_UNITS[column], unit) for column in CSV_COLUMNS[1:]),
     ]
 
@@ -557,6 +595,13 @@ def sweep_notes(result: Sweep, *, units: str | None = None) -> str:
         f"# {_LAST_STATION}",
         f"# CAUTION: {CAUTION}",
     ]
+    if result.methods:
+        lines.insert(
+            -1,
+            "# laminar_method: the laminar method of the row (thwaites: Thwaites' integral "
+            "method; finite_difference: the boundary-layer equations by Keller's box scheme), "
+            f"swept as a choice over {', '.join(result.methods)}",
+        )
     return "\n".join(lines) + "\n"
 
 
@@ -570,12 +615,13 @@ def sweep_csv(result: Sweep, *, units: str | None = None) -> str:
     writer = csv.writer(buffer, lineterminator="\n")
     writer.writerow(sweep_csv_header(result, units=units))
     for point in result.points:
+        first = [_cell(point.value)] + ([_cell(point.laminar_method)] if result.methods else [])
         if point.error is not None:
-            writer.writerow([_cell(point.value)] + [""] * (len(CSV_COLUMNS) - 2) + [point.error])
+            writer.writerow(first + [""] * (len(CSV_COLUMNS) - 2) + [point.error])
             continue
         for side in point.sides:
             cells = [getattr(side, c) for c in CSV_COLUMNS[1:-1]]
-            writer.writerow([_cell(point.value), *(_cell(c) for c in cells), ""])
+            writer.writerow([*first, *(_cell(c) for c in cells), ""])
     return buffer.getvalue()
 
 
@@ -620,10 +666,11 @@ def sweep_text(result: Sweep, *, units: str | None = None) -> str:
     names = [s.side for p in result.points for s in p.sides]
     sides = list(dict.fromkeys(names))
     events = ("transition s (x)", "sep. s (x)", "plateau s", "min lambda / max H")
-    header = [result.variable] + [f"{n} {e}" for n in sides for e in events]
+    header = [result.variable] + (["laminar method"] if result.methods else [])
+    header += [f"{n} {e}" for n in sides for e in events]
     rows = []
     for point in result.points:
-        row = [f"{point.value:.4g}"]
+        row = [f"{point.value:.4g}"] + ([point.laminar_method or ""] if result.methods else [])
         if point.error is not None:
             row.append("error: " + point.error)
         else:

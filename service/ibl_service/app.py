@@ -31,6 +31,7 @@ from dataclasses import dataclass
 from typing import Any
 
 import anyio.to_thread
+import msgspec
 from litestar import Controller, Litestar, Request, Response, get, post
 from litestar.datastructures import State
 from litestar.exceptions import InternalServerException
@@ -95,8 +96,13 @@ def _warm_up_case(points_per_side: int = 60) -> Case:
 
 
 def warm_up() -> None:
-    """Analyse a small case once: compiles and caches the library's kernels."""
-    ibl.run(_warm_up_case())
+    """Analyse a small case once with each laminar method: compiles and caches the
+    library's kernels (the march with supplied laminar values is a compilation of its
+    own)."""
+    case = _warm_up_case()
+    ibl.run(case)
+    fd = msgspec.structs.replace(case.laminar, method="finite_difference")
+    ibl.run(msgspec.structs.replace(case, laminar=fd))
 
 
 @dataclass(slots=True)

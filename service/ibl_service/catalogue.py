@@ -32,20 +32,6 @@ class CatalogueChoice(_Entry, frozen=True):
     reference: str
 
 
-class CatalogueNumberOption(_Entry, frozen=True):
-    """A numeric option: its default and the published values, each with its source."""
-
-    default: float
-    choices: dict[str, str]
-
-
-class CatalogueNamedOption(_Entry, frozen=True):
-    """An option naming a law or closure: its default and each choice."""
-
-    default: str
-    choices: dict[str, CatalogueChoice]
-
-
 class CatalogueDefault(_Entry, frozen=True):
     """An option given by its default value alone, with an optional note."""
 
@@ -53,7 +39,48 @@ class CatalogueDefault(_Entry, frozen=True):
     note: str | None = None
 
 
+class CatalogueNumberOption(_Entry, frozen=True):
+    """A numeric option: its default and the published values, each with its source."""
+
+    default: float
+    choices: dict[str, str]
+    note: str | None = None
+
+
+class CatalogueNamedOption(_Entry, frozen=True):
+    """An option naming a law or closure: its default and each choice."""
+
+    default: str
+    choices: dict[str, CatalogueChoice]
+    note: str | None = None
+
+
+class CatalogueFiniteDifferenceGrid(_Entry, frozen=True):
+    """The grid across the layer of the finite-difference laminar method."""
+
+    eta_points: int
+    eta_max: float
+    eta_stretch: float
+
+
+class CatalogueLaminarMethod(_Entry, frozen=True):
+    """One laminar method: what it does and its source."""
+
+    summary: str
+    reference: str
+    grid: CatalogueFiniteDifferenceGrid | None = None
+    accuracy: str | None = None
+
+
+class CatalogueLaminarMethodOption(_Entry, frozen=True):
+    """The choice of laminar method (``laminar.method``)."""
+
+    default: str
+    choices: dict[str, CatalogueLaminarMethod]
+
+
 class CatalogueLaminarOptions(_Entry, frozen=True):
+    method: CatalogueLaminarMethodOption
     separation_lambda: CatalogueNumberOption
     closure: CatalogueNamedOption
 

@@ -15,6 +15,7 @@
     "/flow/mach": "mach",
     "/flow": "flow",
     "/transition/criterion": "criterion",
+    "/laminar/method": "laminar-method",
     "/transition/trip/upper": "trip-upper",
     "/transition/trip/lower": "trip-lower",
     "/transition/trip/surface": "trip-surface",
@@ -218,6 +219,8 @@
     setField("mach", flow.mach == null ? 0 : flow.mach);
     const transition = doc && typeof doc.transition === "object" && doc.transition ? doc.transition : {};
     $("criterion").value = transition.criterion || "michel";
+    const laminar = doc && typeof doc.laminar === "object" && doc.laminar ? doc.laminar : {};
+    $("laminar-method").value = laminar.method || "thwaites";
     const trip = transition.trip && typeof transition.trip === "object" ? transition.trip : {};
     setField("trip-upper", trip.upper);
     setField("trip-lower", trip.lower);
@@ -264,6 +267,11 @@
       delete transition.trip;
     }
     doc.transition = transition;
+    doc.laminar = Object.assign(
+      {},
+      typeof doc.laminar === "object" && doc.laminar ? doc.laminar : {},
+      { method: $("laminar-method").value },
+    );
     return doc;
   }
 
