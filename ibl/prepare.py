@@ -1108,6 +1108,10 @@ def _nose_gradients(
             secant(d_after, b + 1)
         ok = bool(np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after)))
         return d_s0, d_before, d_after, "" if ok else "a slope's secant ends at Ue = 0"
+    if a < b:
+        return d_s0, d_before, d_after, (
+            "the nose holds several points of equal value: the model switches under any change"
+        )
     p_s0, p_slope, _, v_s0, v_slope, _ = stagnation_models(arc, q, a, b)
     if s0 == arc[a] + v_s0 and slope == v_slope:
         sm, s_a = arc[a - 1] - arc[a], arc[a - 2] - arc[a]

@@ -1415,11 +1415,11 @@ def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
     """Why a side's derivatives are not computed, or None when they are."""
     if case.surface.s is None:
         nose = side.nose
+        if case.pressure.smoothing is not None:
+            return "the smoothing of a contour's values is not differentiated yet"
         if nose is None or nose.gap:
             gap = nose.gap if nose is not None else "no stagnation point model"
             return f"the contour's stagnation point is not differentiated: {gap}"
-        if case.pressure.smoothing is not None:
-            return "the smoothing of a contour's values is not differentiated yet"
         if nose.points.size != side.s.size:
             return "the side ends at a pressure plateau in the input, which is not differentiated"
     if side.axisymmetric and math.isfinite(state.thin_layer_s):
