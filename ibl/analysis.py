@@ -261,9 +261,7 @@ def _results(
             found = ready.plateaus[index]
             built.append(_side(side, state, convert, warnings, pointer, found, wanted))
             if case.output.sensitivities:
-                derived, notes = sensitivity.derivatives(
-                    case, side, state, pointer, profile_scale
-                )
+                derived, notes = sensitivity.derivatives(case, side, state, pointer, profile_scale)
                 built[-1] = msgspec.structs.replace(built[-1], sensitivities=derived)
                 warnings.extend(notes)
             if found is not None:

@@ -1109,8 +1109,11 @@ def _nose_gradients(
         ok = bool(np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after)))
         return d_s0, d_before, d_after, "" if ok else "a slope's secant ends at Ue = 0"
     if a < b:
-        return d_s0, d_before, d_after, (
-            "the nose holds several points of equal value: the model switches under any change"
+        return (
+            d_s0,
+            d_before,
+            d_after,
+            ("the nose holds several points of equal value: the model switches under any change"),
         )
     p_s0, p_slope, _, v_s0, v_slope, _ = stagnation_models(arc, q, a, b)
     if s0 == arc[a] + v_s0 and slope == v_slope:
@@ -1282,9 +1285,7 @@ def _split_contour(
             )
         )
     if not nose_gap:
-        d_s0, d_before, d_after, nose_gap = _nose_gradients(
-            arc, q, a, b, s0, slope_before, plateau
-        )
+        d_s0, d_before, d_after, nose_gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
     if axisymmetric:
         r_axis = radius if radius is not None else np.abs(y)
         axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
@@ -1336,6 +1337,7 @@ def _split_contour(
         out = np.zeros(n_in)
         np.add.at(out, inputs, values)
         return out
+
     position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
     along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)

@@ -27,7 +27,13 @@ stations are laminar or turbulent and how many are kept (discrete).
 
 Covered: sides of a single surface (``surface.s`` with edge velocity, or Cp or p at
 M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
-every transition criterion (Granville's two steps in ``_granville_bar``), trips.
+every transition criterion (Granville's two steps in ``_granville_bar``), trips; the
+sides of an unsmoothed contour, where the stagnation point's position s0 and slope come
+from a model fitted to the nose values (``prepare.Nose``): the slope's bar is kept apart,
+the effect of s0 on the side (its stations' s and the stagnation station's x, y, r) is a
+central difference of two marches of the side (``_stagnation_shift``), and
+``_contour_to_q`` sums them over the input points; the profile drag's share at the last
+station (seeded in ``_head_bar``).
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
@@ -1218,7 +1224,8 @@ def side_sensitivities(
             status[4] = ABSENT  # separated: no profile drag
         elif not (turbulent_march and turb[n - 1]):
             status[4] = LAMINAR_EDGE
-    if turbulent_march and (sep_seed[2] != 0.0 or wanted[3] or status[4] == OK and wanted[4]):
+    profile = wanted[4] and status[4] == OK
+    if turbulent_march and (sep_seed[2] != 0.0 or wanted[3] or profile):
         if start_kind == kernel.START_TURBULENT:
             start, th0, hh0 = sk[0], theta_in, h_in
         else:

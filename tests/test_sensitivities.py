@@ -272,7 +272,8 @@ def _check_contour(
     """Each side's derivatives against central differences of whole runs (the profile
     drag: the sides' shares summed against the case's profile drag), 1 % of the largest
     derivative of each array; ``expected`` the quantities present per side (null for the
-    others), those in ``zero`` zero in both.  Returns the largest error relative to that scale, per side and quantity."""
+    others), those in ``zero`` zero in both.  Returns the largest error relative to that
+    scale, per side and quantity."""
     result = ibl.run(ibl.parse_case(doc))
     codes = [w.code for w in result.warnings]
     assert "sensitivities_unavailable" not in codes, result.warnings
