@@ -277,12 +277,13 @@ def _check_contour(
     result = ibl.run(ibl.parse_case(doc))
     codes = [w.code for w in result.warnings]
     assert "sensitivities_unavailable" not in codes, result.warnings
-    base = np.array(doc["pressure"]["cp"], dtype=float)
+    key = next(iter(doc["pressure"]))
+    base = np.array(doc["pressure"][key], dtype=float)
     cases = []
     for i in range(base.size):
         for sign in (1.0, -1.0):
             moved = json.loads(json.dumps(doc))
-            moved["pressure"]["cp"][i] = float(base[i] + sign * STEP)
+            moved["pressure"][key][i] = float(base[i] + sign * STEP)
             moved["output"] = {"stations": False}
             cases.append(ibl.parse_case(moved))
     runs = ibl.run_batch(cases)
@@ -346,6 +347,34 @@ def test_open_contour_with_a_stagnation_point() -> None:
     doc = _ellipse(2.0, 80, 0.3 * np.pi, 1.7 * np.pi, 3e6)
     doc["transition"] = {"criterion": "michel"}
     _check_contour(doc, [{"transition", "friction_drag"}, {"friction_drag"}])
+
+
+def test_v_model_of_a_nose_tap_that_misses_the_stagnation_value() -> None:
+    # Coarse taps round a round nose (a unit circle's arc), edge velocity given: Ue =
+    # 3|s|/(1 + 3 s^2) except the tap nearest the nose, which reads 0.2 instead of 0.09
+    # (a tap that misses the stagnation value).  The parabola through three taps does not
+    # reach zero there, so the V of the secants through the two taps on each side locates
+    # the stagnation point: s0 and the slope move with those four values.  Laminar
+    # separation (the transition) on both sides.
+    arc = np.arange(-12, 13) * 0.1 + 0.03
+    ue = 3.0 * np.abs(arc) / (1.0 + 3.0 * arc**2)
+    ue[12] = 0.2
+    doc = {
+        "surface": {"x": (-np.cos(arc)).tolist(), "y": np.sin(arc).tolist()},
+        "pressure": {"edge_velocity": ue.tolist()},
+        "flow": {"reynolds": 1e6},
+        "transition": {"criterion": "michel"},
+        "output": {"stations": False, "sensitivities": list(CONTOUR_QUANTITIES)},
+    }
+    q = ue**2
+    s = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(np.cos(arc)), np.diff(np.sin(arc))))])
+    p_s0, _, _, v_s0, _, _ = ibl.prepare.stagnation_models(s, q, 12, 12)
+    located = ibl.run(ibl.parse_case(doc)).stagnation
+    assert located is not None
+    assert located.s == pytest.approx(s[12] + v_s0, abs=1e-12)  # the V, not the parabola
+    assert abs(v_s0 - p_s0) > 1e-3
+    both = {"transition", "laminar_separation", "friction_drag"}
+    _check_contour(doc, [both, both])
 
 
 def test_tripped_contour() -> None:
