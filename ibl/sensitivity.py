@@ -1529,7 +1529,7 @@ def _stagnation_shift(side: SideInput, profile_factor: float) -> F64:
     1e-16 / step)."""
     nose = side.nose
     assert nose is not None
-    delta = S0_STEP * float(side.s[-1])
+    delta = min(S0_STEP * float(side.s[-1]), 0.01 * float(side.s[1]))  # s[1] stays > 0
     moved = []
     for sign in (1.0, -1.0):
         s = side.s.copy()

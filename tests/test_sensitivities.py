@@ -377,6 +377,27 @@ def test_v_model_of_a_nose_tap_that_misses_the_stagnation_value() -> None:
     _check_contour(doc, [both, both])
 
 
+@pytest.mark.parametrize("shift", [0.0, 0.013])
+def test_sphere_meridian_contour(shift: float) -> None:
+    # A body of revolution given as a contour: the meridian of a unit sphere from 18
+    # degrees short of the rear on one side of the axis to the other, exact potential flow
+    # Ue = 1.5 U |sin phi| (Lamb, Hydrodynamics, the sphere), the radius |y|.  With a
+    # point on the nose (shift 0: a plateau of one point, skipped) and with the points
+    # shifted (the nose between points, placed on the axis: only the slopes move).
+    phi = np.linspace(-0.9 * np.pi, 0.9 * np.pi, 61) + shift
+    ue = 1.5 * np.abs(np.sin(phi))
+    doc = {
+        "surface": {"x": (-np.cos(phi)).tolist(), "y": np.sin(phi).tolist()},
+        "body": {"kind": "axisymmetric"},
+        "pressure": {"cp": (1.0 - ue**2).tolist()},
+        "flow": {"reynolds": 1e6},
+        "transition": {"criterion": "michel"},
+        "output": {"stations": False, "sensitivities": list(CONTOUR_QUANTITIES)},
+    }
+    both = {"transition", "laminar_separation", "separation", "friction_drag"}
+    _check_contour(doc, [both, both], skip=(30,) if shift == 0.0 else ())
+
+
 def test_tripped_contour() -> None:
     # Trips on both sides: transition held at the trip (derivative zero), the turbulent
     # layer from there.
