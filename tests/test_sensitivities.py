@@ -268,6 +268,7 @@ def _check_contour(
     expected: list[set[str]],
     skip: tuple[int, ...] = (),
     zero: frozenset[str] = frozenset(),
+    step: float = STEP,
 ) -> dict[str, float]:
     """Each side's derivatives against central differences of whole runs (the profile
     drag: the sides' shares summed against the case's profile drag), 1 % of the largest
@@ -283,7 +284,7 @@ def _check_contour(
     for i in range(base.size):
         for sign in (1.0, -1.0):
             moved = json.loads(json.dumps(doc))
-            moved["pressure"][key][i] = float(base[i] + sign * STEP)
+            moved["pressure"][key][i] = float(base[i] + sign * step)
             moved["output"] = {"stations": False}
             cases.append(ibl.parse_case(moved))
     runs = ibl.run_batch(cases)
@@ -307,7 +308,7 @@ def _check_contour(
                 got = np.sum([s.sensitivities.profile_drag for s in result.sides], axis=0)
             want = np.array(
                 [
-                    (figures[2 * i][k][name] - figures[2 * i + 1][k][name]) / (2.0 * STEP)
+                    (figures[2 * i][k][name] - figures[2 * i + 1][k][name]) / (2.0 * step)
                     for i in range(base.size)
                 ]
             )
@@ -341,12 +342,20 @@ def test_symmetric_ellipse_with_a_tap_on_the_stagnation_point() -> None:
     _check_contour(doc, [both, both], skip=(60,))
 
 
-def test_open_contour_with_a_stagnation_point() -> None:
+@pytest.mark.parametrize("key", ["cp", "p"])
+def test_open_contour_with_a_stagnation_point(key: str) -> None:
     # The front 40 % of the ellipse at 2 degrees, open: the sides run from the fitted
-    # stagnation point to the contour's two ends.
+    # stagnation point to the contour's two ends.  Also in pascals (p_inf = 1e5 Pa,
+    # q_inf = 500 Pa: d/dp = d/dCp / q_inf, the step scaled the same way).
     doc = _ellipse(2.0, 80, 0.3 * np.pi, 1.7 * np.pi, 3e6)
     doc["transition"] = {"criterion": "michel"}
-    _check_contour(doc, [{"transition", "friction_drag"}, {"friction_drag"}])
+    step = STEP
+    if key == "p":
+        cp = np.array(doc["pressure"]["cp"])
+        doc["pressure"] = {"p": (1e5 + 500.0 * cp).tolist()}
+        doc["pressure"].update(reference_pressure=1e5, dynamic_pressure=500.0)
+        step = STEP * 500.0
+    _check_contour(doc, [{"transition", "friction_drag"}, {"friction_drag"}], step=step)
 
 
 def test_v_model_of_a_nose_tap_that_misses_the_stagnation_value() -> None:
