@@ -320,12 +320,18 @@ def _check_contour(
     return errors
 
 
-def test_ellipse_section_at_incidence() -> None:
+@pytest.mark.parametrize("repeated", [False, True], ids=["implicit", "first point repeated"])
+def test_ellipse_section_at_incidence(repeated: bool) -> None:
     # A closed ellipse at 3 degrees: the stagnation point lies between taps (the
-    # parabola or V fitted to the nose taps moves with their values); every station's s,
+    # parabola fitted to the nose taps moves with their values); every station's s,
     # the split and the slope follow.  Transition on both sides, turbulent separation
     # before the rear stagnation point (so no profile drag: null without a warning).
+    # Closed implicitly, or with the first point repeated at the end (whose value the
+    # listing does not use: derivative zero in both).
     doc = _ellipse(3.0, 120, 1e-3, 1e-3 + 2.0 * np.pi, 2e6)
+    if repeated:
+        for values in (doc["surface"]["x"], doc["surface"]["y"], doc["pressure"]["cp"]):
+            values.append(values[0])
     both = {"transition", "separation", "friction_drag"}
     _check_contour(doc, [both, both | {"laminar_separation"}])
 
