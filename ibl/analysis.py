@@ -250,16 +250,18 @@ def _results(
         p = ready.prepared
         warnings = list(p.warnings)
         built = []
-        marched = []
         wanted = _wanted(case.output)
-        for index, side in enumerate(p.sides):
-            state = next(states)
-            marched.append(state)
+        marched = [next(states) for _ in p.sides]
+        profile_scale = None
+        if "profile_drag" in case.output.sensitivities and not _no_trailing_edge(p, marched):
+            axisymmetric = p.sides[0].axisymmetric
+            profile_scale = 0.5 if axisymmetric and _one_body(p.sides) else 1.0
+        for index, (side, state) in enumerate(zip(p.sides, marched, strict=True)):
             pointer = f"/sides/{index}"
             found = ready.plateaus[index]
             built.append(_side(side, state, convert, warnings, pointer, found, wanted))
             if case.output.sensitivities:
-                derived, notes = sensitivity.derivatives(case, side, state, pointer)
+                derived, notes = sensitivity.derivatives(case, side, state, pointer, profile_scale)
                 built[-1] = msgspec.structs.replace(built[-1], sensitivities=derived)
                 warnings.extend(notes)
             if found is not None:

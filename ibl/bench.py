@@ -20,7 +20,9 @@ Contents
   the march of the integral methods on the same sides, as a ratio with its target.
 - ``_sensitivity_figures``: at N = 200, the time per side of a plain march and of a
   march with the derivatives of every event and the friction drag
-  (``output.sensitivities``), and their ratio, measured in one run.
+  (``output.sensitivities``), and their ratio, measured in one run; then the same
+  ellipse as a contour, the whole case with and without every derivative (the profile
+  drag's included, and the two extra marches per side of the stagnation point's move).
 - ``finite_difference_analysis(n)``: a full analysis (``analyze(dict)``) of the ellipse with
   ``laminar.method = "finite_difference"`` against the same analysis with Thwaites' method,
   timed in turn in one run: the cost of the option, as a ratio (printed by ``main``).
@@ -234,6 +236,26 @@ def _sensitivity_figures(n: int, repeat: int) -> None:
             f"{n:>7} {side.name}: plain march {t_plain * 1e6:.1f} us, with all sensitivities "
             f"{t_derived * 1e6:.1f} us, ratio {t_derived / t_plain:.2f}"
         )
+    # The ellipse as a contour: the whole case, its stagnation point and split included.
+    doc = ellipse_case(n)
+    doc["output"] = {"stations": False}
+    cases = {"plain": parse_case(doc)}
+    doc["output"] = {"stations": False, "sensitivities": [*wanted, "profile_drag"]}
+    cases["derived"] = parse_case(doc)
+    for c in cases.values():
+        run(c)
+    whole: dict[str, list[float]] = {"plain": [], "derived": []}
+    for _ in range(repeat):
+        for key, c in cases.items():
+            start = time.perf_counter()
+            run(c)
+            whole[key].append(time.perf_counter() - start)
+    t_plain = statistics.median(whole["plain"])
+    t_derived = statistics.median(whole["derived"])
+    print(
+        f"{n:>7} contour case: plain {t_plain * 1e6:.1f} us, with all sensitivities "
+        f"{t_derived * 1e6:.1f} us, ratio {t_derived / t_plain:.2f}"
+    )
 
 
 #: Target: the finite-difference laminar march costs at most this many times the march of

@@ -123,6 +123,23 @@ class SideInput:
     turbulent_start: bool
     trip: float | None  # trip position in s, or None
     options: SideOptions
+    nose: Nose | None = None  # how a contour side's stations follow from the input values
+
+
+@dataclass(frozen=True, slots=True)
+class Nose:
+    """How a contour side's stations depend on the input pressure values, for
+    ``ibl.sensitivity``: the input point of each station, and the derivatives of the
+    stagnation point's arc position s0 and of the side's stagnation slope dUe/ds with
+    respect to q = (Ue/U_inf)^2 at each input point (from the model fitted to the nose
+    taps, ``stagnation_models``, or the secant of a plateau)."""
+
+    points: NDArray[np.int64]  # input index of each station; -1 at the stagnation point
+    s0_grad: F64  # d s0 / d q_j over the input points
+    slope_grad: F64  # d slope / d q_j over the input points
+    direction: float  # d s_i / d s0 of the stations beyond the stagnation point (-1 or +1)
+    position_grad: tuple[float, float, float]  # d(x0, y0, r0) / d s0 of station 0
+    gap: str  # why the side's derivatives are not available ("" when they are)
 
 
 @dataclass(slots=True)
@@ -1067,6 +1084,79 @@ def _stagnation_candidates(
     return best_a, best_b, best[0], best[1], best[2], best[3], best_dropped
 
 
+def _nose_gradients(
+    arc: F64, q: F64, a: int, b: int, s0: float, slope: float, plateau: bool
+) -> tuple[F64, F64, F64, str]:
+    """Derivatives of the stagnation point's arc position s0 and of the slopes before and
+    after it with respect to q at each listed point, as ``_stagnation_candidates`` and the
+    plateau rule of ``_split_contour`` chose them for the run a..b, and "" or why they do
+    not exist.  A plateau, or a run at an end of an open contour, holds s0 at a fixed arc
+    position and takes each slope as the secant Ue/distance to the first point beyond it;
+    a fitted model moves s0 with the values of its points (the parabola through three
+    points, or the V of two secants of Ue = sqrt(q))."""
+    n = q.size
+    d_s0, d_before, d_after = np.zeros(n), np.zeros(n), np.zeros(n)
+
+    def secant(target: F64, j: int) -> None:
+        target[j] = 0.5 / math.sqrt(q[j]) / abs(arc[j] - s0) if q[j] > 0.0 else math.nan
+
+    if a == 0 or b == n - 1 or plateau:
+        if a == 0:
+            secant(d_before, b + 1)
+            secant(d_after, b + 1)
+        elif b == n - 1:
+            secant(d_before, a - 1)
+            secant(d_after, a - 1)
+        else:
+            secant(d_before, a - 1)
+            secant(d_after, b + 1)
+        ok = bool(np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after)))
+        return d_s0, d_before, d_after, "" if ok else "a slope's secant ends at Ue = 0"
+    if a < b:
+        return (
+            d_s0,
+            d_before,
+            d_after,
+            ("the nose holds several points of equal value: the model switches under any change"),
+        )
+    p_s0, p_slope, _, v_s0, v_slope, _ = stagnation_models(arc, q, a, b)
+    if s0 == arc[a] + v_s0 and slope == v_slope:
+        sm, s_a = arc[a - 1] - arc[a], arc[a - 2] - arc[a]
+        sp, s_d = arc[b + 1] - arc[a], arc[b + 2] - arc[a]
+        if not sm < v_s0 < sp:
+            return d_s0, d_before, d_after, "the fitted stagnation point falls on a point"
+        u = np.sqrt(q[[a - 2, a - 1, b + 1, b + 2]])
+        left = (u[1] - u[0]) / (sm - s_a)
+        right = (u[3] - u[2]) / (s_d - sp)
+        g_left = np.array([-1.0, 1.0, 0.0, 0.0]) / (sm - s_a)
+        g_right = np.array([0.0, 0.0, -1.0, 1.0]) / (s_d - sp)
+        top = u[2] - u[1] + left * sm - right * sp
+        g_top = np.array([0.0, -1.0, 1.0, 0.0]) + sm * g_left - sp * g_right
+        down = left - right
+        g_meet = (g_top * down - top * (g_left - g_right)) / (down * down)
+        g_slope = 0.5 * (g_right - g_left)
+        dq = 0.5 / u  # dUe/dq
+        for k, j in enumerate((a - 2, a - 1, b + 1, b + 2)):
+            d_s0[j] += g_meet[k] * dq[k]
+            d_before[j] += g_slope[k] * dq[k]
+        return d_s0, d_before, d_before.copy(), ""
+    if a == b and s0 == arc[a] + p_s0 and slope == p_slope:
+        h0, h1 = arc[a] - arc[a - 1], arc[a + 1] - arc[a]
+        if not -h0 < p_s0 < h1:
+            return d_s0, d_before, d_after, "the fitted stagnation point falls on a point"
+        values = q[a - 1 : a + 2]
+        g_d0 = np.array([-1.0, 1.0, 0.0]) / h0
+        g_d1 = np.array([0.0, -1.0, 1.0]) / h1
+        g_c2 = (g_d1 - g_d0) / (h0 + h1)
+        g_c1 = g_d0 + g_c2 * h0
+        c2 = float(g_c2 @ values)
+        c1 = float(g_c1 @ values)
+        d_s0[a - 1 : a + 2] = -0.5 * (g_c1 * c2 - c1 * g_c2) / (c2 * c2)
+        d_before[a - 1 : a + 2] = g_c2 / (2.0 * math.sqrt(c2))
+        return d_s0, d_before, d_before.copy(), ""
+    return d_s0, d_before, d_after, "the stagnation point's model is not differentiated"
+
+
 def _stagnation_region(q: F64, a: int, b: int, tol: float, noise: float) -> tuple[int, int]:
     """The run a..b widened to the farthest points with q <= ``tol`` that are reached from it
     through points with q <= ``noise``."""
@@ -1139,6 +1229,7 @@ def _split_contour(
     a, b, s0, slope_before, slope_after, ue_vertex, plateau = _stagnation_candidates(
         arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
     )
+    nose_gap = ""
     if a >= 0:
         # Noisy taps round the stagnation point, some clipped to its value: every point at
         # the stagnation value reached through points within tap noise of it belongs to
@@ -1152,6 +1243,7 @@ def _split_contour(
             ue_vertex = float(np.sqrt(q[a : b + 1].min()))
     if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
+        nose_gap = "the sides start without a stagnation slope"
     if a < 0:
         # No stagnation point in the data: the sides start at the most upstream point as
         # from a sharp leading edge (the middle of a flat front face).
@@ -1164,6 +1256,7 @@ def _split_contour(
         ue_vertex = float(np.sqrt(np.min(q[a : b + 1])))
         slope_before = slope_after = float("nan")
         plateau = False
+        nose_gap = "no stagnation point in the data: the sides start as from a sharp edge"
         warnings.append(
             Notice(
                 code="no_stagnation_point",
@@ -1195,6 +1288,8 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
+    if not nose_gap:
+        d_s0, d_before, d_after, nose_gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
     if axisymmetric:
         r_axis = radius if radius is not None else np.abs(y)
         axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
@@ -1212,6 +1307,8 @@ def _split_contour(
                 )
             s0 = axis
             plateau = False
+            if not nose_gap:
+                d_s0[:] = 0.0  # placed on the axis: geometry only
     if plateau and b > a and arc[b] - arc[a] > PLATEAU_WARNING * total:
         warnings.append(
             Notice(
@@ -1233,6 +1330,18 @@ def _split_contour(
     if axisymmetric and radius_from_y:
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
     period = (n_in if implicit else n_in - 1) if closed else np.inf
+    seg = float(arc[i0 + 1] - arc[i0])
+    dx0, dy0 = float(x[i0 + 1] - x[i0]) / seg, float(y[i0 + 1] - y[i0]) / seg
+    dr0 = float(radius[i0 + 1] - radius[i0]) / seg if radius is not None else 0.0
+    if axisymmetric and radius_from_y:
+        dr0 = math.copysign(dy0, y0)
+    inputs = (index.astype(np.int64) % int(period)) if closed else index.astype(np.int64)
+
+    def over_inputs(values: F64) -> F64:
+        out = np.zeros(n_in)
+        np.add.at(out, inputs, values)
+        return out
+
     position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
     along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
@@ -1275,6 +1384,19 @@ def _split_contour(
         side_s, u, r, side_x, side_y = _side_rows(
             columns, arc, int(branch[0]), step, branch.size, s0, ue_start, x0, y0, r0
         )
+        nose = None
+        if not nose_gap:
+            before = branch is branches[0]
+            nose = Nose(
+                points=np.concatenate([[-1], inputs[branch]]),
+                s0_grad=over_inputs(d_s0),
+                slope_grad=over_inputs(d_before if before else d_after),
+                direction=1.0 if before else -1.0,
+                position_grad=(dx0, dy0, dr0),
+                gap="",
+            )
+        else:
+            nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
         if axisymmetric:
             zero_r = np.flatnonzero(r[1:-1] <= 0.0)
             if zero_r.size:
@@ -1302,6 +1424,7 @@ def _split_contour(
                 turbulent_start=False,
                 trip=trips.get(name),
                 options=options,
+                nose=nose,
             )
         )
     sides.sort(key=lambda side: side.name != "upper")

@@ -352,9 +352,13 @@ class Output(Struct, frozen=True):
             "single surface (Ue = 0; that entry is 0); a trip's position has derivative "
             "zero. Covered: single surfaces (surface.s), planar or axisymmetric (short of "
             "the thin-layer limit), edge_velocity, or cp or p at M = 0, smoothed (the "
-            "penalty held fixed) or not, with every transition criterion; elsewhere the "
-            "arrays are null with a sensitivities_unavailable warning saying why. Empty "
-            "(the default): none",
+            "penalty held fixed) or not, with every transition criterion; contours (x, y) "
+            "without smoothing, where the stagnation point, its slope and so every "
+            "station's s follow the nose values its model is fitted to; profile_drag (the "
+            "side's share, through theta, H and Ue at the trailing edge; null where the "
+            "case has no profile drag). Elsewhere (a smoothed contour, a nose of equal "
+            "values, a laminar trailing edge, ...) the arrays are null with a "
+            "sensitivities_unavailable warning saying why. Empty (the default): none",
         ),
     ] = msgspec.field(default_factory=list)
 
@@ -486,8 +490,8 @@ class MeshAdvice(Struct, frozen=True):
 
 
 class Sensitivities(Struct, frozen=True, kw_only=True):
-    """Derivatives of a side's events and friction drag with respect to each input
-    pressure value (one entry per input point of the case); members the case's
+    """Derivatives of a side's events, friction drag and profile drag share with respect
+    to each input pressure value (one entry per input point of the case); members the case's
     ``output.sensitivities`` does not ask for are absent, null where the event does not
     occur or the derivative is not available (then with a warning)."""
 
@@ -516,7 +520,10 @@ class Sensitivities(Struct, frozen=True, kw_only=True):
     ] = UNSET
     profile_drag: Annotated[
         list[float] | UnsetType | None,
-        Meta(description="d(the side's share of the profile drag)/d(input value)"),
+        Meta(
+            description="d(the side's share of the profile drag)/d(input value) [per "
+            "input unit]; the shares of the sides sum to the case's drag.profile"
+        ),
     ] = UNSET
 
 

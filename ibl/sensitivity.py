@@ -27,19 +27,27 @@ stations are laminar or turbulent and how many are kept (discrete).
 
 Covered: sides of a single surface (``surface.s`` with edge velocity, or Cp or p at
 M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
-every transition criterion (Granville's two steps in ``_granville_bar``), trips.
+every transition criterion (Granville's two steps in ``_granville_bar``), trips; the
+sides of an unsmoothed contour, where the stagnation point's position s0 and slope come
+from a model fitted to the nose values (``prepare.Nose``): the slope's bar is kept apart,
+the effect of s0 on the side (its stations' s and the stagnation station's x, y, r) is a
+central difference of two marches of the side (``_stagnation_shift``), and
+``_contour_to_q`` sums them over the input points; the profile drag's share at the last
+station (seeded in ``_head_bar``).
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from typing import Literal
 
 import numba
 import numpy as np
 from numpy.typing import NDArray
 
+from ibl import drag as drag_module
 from ibl import kernel
 from ibl import march as march_module
 from ibl import smoothing as smoothing_module
@@ -55,11 +63,13 @@ __all__ = ["QUANTITIES", "REASONS", "derivatives", "side_sensitivities"]
 F64 = NDArray[np.float64]
 
 #: The quantities, in the order of the rows of ``side_sensitivities``' output.
-QUANTITIES = ("transition", "laminar_separation", "separation", "friction_drag")
+QUANTITIES = ("transition", "laminar_separation", "separation", "friction_drag", "profile_drag")
 #: Status codes of ``side_sensitivities`` per quantity: derivatives computed, the event
 #: does not occur (or no friction drag), and the reasons why no derivative is given.
-OK, ABSENT, TANGENTIAL, TAPE_FULL, NOT_COVERED = 0, 1, 3, 4, 5
+OK, ABSENT, TANGENTIAL, TAPE_FULL, NOT_COVERED, LAMINAR_EDGE = 0, 1, 3, 4, 5, 6
 REASONS = {
+    LAMINAR_EDGE: "the layer is laminar at the trailing edge: the profile drag of a laminar "
+    "trailing edge is not differentiated",
     TANGENTIAL: "the criterion is crossed tangentially: the position has no derivative",
     TAPE_FULL: "the turbulent march took more steps than recorded",
     NOT_COVERED: "the march ended in a way that is not differentiated (numerical stop)",
@@ -67,6 +77,10 @@ REASONS = {
 #: Most recorded steps of the turbulent march per side beyond two per station, and the
 #: rows of the tape tried first (the march usually takes fewer than two steps per station).
 TAPE_STEPS, TAPE_FIRST_ROWS = 4000, 64
+#: Step of the central difference in a contour's stagnation point position, as a fraction
+#: of the side's length (common practice: near the square root of the rounding error
+#: 1e-16 times the scale of the march's truncation error, which the step must not resolve).
+S0_STEP = 1e-7
 
 _GN = GAUSS_NODES.copy()
 _GW = GAUSS_WEIGHTS.copy()
@@ -791,11 +805,14 @@ def _head_bar(
     keep: int,
     bu: F64,
     bdu: F64,
+    end_seed: F64,
 ) -> tuple[F64, F64]:
     """Reverse of the recorded turbulent march (``kernel._head`` and its tape) for every
     row k of the seeds: ``sep_seed[k]`` on the separation position, ``bcf[k, m]`` on Cf of
-    the turbulent station m.  Adds to ``bu``/``bdu`` (k, n); returns the bars of the start
-    position and of the start theta."""
+    the turbulent station m, ``end_seed[k]`` the factor f of the profile drag's share
+    f theta Ue^((H + 5)/2) at the last station.
+    Adds to ``bu``/``bdu`` (k, n); returns the bars of the start position and of the start
+    theta."""
     rows = sep_seed.shape[0]
     count = int(tape[0, 0])
     end_kind = int(tape[0, 1])
@@ -843,8 +860,16 @@ def _head_bar(
             v_t = step * (c[4] * h1 + c[5] * ynh + c[6] * k1[1] + c[7] * kn[1])
         m = j + 1
         seeded = land and not crossing and m < keep and turb[m]
+        last = seeded and m == n - 1
         for k in range(rows):
             bnt, bnh, pnb = yt[k], yh[k], pb[k]
+            if last and end_seed[k] != 0.0:
+                # The profile drag's share f theta Ue^((H + 5)/2) there (``ibl.drag``).
+                h_e, hp_e = _h_and_slope(ynh)
+                share = end_seed[k] * ynt * uk[m] ** (0.5 * (h_e + 5.0))
+                bnt += share / ynt
+                bnh += 0.5 * share * np.log(uk[m]) * hp_e
+                bu[k, m] += share * 0.5 * (h_e + 5.0) / uk[m]
             if bnt == 0.0 and bnh == 0.0 and pnb == 0.0 and sep_seed[k] == 0.0:
                 if not (seeded and bcf[k, m] != 0.0):
                     continue  # nothing flows back through this step for row k
@@ -946,13 +971,21 @@ def side_sensitivities(
     keep: int,
     wanted: NDArray[np.bool_],
     out: F64,
+    profile_factor: float,
+    slope_bar: F64,
+    xk: F64,
 ) -> NDArray[np.int64]:
     """Derivatives of a side's transition, laminar separation, separation and
     friction drag (rows of ``out``, ``QUANTITIES``) with respect to Ue/U_inf at each of its
     stations (columns), from the side's arrays as ``kernel.march_sides`` takes them and
     what it returned (``events`` row, turbulent flags, Cf and kept count of the stations);
-    ``wanted`` flags the quantities to compute (the others are left at zero).  Returns
-    the status of each quantity (``OK``, ``ABSENT`` or a reason in ``REASONS``).
+    ``wanted`` flags the quantities to compute (the others are left at zero).  The profile
+    drag's share is ``profile_factor`` theta Ue^((H + 5)/2) at the last station (2 for
+    Squire & Young, 4 pi r for Young); ``xk`` the stations' x, along which the friction
+    drag is integrated.  When ``slope_bar`` has a row per quantity the
+    stagnation slope is a parameter of its own (a contour's fitted model): its bars go
+    there instead of to Ue[1]/s[1].  Returns the status of each quantity (``OK``,
+    ``ABSENT`` or a reason in ``REASONS``).
     """
     n = sk.shape[0]
     rows = out.shape[0]
@@ -1112,7 +1145,7 @@ def side_sensitivities(
             status[2] = TANGENTIAL
     else:
         sep_seed[2] = 1.0
-    # Friction drag: trapezoids in s of g = Cf Ue^2 (times 2 pi r on a body of
+    # Friction drag: trapezoids in x of g = Cf Ue^2 (times 2 pi r on a body of
     # revolution), the first panel as g ~ s^p.
     bcf = np.zeros((rows, n))
     if wanted[3]:
@@ -1129,7 +1162,7 @@ def side_sensitivities(
             first = 1
             if keep > 2 and g[1] > 0.0 and g[2] > 0.0:
                 d1, d2 = sk[1] - sk[0], sk[2] - sk[0]
-                dx = sk[1] - sk[0]
+                dx = xk[1] - xk[0]
                 if not (d1 > 0.0 and d2 > d1):
                     bg[1] += 0.5 * dx
                 else:
@@ -1143,7 +1176,7 @@ def side_sensitivities(
         if keep - first < 2:
             total_ok = False
         for i in range(first, keep - 1):
-            half = 0.5 * (sk[i + 1] - sk[i])
+            half = 0.5 * (xk[i + 1] - xk[i])
             bg[i] += half
             bg[i + 1] += half
         for i in range(keep):
@@ -1185,7 +1218,14 @@ def side_sensitivities(
             status[3] = ABSENT
     # The turbulent march, backward, for the quantities that go through it.
     turbulent_march = start_kind == kernel.START_TURBULENT or np.isfinite(tr)
-    if turbulent_march and (sep_seed[2] != 0.0 or wanted[3]):
+    end_seed = np.zeros(rows)
+    if rows > 4 and wanted[4]:
+        if keep < n:
+            status[4] = ABSENT  # separated: no profile drag
+        elif not (turbulent_march and turb[n - 1]):
+            status[4] = LAMINAR_EDGE
+    profile = wanted[4] and status[4] == OK
+    if turbulent_march and (sep_seed[2] != 0.0 or wanted[3] or profile):
         if start_kind == kernel.START_TURBULENT:
             start, th0, hh0 = sk[0], theta_in, h_in
         else:
@@ -1235,6 +1275,8 @@ def side_sensitivities(
                 tape,
             )
         end_kind = int(tape[0, 1])
+        if rows > 4 and wanted[4] and status[4] == OK:
+            end_seed[4] = profile_factor
         if tape[0, 2] > 0.5:
             for k in range(2, rows):
                 if status[k] == OK:
@@ -1262,10 +1304,17 @@ def side_sensitivities(
                 keep,
                 bu,
                 bdu,
+                end_seed,
             )
         # A turbulent station at the start holds the start state.
         for m in range(keep):
             if sk[m] == start and turb[m]:
+                if m == n - 1:
+                    for k in range(rows):
+                        if end_seed[k] != 0.0:  # the start state at the last station
+                            share = end_seed[k] * th0 * uk[m] ** (0.5 * (hh0 + 5.0))
+                            tb[k] += share / th0
+                            bu[k, m] += share * 0.5 * (hh0 + 5.0) / uk[m]
                 for k in range(rows):
                     if bcf[k, m] != 0.0:
                         bt_, _, bu_ = _station_cf_bar(
@@ -1348,7 +1397,10 @@ def side_sensitivities(
     _integral_bar(sk, uk, due, rk, dr, n, bint, bu, bdu, wanted)
     if start_kind == kernel.START_STAGNATION:
         for k in range(rows):
-            bu[k, 1] += bdu[k, 0] / (sk[1] - sk[0])  # slope = Ue[1] / s[1]
+            if slope_bar.shape[0] == rows:
+                slope_bar[k] = bdu[k, 0]  # the slope of a fitted model
+            else:
+                bu[k, 1] += bdu[k, 0] / (sk[1] - sk[0])  # slope = Ue[1] / s[1]
             bdu[k, 0] = 0.0
     _derivative_bar(sk, uk, n, bdu, bu, wanted)
     for k in range(rows):
@@ -1373,7 +1425,14 @@ _NO_SUPPLY = np.full((4, 1), np.nan)
 def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
     """Why a side's derivatives are not computed, or None when they are."""
     if case.surface.s is None:
-        return "contours (x, y) are not differentiated yet (stagnation point and split)"
+        nose = side.nose
+        if case.pressure.smoothing is not None:
+            return "the smoothing of a contour's values is not differentiated yet"
+        if nose is None or nose.gap:
+            gap = nose.gap if nose is not None else "no stagnation point model"
+            return f"the contour's stagnation point is not differentiated: {gap}"
+        if nose.points.size != side.s.size:
+            return "the side ends at a pressure plateau in the input, which is not differentiated"
     if case.laminar.method != "thwaites":
         return f"the {case.laminar.method} laminar method is not differentiated yet"
     if case.turbulent.method != "head":
@@ -1442,11 +1501,105 @@ def _raw_q(case: Case) -> F64:
     return np.maximum(1.0 - cp, 0.0)
 
 
+def _figures(side: SideInput, state: SideState, profile_factor: float) -> F64:
+    """The side's figures in the order of ``QUANTITIES`` (NaN where absent): event
+    positions in the side's s, its friction drag (``ibl.drag.friction_drag`` over the kept
+    stations, as the result reports it) and its share of the profile drag."""
+    keep = state.count
+    friction = math.nan
+    if keep >= 2:
+        x = side.x[:keep] if side.x is not None else state.s
+        weight = 2.0 * math.pi * side.r[:keep] if side.axisymmetric else None
+        value = drag_module.friction_drag(state.s, x, state.ue, state.cf, weight)
+        friction = math.nan if value is None else value
+    profile = math.nan
+    if keep == side.s.size:
+        theta, ue, h = (float(a[-1]) for a in (state.theta, state.ue, state.shape_factor))
+        profile = profile_factor * theta * ue ** (0.5 * (h + 5.0))
+    return np.array(
+        [
+            state.transition_s,
+            state.laminar_separation_s,
+            state.separation_s,
+            friction,
+            profile,
+        ]
+    )
+
+
+def _stagnation_shift(side: SideInput, profile_factor: float) -> F64:
+    """d(figure)/d s0 of a contour side, the stagnation point's arc position moved with
+    the input values held: every station beyond the stagnation point moves by
+    ``nose.direction`` d s0 and the stagnation station's x, y (and r) along its segment.
+    One direction, by a central difference of two marches of the side with the step
+    ``S0_STEP`` of the side's length (the march is smooth in s0 where the derivatives
+    exist; the truncation error is of order step^2, the rounding error about
+    1e-16 / step)."""
+    nose = side.nose
+    assert nose is not None
+    delta = min(S0_STEP * float(side.s[-1]), 0.01 * float(side.s[1]))  # s[1] stays > 0
+    moved = []
+    for sign in (1.0, -1.0):
+        s = side.s.copy()
+        s[1:] += sign * delta * nose.direction
+        x, y, r = side.x, side.y, side.r.copy()
+        dx, dy, dr = nose.position_grad
+        if x is not None and y is not None:
+            x, y = x.copy(), y.copy()
+            x[0] += sign * delta * dx
+            y[0] += sign * delta * dy
+        if side.axisymmetric:
+            r[0] += sign * delta * dr
+        moved.append(replace(side, s=s, x=x, y=y, r=r))
+    up, down = march_module.march(moved)
+    return np.asarray(
+        (_figures(moved[0], up, profile_factor) - _figures(moved[1], down, profile_factor))
+        / (2.0 * delta)
+    )
+
+
+def _contour_to_q(side: SideInput, bars: F64, slope_bar: F64, shift: F64, n_in: int) -> F64:
+    """Derivatives with respect to q = (Ue/U_inf)^2 at each input point of a contour from
+    those with respect to Ue at the side's stations (``bars``), to its stagnation slope
+    (``slope_bar``) and to the stagnation point's position (``shift``)."""
+    nose = side.nose
+    assert nose is not None
+    out = np.zeros((bars.shape[0], n_in))
+    ue = side.ue
+    for i in range(1, ue.size):
+        if ue[i] > 0.0:
+            out[:, nose.points[i]] += bars[:, i] * 0.5 / ue[i]
+    out += slope_bar[:, None] * nose.slope_grad[None, :]
+    out += np.nan_to_num(shift)[:, None] * nose.s0_grad[None, :]
+    return out
+
+
+def _q_to_inputs(case: Case, bar_q: F64) -> F64:
+    """Derivatives with respect to q = (Ue/U_inf)^2 at each input point turned into
+    derivatives with respect to the input values: q = value^2 (edge velocity),
+    q = max(1 - Cp, 0), Cp = (p - p_inf)/q_inf."""
+    pressure = case.pressure
+    if pressure.edge_velocity is not None:
+        return np.asarray(bar_q * 2.0 * np.asarray(pressure.edge_velocity, dtype=np.float64))
+    result = np.where(_raw_q(case) > 0.0, -bar_q, 0.0)
+    if pressure.p is not None:
+        q_inf = _dynamic_pressure(case)
+        assert q_inf is not None
+        result /= q_inf
+    return np.asarray(result)
+
+
 def derivatives(
-    case: Case, side: SideInput, state: SideState, pointer: str
+    case: Case,
+    side: SideInput,
+    state: SideState,
+    pointer: str,
+    profile_scale: float | None = None,
 ) -> tuple[Sensitivities, list[Notice]]:
     """The ``sensitivities`` member of a marched side and the warnings that go with it:
-    the quantities the case's ``output.sensitivities`` asks for, per input point."""
+    the quantities the case's ``output.sensitivities`` asks for, per input point.
+    ``profile_scale`` is the side's part of the profile drag (1, or 1/2 for each side of
+    one body of revolution), None when the case has no profile drag."""
     pressure = case.pressure
     wrt: Literal["edge_velocity", "cp", "p"] = (
         "edge_velocity" if pressure.edge_velocity is not None else "p" if pressure.p else "cp"
@@ -1478,6 +1631,14 @@ def derivatives(
     events[8] = 1.0 if state.separation_turbulent else 0.0
     out = np.zeros((len(QUANTITIES), s.shape[1]))
     flags = np.array([name in wanted for name in QUANTITIES])
+    contour = side.nose is not None
+    factor = 0.0
+    if profile_scale is not None:
+        factor = profile_scale * (4.0 * math.pi * float(side.r[-1]) if side.axisymmetric else 2.0)
+    slope_bar = np.zeros(len(QUANTITIES) if contour else 0)
+    xs = s[0].copy()  # the friction drag is integrated in x: s on a single surface
+    if side.x is not None:
+        xs[: side.x.size] = side.x
     status = side_sensitivities(
         s[0],
         ue[0],
@@ -1490,11 +1651,19 @@ def derivatives(
         state.count,
         flags,
         out,
+        factor,
+        slope_bar,
+        xs,
     )
-    inputs = _to_inputs(case, side, out)
+    if contour:
+        shift = _stagnation_shift(side, factor)
+        n_in = len(case.surface.x or ())
+        inputs = _q_to_inputs(case, _contour_to_q(side, out, slope_bar, shift, n_in))
+    else:
+        inputs = _to_inputs(case, side, out)
     for name in wanted:
-        if name == "profile_drag":
-            continue  # a single surface has no profile drag
+        if name == "profile_drag" and profile_scale is None:
+            continue  # no profile drag (the drag's note says why)
         k = QUANTITIES.index(name)
         code = int(status[k])
         if code == OK:

@@ -187,14 +187,14 @@ def test_only_what_is_asked_for_and_nothing_by_default() -> None:
     assert "sensitivities" not in ibl.analyze(doc)["sides"][0]
 
 
-def test_contour_not_covered_is_null_with_a_warning() -> None:
+def test_contour_smoothed_is_null_with_a_warning() -> None:
     a, b = 0.5, 0.06
-    t = np.linspace(0.0, 2.0 * np.pi, 81)[:-1]
+    t = np.linspace(0.0, 2.0 * np.pi, 81)[:-1] + 0.01
     ratio = b / a
     ue = (1.0 + ratio) * np.abs(np.sin(t)) / np.sqrt(np.sin(t) ** 2 + ratio**2 * np.cos(t) ** 2)
     doc = {
         "surface": {"x": (a * np.cos(t)).tolist(), "y": (b * np.sin(t)).tolist()},
-        "pressure": {"cp": (1.0 - ue**2).tolist()},
+        "pressure": {"cp": (1.0 - ue**2).tolist(), "smoothing": 1e-9},
         "flow": {"reynolds": 1e6},
         "output": {"stations": False, "sensitivities": ["separation", "profile_drag"]},
     }
@@ -202,8 +202,251 @@ def test_contour_not_covered_is_null_with_a_warning() -> None:
     for side in result["sides"]:
         assert side["sensitivities"]["separation"] is None
         assert side["sensitivities"]["profile_drag"] is None
-    codes = [w["code"] for w in result["warnings"]]
-    assert "sensitivities_unavailable" in codes
+    found = [w for w in result["warnings"] if w["code"] == "sensitivities_unavailable"]
+    assert found and all("smoothing" in w["message"] for w in found)
+
+
+# ----------------------------------------------------------------------------- contours
+
+CONTOUR_QUANTITIES = (*QUANTITIES, "profile_drag")
+
+
+def _ellipse(alpha_deg: float, n: int, start: float, stop: float, reynolds: float) -> dict:
+    """Exact potential flow over the ellipse x = a cos t, y = b sin t at incidence alpha
+    (Milne-Thomson, Theoretical Hydrodynamics, the elliptic cylinder; no circulation):
+    |u|/U = (a + b) |sin(t - alpha)| / sqrt(a^2 sin^2 t + b^2 cos^2 t), as Cp = 1 - (u/U)^2,
+    on the points t = start + (stop - start) k/n (closed when stop - start = 2 pi)."""
+    a, b = 0.5, 0.06
+    alpha = math.radians(alpha_deg)
+    t = start + (stop - start) * np.arange(n) / n
+    ue = (a + b) * np.abs(np.sin(t - alpha)) / np.sqrt((a * np.sin(t)) ** 2 + (b * np.cos(t)) ** 2)
+    return {
+        "surface": {"x": (a * np.cos(t)).tolist(), "y": (b * np.sin(t)).tolist()},
+        "pressure": {"cp": (1.0 - ue**2).tolist()},
+        "flow": {"reynolds": reynolds},
+        "output": {"stations": False, "sensitivities": list(CONTOUR_QUANTITIES)},
+    }
+
+
+def _joukowski(alpha_deg: float, n: int, reynolds: float) -> dict:
+    """Exact potential flow over the symmetric Joukowski section of the circle of centre
+    (-0.1, 0) and radius 1.1 (z = zeta + 1/zeta), with the Kutta condition's circulation
+    (Milne-Thomson, Theoretical Hydrodynamics, Joukowski's aerofoil): speed on the circle
+    2 U |sin(phi - alpha) + sin alpha|, divided by |dz/dzeta| = |1 - 1/zeta^2|; the
+    points avoid the cusp (phi = 0), where both vanish.  Attached at the cusped trailing
+    edge, so it has a profile drag."""
+    eps, alpha = 0.1, math.radians(alpha_deg)
+    phi = 2.0 * np.pi * (np.arange(n) + 0.5) / n
+    zeta = -eps + (1.0 + eps) * np.exp(1j * phi)
+    z = zeta + 1.0 / zeta
+    ue = 2.0 * np.abs(np.sin(phi - alpha) + np.sin(alpha)) / np.abs(1.0 - 1.0 / zeta**2)
+    return {
+        "surface": {"x": z.real.tolist(), "y": z.imag.tolist()},
+        "pressure": {"cp": (1.0 - ue**2).tolist()},
+        "flow": {"reynolds": reynolds},
+        "output": {"stations": False, "sensitivities": list(CONTOUR_QUANTITIES)},
+    }
+
+
+def _contour_figures(result: Result) -> list[dict[str, float]]:
+    return [
+        {
+            "transition": side.transition.s if side.transition else math.nan,
+            "laminar_separation": side.laminar_separation.s
+            if side.laminar_separation
+            else math.nan,
+            "separation": side.separation.s if side.separation else math.nan,
+            "friction_drag": side.friction_drag if side.friction_drag is not None else math.nan,
+            "profile_drag": result.drag.profile if result.drag.profile is not None else math.nan,
+        }
+        for side in result.sides
+    ]
+
+
+def _check_contour(
+    doc: dict[str, Any],
+    expected: list[set[str]],
+    skip: tuple[int, ...] = (),
+    zero: frozenset[str] = frozenset(),
+    step: float = STEP,
+) -> dict[str, float]:
+    """Each side's derivatives against central differences of whole runs (the profile
+    drag: the sides' shares summed against the case's profile drag), 1 % of the largest
+    derivative of each array; ``expected`` the quantities present per side (null for the
+    others), those in ``zero`` zero in both.  Returns the largest error relative to that
+    scale, per side and quantity."""
+    result = ibl.run(ibl.parse_case(doc))
+    codes = [w.code for w in result.warnings]
+    assert "sensitivities_unavailable" not in codes, result.warnings
+    key = next(iter(doc["pressure"]))
+    base = np.array(doc["pressure"][key], dtype=float)
+    cases = []
+    for i in range(base.size):
+        for sign in (1.0, -1.0):
+            moved = json.loads(json.dumps(doc))
+            moved["pressure"][key][i] = float(base[i] + sign * step)
+            moved["output"] = {"stations": False}
+            cases.append(ibl.parse_case(moved))
+    runs = ibl.run_batch(cases)
+    assert all(isinstance(r, Result) for r in runs)
+    figures = [_contour_figures(r) for r in runs]  # type: ignore[arg-type]
+    errors: dict[str, float] = {}
+    keep = np.array([i not in skip for i in range(base.size)])
+    assert len(result.sides) == len(expected)
+    for k, (side, present) in enumerate(zip(result.sides, expected, strict=True)):
+        derived = side.sensitivities
+        assert isinstance(derived, ibl.schema.Sensitivities)
+        for name in CONTOUR_QUANTITIES:
+            got = getattr(derived, name)
+            if name not in present:
+                assert got is None, (side.name, name)
+                continue
+            assert got is not None, (side.name, name)
+            assert len(got) == base.size
+            got = np.array(got)
+            if name == "profile_drag":
+                got = np.sum([s.sensitivities.profile_drag for s in result.sides], axis=0)
+            want = np.array(
+                [
+                    (figures[2 * i][k][name] - figures[2 * i + 1][k][name]) / (2.0 * step)
+                    for i in range(base.size)
+                ]
+            )
+            scale = float(np.max(np.abs(want[keep])))
+            assert (scale == 0.0) == (name in zero), (side.name, name)
+            error = float(np.max(np.abs(got[keep] - want[keep]))) / (scale or 1.0)
+            errors[f"{side.name}.{name}"] = error
+            assert error <= TOLERANCE, (side.name, name, error)
+    return errors
+
+
+@pytest.mark.parametrize("repeated", [False, True], ids=["implicit", "first point repeated"])
+def test_ellipse_section_at_incidence(repeated: bool) -> None:
+    # A closed ellipse at 3 degrees: the stagnation point lies between taps (the
+    # parabola fitted to the nose taps moves with their values); every station's s,
+    # the split and the slope follow.  Transition on both sides, turbulent separation
+    # before the rear stagnation point (so no profile drag: null without a warning).
+    # Closed implicitly, or with the first point repeated at the end (whose value the
+    # listing does not use: derivative zero in both).
+    doc = _ellipse(3.0, 120, 1e-3, 1e-3 + 2.0 * np.pi, 2e6)
+    if repeated:
+        for values in (doc["surface"]["x"], doc["surface"]["y"], doc["pressure"]["cp"]):
+            values.append(values[0])
+    both = {"transition", "separation", "friction_drag"}
+    _check_contour(doc, [both, both | {"laminar_separation"}])
+
+
+def test_symmetric_ellipse_with_a_tap_on_the_stagnation_point() -> None:
+    # Zero incidence, a point exactly on the stagnation point (Cp = 1): a plateau of one
+    # point, the stagnation point held there, the slopes the secants to the next points.
+    # The derivative with respect to that point's value does not exist (Cp above 1 is
+    # clipped, below it the point leaves the plateau): it is skipped.
+    doc = _ellipse(0.0, 120, 0.0, 2.0 * np.pi, 2e6)
+    cp = doc["pressure"]["cp"]
+    assert cp[60] == pytest.approx(1.0, abs=1e-12)
+    both = {"transition", "separation", "friction_drag"}
+    _check_contour(doc, [both, both], skip=(60,))
+
+
+@pytest.mark.parametrize("key", ["cp", "p"])
+def test_open_contour_with_a_stagnation_point(key: str) -> None:
+    # The front 40 % of the ellipse at 2 degrees, open: the sides run from the fitted
+    # stagnation point to the contour's two ends.  Also in pascals (p_inf = 1e5 Pa,
+    # q_inf = 500 Pa: d/dp = d/dCp / q_inf, the step scaled the same way).
+    doc = _ellipse(2.0, 80, 0.3 * np.pi, 1.7 * np.pi, 3e6)
+    doc["transition"] = {"criterion": "michel"}
+    step = STEP
+    if key == "p":
+        cp = np.array(doc["pressure"]["cp"])
+        doc["pressure"] = {"p": (1e5 + 500.0 * cp).tolist()}
+        doc["pressure"].update(reference_pressure=1e5, dynamic_pressure=500.0)
+        step = STEP * 500.0
+    _check_contour(doc, [{"transition", "friction_drag"}, {"friction_drag"}], step=step)
+
+
+def test_v_model_of_a_nose_tap_that_misses_the_stagnation_value() -> None:
+    # Coarse taps round a round nose (a unit circle's arc), edge velocity given: Ue =
+    # 3|s|/(1 + 3 s^2) except the tap nearest the nose, which reads 0.2 instead of 0.09
+    # (a tap that misses the stagnation value).  The parabola through three taps does not
+    # reach zero there, so the V of the secants through the two taps on each side locates
+    # the stagnation point: s0 and the slope move with those four values.  Laminar
+    # separation (the transition) on both sides.
+    arc = np.arange(-12, 13) * 0.1 + 0.03
+    ue = 3.0 * np.abs(arc) / (1.0 + 3.0 * arc**2)
+    ue[12] = 0.2
+    doc = {
+        "surface": {"x": (-np.cos(arc)).tolist(), "y": np.sin(arc).tolist()},
+        "pressure": {"edge_velocity": ue.tolist()},
+        "flow": {"reynolds": 1e6},
+        "transition": {"criterion": "michel"},
+        "output": {"stations": False, "sensitivities": list(CONTOUR_QUANTITIES)},
+    }
+    q = ue**2
+    s = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(np.cos(arc)), np.diff(np.sin(arc))))])
+    p_s0, _, _, v_s0, _, _ = ibl.prepare.stagnation_models(s, q, 12, 12)
+    located = ibl.run(ibl.parse_case(doc)).stagnation
+    assert located is not None
+    assert located.s == pytest.approx(s[12] + v_s0, abs=1e-12)  # the V, not the parabola
+    assert abs(v_s0 - p_s0) > 1e-3
+    both = {"transition", "laminar_separation", "friction_drag"}
+    _check_contour(doc, [both, both])
+
+
+@pytest.mark.parametrize("shift", [0.0, 0.013])
+def test_sphere_meridian_contour(shift: float) -> None:
+    # A body of revolution given as a contour: the meridian of a unit sphere from 18
+    # degrees short of the rear on one side of the axis to the other, exact potential flow
+    # Ue = 1.5 U |sin phi| (Lamb, Hydrodynamics, the sphere), the radius |y|.  With a
+    # point on the nose (shift 0: a plateau of one point, skipped) and with the points
+    # shifted (the nose between points, placed on the axis: only the slopes move).
+    phi = np.linspace(-0.9 * np.pi, 0.9 * np.pi, 61) + shift
+    ue = 1.5 * np.abs(np.sin(phi))
+    doc = {
+        "surface": {"x": (-np.cos(phi)).tolist(), "y": np.sin(phi).tolist()},
+        "body": {"kind": "axisymmetric"},
+        "pressure": {"cp": (1.0 - ue**2).tolist()},
+        "flow": {"reynolds": 1e6},
+        "transition": {"criterion": "michel"},
+        "output": {"stations": False, "sensitivities": list(CONTOUR_QUANTITIES)},
+    }
+    both = {"transition", "laminar_separation", "separation", "friction_drag"}
+    _check_contour(doc, [both, both], skip=(30,) if shift == 0.0 else ())
+
+
+def test_tripped_contour() -> None:
+    # Trips on both sides: transition held at the trip (derivative zero), the turbulent
+    # layer from there.
+    doc = _ellipse(3.0, 120, 1e-3, 1e-3 + 2.0 * np.pi, 1e6)
+    doc["transition"] = {"criterion": "none", "trip": {"upper": 0.05, "lower": 0.1}}
+    result = ibl.run(ibl.parse_case(doc))
+    for side in result.sides:
+        assert isinstance(side.sensitivities, ibl.schema.Sensitivities)
+        assert side.sensitivities.transition == [0.0] * 120
+    both = {"transition", "separation", "friction_drag"}
+    _check_contour(doc, [both, both], zero=frozenset({"transition"}))
+
+
+@pytest.mark.parametrize("alpha", [0.0, 2.0])
+def test_profile_drag_of_a_joukowski_section(alpha: float) -> None:
+    # Squire & Young's profile drag, summed over the sides, against central differences
+    # of the case's profile drag; events and friction drag too.  An odd number of points
+    # puts one on the nose (phi = pi): at zero incidence it is the stagnation point
+    # (Cp = 1, a plateau of one point, whose own derivative does not exist: skipped).
+    doc = _joukowski(alpha, 161, 3e6)
+    both = {"transition", "friction_drag", "profile_drag"}
+    _check_contour(doc, [both, both], skip=(80,) if alpha == 0.0 else ())
+
+
+def test_equal_nose_values_are_null_with_a_warning() -> None:
+    # Zero incidence with the nose between two points of equal Cp: the stagnation model
+    # switches (one point or a run of equal points) under any change of either value, so
+    # no derivative exists.
+    doc = _joukowski(0.0, 160, 3e6)
+    result = ibl.analyze(doc)
+    for side in result["sides"]:
+        assert all(side["sensitivities"][name] is None for name in CONTOUR_QUANTITIES)
+    found = [w for w in result["warnings"] if w["code"] == "sensitivities_unavailable"]
+    assert found and all("equal" in w["message"] for w in found)
 
 
 @pytest.mark.parametrize(
