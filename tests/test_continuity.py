@@ -182,6 +182,7 @@ NOISY = {
 }
 
 
+@pytest.mark.slow  # twenty times smaller steps on noisy taps (about 8 s)
 @pytest.mark.parametrize("doc", NOISY.values(), ids=NOISY.keys())
 def test_turbulent_march_is_converged_on_noisy_taps(doc):
     # As tests/test_kernel.py: twenty times smaller steps move separation by less than

@@ -167,6 +167,7 @@ def test_laminar_closure_option():
         assert sep == pytest.approx(1 - 2.2 ** (-1 / 6), rel=1e-3)
 
 
+@pytest.mark.slow  # compiles the threaded kernel (about 10 s)
 def test_a_large_batch_split_between_threads_equals_single_runs(monkeypatch):
     # The march of a large batch is split into one kernel call per thread; every side
     # must come out as it does on its own.

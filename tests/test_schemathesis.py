@@ -33,7 +33,7 @@ from ibl_service.config import Settings
 
 #: Examples per operation: the full run (marked slow) and the quick one of the default run.
 FULL_EXAMPLES = 100
-QUICK_EXAMPLES = 10
+QUICK_EXAMPLES = 3
 
 #: Small limits keep generated bodies cheap; time limit generous for slow machines.
 APP = create_app(Settings(max_points=400, max_batch=8, time_limit_s=20.0))

@@ -33,6 +33,10 @@ from ibl.schema import Result
 from ibl_service.app import create_app
 from ibl_service.config import Settings
 
+# The first derivative compiles the backward sweep (about half a minute on these machines):
+# marked slow to keep the default run short; CI runs it in its slow step.
+pytestmark = pytest.mark.slow
+
 STEP = 1e-6
 TOLERANCE = 0.01
 QUANTITIES = ("transition", "laminar_separation", "separation", "friction_drag")
