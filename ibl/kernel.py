@@ -234,6 +234,26 @@ def _hermite(t: float, h: float, f0: float, f1: float, d0: float, d1: float) -> 
 def _derivative(s: F64, f: F64, n: int, out: F64) -> None:
     """Three-point, second-order derivative on a non-uniform grid (one-sided at the ends),
     then limited so that the Hermite interpolant does not overshoot."""
+    _stencil(s, f, n, out)
+    _limit(s, f, n, out)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _radius_peak(s: F64, r: F64, n: int, axisym: bool) -> tuple[int, float]:
+    """The last station of largest radius and its s on a body of revolution (the thin-layer
+    limit applies downstream of it); (n, inf) on a planar side."""
+    if not axisym:
+        return n, np.inf
+    i_peak = 0
+    for i in range(1, n):
+        if r[i] >= r[i_peak]:
+            i_peak = i
+    return i_peak, s[i_peak]
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _stencil(s: F64, f: F64, n: int, out: F64) -> None:
+    """Three-point, second-order derivative on a non-uniform grid (one-sided at the ends)."""
     for i in range(1, n - 1):
         h1 = s[i] - s[i - 1]
         h2 = s[i + 1] - s[i]
@@ -254,7 +274,6 @@ def _derivative(s: F64, f: F64, n: int, out: F64) -> None:
         - (a + b) / (a * b) * f[n - 2]
         + a / (b * (a + b)) * f[n - 3]
     )
-    _limit(s, f, n, out)
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -267,24 +286,30 @@ def _limit(s: F64, f: F64, n: int, d: F64) -> None:
     Fritsch, F. N. & Carlson, R. E. (1980) SIAM J. Numer. Anal. 17(2), 238-246.
     """
     for i in range(n - 1):
-        delta = (f[i + 1] - f[i]) / (s[i + 1] - s[i])
-        if delta == 0.0:
-            d[i] = 0.0
-            d[i + 1] = 0.0
-            continue
-        a = d[i] / delta
-        b = d[i + 1] / delta
-        if a < 0.0:
-            d[i] = 0.0
-            a = 0.0
-        if b < 0.0:
-            d[i + 1] = 0.0
-            b = 0.0
-        norm = a * a + b * b
-        if norm > 9.0:
-            t = 3.0 / np.sqrt(norm)
-            d[i] = t * a * delta
-            d[i + 1] = t * b * delta
+        _limit_interval(s, f, d, i)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _limit_interval(s: F64, f: F64, d: F64, i: int) -> None:
+    """The limiter of ``_limit`` on the interval from station i to i + 1."""
+    delta = (f[i + 1] - f[i]) / (s[i + 1] - s[i])
+    if delta == 0.0:
+        d[i] = 0.0
+        d[i + 1] = 0.0
+        return
+    a = d[i] / delta
+    b = d[i + 1] / delta
+    if a < 0.0:
+        d[i] = 0.0
+        a = 0.0
+    if b < 0.0:
+        d[i + 1] = 0.0
+        b = 0.0
+    norm = a * a + b * b
+    if norm > 9.0:
+        t = 3.0 / np.sqrt(norm)
+        d[i] = t * a * delta
+        d[i + 1] = t * b * delta
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1010,14 +1035,7 @@ def march_sides(
             cause = CAUSE_TRIP if trip <= crit else CAUSE_CRITERION
 
         # The thin-layer limit applies downstream of the last station of largest radius.
-        i_peak = n
-        s_peak = np.inf
-        if axisym:
-            i_peak = 0
-            for i in range(1, n):
-                if rk[i] >= rk[i_peak]:
-                    i_peak = i
-            s_peak = sk[i_peak]
+        i_peak, s_peak = _radius_peak(sk, rk, n, axisym)
 
         # Head (1958) from transition, theta continuous.
         for i in range(n):

@@ -379,50 +379,12 @@ def _derivative_bar(
     of the node gradients, weighted by each wanted row of ``dbars`` (k, n; overwritten),
     to the same row of ``fbars``."""
     d = np.empty(n)
-    for i in range(1, n - 1):
-        h1 = s[i] - s[i - 1]
-        h2 = s[i + 1] - s[i]
-        d[i] = (
-            -h2 / (h1 * (h1 + h2)) * f[i - 1]
-            + (h2 - h1) / (h1 * h2) * f[i]
-            + h1 / (h2 * (h1 + h2)) * f[i + 1]
-        )
-    a0 = s[1] - s[0]
-    b0 = s[2] - s[1]
-    d[0] = (
-        -(2 * a0 + b0) / (a0 * (a0 + b0)) * f[0]
-        + (a0 + b0) / (a0 * b0) * f[1]
-        - a0 / (b0 * (a0 + b0)) * f[2]
-    )
-    a1 = s[n - 1] - s[n - 2]
-    b1 = s[n - 2] - s[n - 3]
-    d[n - 1] = (
-        (2 * a1 + b1) / (a1 * (a1 + b1)) * f[n - 1]
-        - (a1 + b1) / (a1 * b1) * f[n - 2]
-        + a1 / (b1 * (a1 + b1)) * f[n - 3]
-    )
+    kernel._stencil(s, f, n, d)
     # The limiter forward, keeping the values entering each interval's pass.
     enter = np.empty((n, 2))
     for i in range(n - 1):
         enter[i, 0], enter[i, 1] = d[i], d[i + 1]
-        delta = (f[i + 1] - f[i]) / (s[i + 1] - s[i])
-        if delta == 0.0:
-            d[i] = 0.0
-            d[i + 1] = 0.0
-            continue
-        a = d[i] / delta
-        b = d[i + 1] / delta
-        if a < 0.0:
-            d[i] = 0.0
-            a = 0.0
-        if b < 0.0:
-            d[i + 1] = 0.0
-            b = 0.0
-        norm = a * a + b * b
-        if norm > 9.0:
-            t = 3.0 / np.sqrt(norm)
-            d[i] = t * a * delta
-            d[i + 1] = t * b * delta
+        kernel._limit_interval(s, f, d, i)
     for k in range(dbars.shape[0]):
         if wanted[k]:
             _derivative_row_bar(s, f, n, enter, dbars[k], fbars[k])
@@ -1239,13 +1201,7 @@ def side_sensitivities(
             hh0 = h_init
         theta_t = np.empty(n)
         h_t = np.empty(n)
-        s_peak = np.inf
-        if axisym:
-            i_peak = 0
-            for i in range(1, n):
-                if rk[i] >= rk[i_peak]:
-                    i_peak = i
-            s_peak = sk[i_peak]
+        _, s_peak = kernel._radius_peak(sk, rk, n, axisym)
         # A tape for the usual step count first (a large one costs more to allocate than
         # the march), the largest if that was not enough.
         tape = np.empty((TAPE_FIRST_ROWS + 2 * n, kernel.TAPE_COLUMNS))  # header by _head
