@@ -154,7 +154,7 @@ def corpus() -> list[dict[str, Any]]:
     docs.append(
         _with(
             _sphere(),
-            transition__trip={"upper": 0.5, "lower": 0.5},
+            transition__trip={"upper": 0.5},
             turbulent__method="lag_entrainment",
         )
     )
