@@ -163,15 +163,54 @@ def corpus() -> list[dict[str, Any]]:
     return docs
 
 
+def _difference(old: Any, new: Any, where: str) -> tuple[float, str]:
+    """The largest relative difference between two result documents, and where it is
+    (infinite where their structure or a non-number differs)."""
+    if isinstance(old, dict) and isinstance(new, dict):
+        if old.keys() != new.keys():
+            return math.inf, f"{where} (members {sorted(old.keys() ^ new.keys())})"
+        pairs = [(old[k], new[k], f"{where}/{k}") for k in old]
+    elif isinstance(old, list) and isinstance(new, list):
+        if len(old) != len(new):
+            return math.inf, f"{where} (length {len(old)} against {len(new)})"
+        pairs = [(a, b, f"{where}/{i}") for i, (a, b) in enumerate(zip(old, new, strict=True))]
+    elif isinstance(old, float | int) and isinstance(new, float | int):
+        if old == new:
+            return 0.0, where
+        return abs(old - new) / max(abs(old), abs(new)), where
+    else:
+        return (0.0, where) if old == new else (math.inf, where)
+    worst, at = 0.0, where
+    for a, b, w in pairs:
+        d, w2 = _difference(a, b, w)
+        if d > worst:
+            worst, at = d, w2
+    return worst, at
+
+
 def main(argv: list[str] | None = None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--quiet", action="store_true", help="print the total digest only")
+    parser.add_argument("--save", metavar="FILE", help="also write the results as JSON")
+    parser.add_argument(
+        "--compare", metavar="FILE", help="report the largest difference from saved results"
+    )
     args = parser.parse_args(argv)
     cases = []
     for doc in corpus():
         cases.append(parse_case(doc))
     total = hashlib.sha256()
-    for index, result in enumerate(run_batch(cases)):
+    results = run_batch(cases)
+    documents = [msgspec.to_builtins(r) if isinstance(r, Result) else str(r) for r in results]
+    if args.save:
+        Path(args.save).write_text(json.dumps(documents))
+    if args.compare:
+        saved = json.loads(Path(args.compare).read_text())
+        for index, (old, new) in enumerate(zip(saved, documents, strict=True)):
+            worst, where = _difference(old, new, "")
+            if worst > 0.0:
+                print(f"{index:3d} differs: largest relative difference {worst:.3g} at {where}")
+    for index, result in enumerate(results):
         # A refused case is part of the corpus too: its message must not change either.
         blob = msgspec.json.encode(result if isinstance(result, Result) else str(result))
         total.update(blob)
