@@ -63,6 +63,8 @@ Array = NDArray[np.float64]
 
 LAMINAR_COLOUR = "#1f77b4"
 TURBULENT_COLOUR = "#d62728"
+#: A validation comparison outside its tolerance by a known shortcoming of the method.
+KNOWN_MISS_COLOUR = "#8c8c8c"
 _DPI = 110
 _FOOTER_FONT = 7.5
 
@@ -754,6 +756,10 @@ def _check_label(check: Check) -> str:
     case = check.case.split(",")[0].removesuffix(" [finite difference]")
     quantity = check.quantity.split(" (")[0]
     method = " [FD]" if check.method == "finite_difference" else ""
+    # The turbulent method, where the case names it after its first comma.
+    for name, short in (("lag-entrainment", " [lag]"), ("Head's method", " [Head]")):
+        if check.case.endswith(name):
+            method += short
     return f"{case}{method}: {quantity} vs {check.against}"
 
 
@@ -768,7 +774,10 @@ def _deviation_panel(ax: Axes, checks: Sequence[Check]) -> None:
         )
         ratios.append(deviation / c.tolerance)
     rows = np.arange(len(checks))[::-1]
-    colours = ["#2ca02c" if c.within else TURBULENT_COLOUR for c in checks]
+    colours = [
+        "#2ca02c" if c.within else KNOWN_MISS_COLOUR if c.known_miss else TURBULENT_COLOUR
+        for c in checks
+    ]
     ax.barh(rows, ratios, color=colours, height=0.7)
     ax.axvline(-1.0, color="grey", lw=0.9, linestyle="--")
     ax.axvline(1.0, color="grey", lw=0.9, linestyle="--")
@@ -778,8 +787,12 @@ def _deviation_panel(ax: Axes, checks: Sequence[Check]) -> None:
         ax.axhline(len(checks) - solvers - 0.5, color="black", lw=0.8)
     ax.set_yticks(rows, [_check_label(c) for c in checks], fontsize=7.5)
     ax.set_ylim(-0.7, len(checks) - 0.3)
-    ax.set_xlim(-1.3, 1.3)
-    ax.set_xlabel("(computed - reference) / tolerance  [within tolerance: -1 to 1]")
+    reach = max([1.3, *(min(abs(r), 4.0) * 1.05 for r in ratios if math.isfinite(r))])
+    ax.set_xlim(-reach, reach)
+    ax.set_xlabel(
+        "(computed - reference) / tolerance  [within tolerance: -1 to 1; grey: a known miss "
+        "of the method, see its reason]"
+    )
     ax.set_title("every comparison of the report", fontsize=10)
     ax.grid(True, axis="x", lw=0.3, alpha=0.5)
 
@@ -828,6 +841,10 @@ def build_validation(checks: Sequence[Check], family: Mapping[str, Array]) -> Fi
         ax.tick_params(labelbottom=False)
     _family_panels(family_axes, family)
     passed = sum(1 for c in checks if c.within)
-    fig.suptitle(f"ibl validation: {passed} of {len(checks)} comparisons within tolerance")
+    known = sum(1 for c in checks if not c.within and c.known_miss)
+    fig.suptitle(
+        f"ibl validation: {passed} of {len(checks)} comparisons within tolerance, "
+        f"{known} known misses of the methods (grey)"
+    )
     add_footer(fig, caution_footer("Sources and tolerances: `ibl validate`."))
     return fig

@@ -20,7 +20,7 @@ from __future__ import annotations
 
 import functools
 import math
-from collections.abc import Callable
+from collections.abc import Callable, Sequence
 from dataclasses import dataclass
 from functools import cache
 from typing import Any, Literal
@@ -72,6 +72,11 @@ class Check(msgspec.Struct, frozen=True, kw_only=True):
     #: The laminar method of the case: "thwaites", or "finite_difference" for the same
     #: laminar reference case run with the finite-difference method.
     method: str = "thwaites"
+    #: A known shortcoming of the method: the comparison is expected outside the tolerance
+    #: (the reference's own scatter), and ``reason`` says why.  It counts as a miss in the
+    #: report, not as a failure of the code; a known miss found within tolerance is shown
+    #: as within.
+    known_miss: bool = False
 
 
 @dataclass(frozen=True)
@@ -88,6 +93,7 @@ class _Spec:
     unit: str = ""
     group: Literal["method", "reference solver"] = "method"
     method: str = "thwaites"
+    known_miss: bool = False
 
 
 def _check(spec: _Spec) -> Check:
@@ -105,6 +111,7 @@ def _check(spec: _Spec) -> Check:
         tolerance_kind=spec.kind,
         unit=spec.unit,
         within=bool(abs(deviation) <= spec.tolerance),
+        known_miss=spec.known_miss,
         source=spell_out(spec.source),
         against=spec.against,
         reason=spell_out(spec.reason),
@@ -679,14 +686,16 @@ def _equilibrium_specs() -> list[_Spec]:
                 against="Nash's equilibrium line",
                 case=f"equilibrium adverse-gradient layer Ue ~ s^{m:g}, Head's method",
                 quantity="Clauser's G at the computed beta",
-                tolerance=0.40,
+                tolerance=0.10,
                 kind="rel",
                 source=_NASH_SOURCE,
-                reason="Head's method has no equilibrium relation for the shear stress; "
-                "with Ludwieg-Tillmann friction its G runs 20 to 35 % above the line in "
-                "these flows (computed here), the shortcoming the lag equation was "
-                "introduced to remove (Green et al. 1977 [memory]); 40 % bounds it",
+                reason="known miss: Head's method has no equilibrium relation for the shear "
+                "stress; with Ludwieg-Tillmann friction its G runs 20 to 35 % above the line "
+                "in these flows (computed here), the shortcoming the lag equation was "
+                "introduced to remove (Green et al. 1977 [memory]). The tolerance is the "
+                "measured layers' scatter, as for the lag-entrainment row",
                 values=functools.partial(_nash_values, "head", m),
+                known_miss=True,
             )
         )
     return specs
@@ -1016,6 +1025,31 @@ def _line(cells: list[str], widths: list[int]) -> str:
     return "  ".join([*padded, cells[-1]])
 
 
+def _verdict(check: Check) -> str:
+    """The report's "ok" cell: yes, "known miss" (outside, a known shortcoming), or NO."""
+    if check.within:
+        return "yes"
+    return "known miss" if check.known_miss else "NO"
+
+
+def unexpected(checks: Sequence[Check]) -> list[Check]:
+    """The comparisons outside their tolerance that are not known misses: failures."""
+    return [c for c in checks if not c.within and not c.known_miss]
+
+
+def summary_line(checks: Sequence[Check]) -> str:
+    """One sentence: how many comparisons are within tolerance, how many are known misses
+    of the methods, and how many are unexpected failures."""
+    within = sum(1 for c in checks if c.within)
+    known = sum(1 for c in checks if not c.within and c.known_miss)
+    failed = len(unexpected(checks))
+    return (
+        f"{within} of {len(checks)} comparisons within tolerance; {known} known "
+        f"miss{'es' if known != 1 else ''} of the methods (marked, with the reason); "
+        f"{failed} unexpected."
+    )
+
+
 def report_text(checks: list[Check]) -> str:
     """The validation report as a readable table, with the known limits and the caution."""
     header = ["case", "quantity", "reference", "computed", "diff %", "tolerance", "ok", "source"]
@@ -1027,7 +1061,7 @@ def report_text(checks: list[Check]) -> str:
             _number(c.computed),
             f"{c.difference_percent:+.2f}",
             _tolerance(c),
-            "yes" if c.within else "NO",
+            _verdict(c),
             c.source,
         ]
         for c in checks
@@ -1046,10 +1080,9 @@ def report_text(checks: list[Check]) -> str:
             for row, check in zip(rows, checks, strict=True)
             if check.group == group
         ]
-    failed = sum(1 for c in checks if not c.within)
     lines += [
         "",
-        f"{len(checks) - failed} of {len(checks)} comparisons within tolerance.",
+        summary_line(checks),
         "",
         "Known limits of the methods:",
         *(f"  - {spell_out(limit)}" for limit in LIMITS),

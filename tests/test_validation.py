@@ -14,7 +14,7 @@ from similarity import load_csv, reference
 from ibl.analysis import CAUTION
 from ibl.cli import main
 from ibl.registry import spell_out
-from ibl.validation import LIMITS, Check, report_text, validate
+from ibl.validation import LIMITS, Check, report_text, summary_line, validate
 
 #: Reference tables of the test suite that hold rows with the same ids as the report.
 TABLES = {
@@ -31,17 +31,34 @@ def checks() -> list[Check]:
 
 
 def test_every_comparison_is_within_its_tolerance(checks: list[Check]) -> None:
-    outside = []
+    """Every comparison within its tolerance, except the known misses of the methods; and
+    each known miss really misses (a miss that no longer misses must lose its label)."""
+    outside, not_missing = [], []
     for c in checks:
         deviation = (
             c.computed / c.reference - 1.0
             if c.tolerance_kind == "rel"
             else (c.computed - c.reference)
         )
+        assert c.within == (abs(deviation) <= c.tolerance)
+        if c.known_miss:
+            if c.within:
+                not_missing.append(c.id)
+            continue
         if not abs(deviation) <= c.tolerance:
             outside.append(f"{c.case}: {c.quantity}: {deviation:+.4g} vs +-{c.tolerance}")
-        assert c.within == (abs(deviation) <= c.tolerance)
     assert not outside, outside
+    assert not not_missing, not_missing
+
+
+def test_known_misses_are_few_and_say_why(checks: list[Check]) -> None:
+    """Known misses: Head's method against Nash's equilibrium line (no lag in its shear
+    stress, Green et al. 1977 [memory]), and nothing else."""
+    missed = [c for c in checks if c.known_miss]
+    assert {c.id for c in missed} == {"head_nash_equilibrium"}
+    for c in missed:
+        assert c.reason.startswith("known miss:"), c.reason
+        assert c.tolerance <= 0.10  # the measured scatter, not a tolerance widened to pass
 
 
 def test_every_comparison_names_a_source_and_a_reason(checks: list[Check]) -> None:
@@ -102,7 +119,10 @@ def test_text_report_lists_every_row_and_the_limits(checks: list[Check]) -> None
     for limit in LIMITS:
         assert spell_out(limit) in text
     assert "CAUTION: " + CAUTION in text
-    assert f"{len(checks)} of {len(checks)} comparisons within tolerance" in text
+    known = sum(1 for c in checks if c.known_miss)
+    assert summary_line(checks) in text
+    assert f"{len(checks) - known} of {len(checks)} comparisons within tolerance" in text
+    assert f"{known} known misses" in text and "0 unexpected" in text
 
 
 def test_limits_name_the_known_weaknesses() -> None:
@@ -120,4 +140,4 @@ def test_cli_validate(tmp_path: Path, capsys: pytest.CaptureFixture[str]) -> Non
     assert main(["validate", "--format", "json"]) == 0
     doc = json.loads(capsys.readouterr().out)
     assert doc["caution"] == CAUTION
-    assert all(row["within"] and row["source"] for row in doc["checks"])
+    assert all((row["within"] or row["known_miss"]) and row["source"] for row in doc["checks"])
