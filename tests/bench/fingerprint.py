@@ -25,11 +25,13 @@ from typing import Any
 import msgspec
 import numpy as np
 
-from ibl.analysis import parse_case, run_batch
-from ibl.bench import ellipse_case
-from ibl.schema import Result
-
 ROOT = Path(__file__).resolve().parents[2]
+# The checkout this script is in, not whichever ``ibl`` the environment installed.
+sys.path.insert(0, str(ROOT))
+
+from ibl.analysis import parse_case, run_batch  # noqa: E402
+from ibl.bench import ellipse_case  # noqa: E402
+from ibl.schema import Result  # noqa: E402
 
 
 def _with(doc: dict[str, Any], **members: Any) -> dict[str, Any]:
