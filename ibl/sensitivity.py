@@ -30,10 +30,15 @@ M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
 every transition criterion (Granville's two steps in ``_granville_bar``), trips; the
 sides of an unsmoothed contour, where the stagnation point's position s0 and slope come
 from a model fitted to the nose values (``prepare.Nose``): the slope's bar is kept apart,
-the effect of s0 on the side (its stations' s and the stagnation station's x, y, r) is a
-central difference of two marches of the side (``_stagnation_shift``), and
-``_contour_to_q`` sums them over the input points; the profile drag's share at the last
-station (seeded in ``_head_bar``).
+and the same backward sweep carries the derivatives with respect to every station's s
+(each piece above through its interval's length and the distance from its start: the
+Hermite basis ``_basis_dh``, the stencil and limiter, the quadrature, the Runge-Kutta
+steps' points and the steps that end on a station, the start offset, Michel's Re_s,
+Granville's running integral, the friction drag's first panel), r (on a body of
+revolution) and x (the friction drag's abscissa); ``_stagnation_shift`` turns them into
+d/ds0 (every station beyond the stagnation point moves by +-ds0, the stagnation
+station's x and r along its segment) and ``_contour_to_q`` sums the three parts over the
+input points; the profile drag's share at the last station (seeded in ``_head_bar``).
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
@@ -1356,7 +1361,9 @@ def side_sensitivities(
                             bs[3, 2] += b_lg / d2
                             bs[3, 0] += b_lg / d1 - b_lg / d2
                     else:
-                        b_dx = g[1] / (1.0 + min(max(p, _P_LOW), _P_HIGH))
+                        clipped = min(max(p, _P_LOW), _P_HIGH)
+                        bg[1] += dx / (1.0 + clipped)
+                        b_dx = g[1] / (1.0 + clipped)
                 if geometry:
                     bx[3, 1] += b_dx
                     bx[3, 0] -= b_dx
@@ -1735,13 +1742,15 @@ def _contour_to_q(side: SideInput, bars: F64, slope_bar: F64, shift: F64, n_in: 
     (``slope_bar``) and to the stagnation point's position (``shift``)."""
     nose = side.nose
     assert nose is not None
-    out = np.zeros((bars.shape[0], n_in))
     ue = side.ue
-    for i in range(1, ue.size):
-        if ue[i] > 0.0:
-            out[:, nose.points[i]] += bars[:, i] * 0.5 / ue[i]
+    stations = np.flatnonzero(ue[1:] > 0.0) + 1
+    weights = bars[:, stations] * (0.5 / ue[stations])
+    points = nose.points[stations]
+    rows = weights.shape[0]
+    flat = (np.arange(rows)[:, None] * n_in + points[None, :]).ravel()
+    out = np.bincount(flat, weights.ravel(), minlength=rows * n_in).reshape(rows, n_in)
     out += slope_bar[:, None] * nose.slope_grad[None, :]
-    out += np.nan_to_num(shift)[:, None] * nose.s0_grad[None, :]
+    out += shift[:, None] * nose.s0_grad[None, :]
     return out
 
 
