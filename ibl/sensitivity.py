@@ -1748,7 +1748,8 @@ def _contour_to_q(side: SideInput, bars: F64, slope_bar: F64, shift: F64, n_in: 
     points = nose.points[stations]
     rows = weights.shape[0]
     flat = (np.arange(rows)[:, None] * n_in + points[None, :]).ravel()
-    out = np.bincount(flat, weights.ravel(), minlength=rows * n_in).reshape(rows, n_in)
+    summed = np.bincount(flat, weights.ravel(), minlength=rows * n_in)
+    out: F64 = np.asarray(summed, dtype=np.float64).reshape(rows, n_in)
     out += slope_bar[:, None] * nose.slope_grad[None, :]
     out += shift[:, None] * nose.s0_grad[None, :]
     return out
