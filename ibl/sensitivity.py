@@ -30,24 +30,27 @@ M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
 every transition criterion (Granville's two steps in ``_granville_bar``), trips; the
 sides of an unsmoothed contour, where the stagnation point's position s0 and slope come
 from a model fitted to the nose values (``prepare.Nose``): the slope's bar is kept apart,
-the effect of s0 on the side (its stations' s and the stagnation station's x, y, r) is a
-central difference of two marches of the side (``_stagnation_shift``), and
-``_contour_to_q`` sums them over the input points; the profile drag's share at the last
-station (seeded in ``_head_bar``).
+and the same backward sweep carries the derivatives with respect to every station's s
+(each piece above through its interval's length and the distance from its start: the
+Hermite basis ``_basis_dh``, the stencil and limiter, the quadrature, the Runge-Kutta
+steps' points and the steps that end on a station, the start offset, Michel's Re_s,
+Granville's running integral, the friction drag's first panel), r (on a body of
+revolution) and x (the friction drag's abscissa); ``_stagnation_shift`` turns them into
+d/ds0 (every station beyond the stagnation point moves by +-ds0, the stagnation
+station's x and r along its segment) and ``_contour_to_q`` sums the three parts over the
+input points; the profile drag's share at the last station (seeded in ``_head_bar``).
 Anything else returns a status code naming the reason (``REASONS``).
 """
 
 from __future__ import annotations
 
 import math
-from dataclasses import replace
 from typing import Literal
 
 import numba
 import numpy as np
 from numpy.typing import NDArray
 
-from ibl import drag as drag_module
 from ibl import kernel
 from ibl import march as march_module
 from ibl import smoothing as smoothing_module
@@ -58,7 +61,7 @@ from ibl.prepare import SideInput, _dynamic_pressure
 from ibl.schema import Case, Notice, Sensitivities
 from ibl.turbulent import H1_HIGH_BRANCH_MAX, H1_LOW_BRANCH_MIN
 
-__all__ = ["QUANTITIES", "REASONS", "derivatives", "side_sensitivities"]
+__all__ = ["QUANTITIES", "REASONS", "derivatives", "side_arrays", "side_sensitivities"]
 
 F64 = NDArray[np.float64]
 
@@ -77,10 +80,6 @@ REASONS = {
 #: Most recorded steps of the turbulent march per side beyond two per station, and the
 #: rows of the tape tried first (the march usually takes fewer than two steps per station).
 TAPE_STEPS, TAPE_FIRST_ROWS = 4000, 64
-#: Step of the central difference in a contour's stagnation point position, as a fraction
-#: of the side's length (common practice: near the square root of the rounding error
-#: 1e-16 times the scale of the march's truncation error, which the step must not resolve).
-S0_STEP = 1e-7
 
 _GN = GAUSS_NODES.copy()
 _GW = GAUSS_WEIGHTS.copy()
@@ -130,6 +129,45 @@ def _edge_bar(bu: F64, bdu: F64, j: int, b: tuple[float, ...], u_bar: float, us_
     bu[j + 1] += u_bar * b[1] + us_bar * b[5]
     bdu[j] += u_bar * b[2] + us_bar * b[6]
     bdu[j + 1] += u_bar * b[3] + us_bar * b[7]
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _basis_dh(t: float, h: float) -> tuple[float, ...]:
+    """Derivatives of the first eight coefficients of ``_basis`` (value and slope) with
+    respect to the interval's length h at a fixed distance t h from its start."""
+    t2 = t * t
+    t3 = t2 * t
+    a = (6 * t3 - 6 * t2) / h
+    return (
+        -a,
+        a,
+        -2 * t3 + 2 * t2,
+        -2 * t3 + t2,
+        (-18 * t2 + 12 * t) / (h * h),
+        (18 * t2 - 12 * t) / (h * h),
+        -(6 * t2 - 4 * t) / h,
+        -(6 * t2 - 2 * t) / h,
+    )
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _edge_dh(uk: F64, due: F64, j: int, d: tuple[float, ...]) -> tuple[float, float]:
+    """d/dh of the Hermite interpolant's value and slope on interval j (``_basis_dh``),
+    the node values and gradients held."""
+    f0, f1, d0, d1 = uk[j], uk[j + 1], due[j], due[j + 1]
+    return (
+        d[0] * f0 + d[1] * f1 + d[2] * d0 + d[3] * d1,
+        d[4] * f0 + d[5] * f1 + d[6] * d0 + d[7] * d1,
+    )
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _interval_bar(bs: F64, j: int, b_tau: float, b_h: float) -> None:
+    """Adds the bars of a quantity that depends on interval j through the distance tau
+    from its start (bar ``b_tau``, at a fixed position) and its length (bar ``b_h``, at a
+    fixed tau) to the bars of the station positions s_j and s_j+1."""
+    bs[j] -= b_tau + b_h
+    bs[j + 1] += b_h
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -288,12 +326,15 @@ def _laminar_bar(
     bu: F64,
     bdu: F64,
     bint: F64,
+    geo: tuple[F64, F64, F64],
 ) -> float:
     """Reverse of ``kernel._laminar_at``: adds bars times the derivatives of theta^2,
     lambda, Re_theta and Ue at ``at`` to the bars of Ue, Ue' and the cumulative integral at
     the stations (when ``accumulate``), and returns the same combination of their
     derivatives with respect to ``at``.  ``c0_slope`` is dc0/dUe[0]; r and r' are ones and
-    zeros when planar (the same arithmetic as the march's)."""
+    zeros when planar (the same arithmetic as the march's).  ``geo`` holds the bars of
+    the station positions, radii and radius gradients (filled when it has columns: the
+    position ``at`` held, the interval's stations move)."""
     j = 0
     while j < n - 2 and sk[j + 1] < at:
         j += 1
@@ -321,13 +362,16 @@ def _laminar_bar(
     bus = b_lam * theta2 / nu
     b_weight = -bt * theta2 / weight
     bu_ = b_u + b_re * root / nu + b_weight * rr * rr * THWAITES_B * u ** (THWAITES_B - 1.0)
-    br = b_weight * 2.0 * rr * u**THWAITES_B
+    brr = b_weight * 2.0 * rr * u**THWAITES_B
     btotal = bt * THWAITES_A * nu / weight
-    b_at = btotal * d_total + bu_ * us + bus * uu + br * rs
+    b_at = btotal * d_total + bu_ * us + bus * uu + brr * rs
     if accumulate:
         _edge_bar(bu, bdu, j, b, bu_, bus)
         bint[j] += btotal
         bu[0] += bt / weight * c0_slope
+        bs, br, bdr = geo
+        geometry = bs.shape[0] > 0
+        h_acc = 0.0  # d acc / dh at a fixed tau
         for q in range(4):
             bq = _basis(_GN[q] * t, h)
             uq, _, _ = _edge_at(uk, due, j, bq)
@@ -335,6 +379,20 @@ def _laminar_bar(
             if uq > 0.0:
                 w = btotal * h * t * _GW[q] * 5.0 * uq**4 * rq * rq
                 _edge_bar(bu, bdu, j, bq, w, 0.0)
+                if geometry:
+                    wr = btotal * h * t * _GW[q] * uq**5 * 2.0 * rq
+                    _edge_bar(br, bdr, j, bq, wr, 0.0)
+                    dq = _basis_dh(_GN[q] * t, h)
+                    uh, _ = _edge_dh(uk, due, j, dq)
+                    rh, _ = _edge_dh(rk, dr, j, dq)
+                    h_acc += _GW[q] * (5.0 * uq**4 * rq * rq * uh + uq**5 * 2.0 * rq * rh)
+        if geometry:
+            _edge_bar(br, bdr, j, b, brr, 0.0)
+            d = _basis_dh(t, h)
+            uh, ush = _edge_dh(uk, due, j, d)
+            rh, _ = _edge_dh(rk, dr, j, d)
+            b_h = btotal * h * t * h_acc + bu_ * uh + bus * ush + brr * rh
+            _interval_bar(bs, j, b_at, b_h)
     return float(b_at)
 
 
@@ -350,16 +408,22 @@ def _integral_bar(
     bu: F64,
     bdu: F64,
     wanted: NDArray[np.bool_],
+    bs: F64,
+    br: F64,
+    bdr: F64,
 ) -> None:
     """Reverse of the cumulative Thwaites integral at the stations (``kernel.march_sides``)
-    for every wanted row of the bars (k, n)."""
+    for every wanted row of the bars (k, n); also to the bars of the station positions,
+    radii and radius gradients when ``bs`` has columns."""
     rows = bint.shape[0]
+    geometry = bs.shape[1] > 0
     suffix = np.zeros(rows)
     for i in range(n - 1, 0, -1):
         for k in range(rows):
             suffix[k] += bint[k, i]  # the bar of the piece over interval i - 1
         iv = i - 1
         h = sk[iv + 1] - sk[iv]
+        piece_h = 0.0  # d(piece)/dh, the Gauss nodes at fixed fractions of the interval
         for q in range(4):
             b = _basis(_GN[q], h)
             u, _, _ = _edge_at(uk, due, iv, b)
@@ -369,15 +433,29 @@ def _integral_bar(
                 for k in range(rows):
                     if wanted[k] and suffix[k] != 0.0:
                         _edge_bar(bu[k], bdu[k], iv, b, suffix[k] * w, 0.0)
+                if geometry:
+                    wr = h * _GW[q] * u**5 * 2.0 * rq
+                    uh = (b[2] * due[iv] + b[3] * due[iv + 1]) / h
+                    rh = (b[2] * dr[iv] + b[3] * dr[iv + 1]) / h
+                    piece_h += _GW[q] * u**4 * rq * (u * rq + h * (5.0 * rq * uh + 2.0 * u * rh))
+                    for k in range(rows):
+                        if wanted[k] and suffix[k] != 0.0:
+                            _edge_bar(br[k], bdr[k], iv, b, suffix[k] * wr, 0.0)
+        if geometry:
+            for k in range(rows):
+                if wanted[k] and suffix[k] != 0.0:
+                    bs[k, iv + 1] += suffix[k] * piece_h
+                    bs[k, iv] -= suffix[k] * piece_h
 
 
 @numba.njit(cache=True, error_model="numpy")
 def _derivative_bar(
-    s: F64, f: F64, n: int, dbars: F64, fbars: F64, wanted: NDArray[np.bool_]
+    s: F64, f: F64, n: int, dbars: F64, fbars: F64, wanted: NDArray[np.bool_], sbars: F64
 ) -> None:
     """Reverse of ``kernel._derivative`` (stencil, then the limiter): adds the derivatives
     of the node gradients, weighted by each wanted row of ``dbars`` (k, n; overwritten),
-    to the same row of ``fbars``."""
+    to the same row of ``fbars``, and to that of ``sbars`` (the station positions) when it
+    has columns."""
     d = np.empty(n)
     kernel._stencil(s, f, n, d)
     # The limiter forward, keeping the values entering each interval's pass.
@@ -385,13 +463,33 @@ def _derivative_bar(
     for i in range(n - 1):
         enter[i, 0], enter[i, 1] = d[i], d[i + 1]
         kernel._limit_interval(s, f, d, i)
+    geometry = sbars.shape[1] > 0
     for k in range(dbars.shape[0]):
         if wanted[k]:
-            _derivative_row_bar(s, f, n, enter, dbars[k], fbars[k])
+            sbar = sbars[k] if geometry else sbars[0]
+            _derivative_row_bar(s, f, n, enter, dbars[k], fbars[k], sbar, geometry)
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _derivative_row_bar(s: F64, f: F64, n: int, enter: F64, dbar: F64, fbar: F64) -> None:
+def _end_stencil_bar(
+    a: float, b: float, f0: float, f1: float, f2: float, bar: float
+) -> tuple[float, float]:
+    """Bars of the spacings a = s1 - s0 and b = s2 - s1 of the one-sided stencil
+    (-(2a + b) b f0 + (a + b)^2 f1 - a^2 f2) / (a b (a + b)) from the bar of its value."""
+    q = a * b * (a + b)
+    value = (-(2 * a + b) * b * f0 + (a + b) ** 2 * f1 - a * a * f2) / q
+    n_a = -2 * b * f0 + 2 * (a + b) * f1 - 2 * a * f2
+    n_b = 2 * (a + b) * (f1 - f0)
+    return (
+        bar * (n_a - value * (2 * a * b + b * b)) / q,
+        bar * (n_b - value * (a * a + 2 * a * b)) / q,
+    )
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _derivative_row_bar(
+    s: F64, f: F64, n: int, enter: F64, dbar: F64, fbar: F64, sbar: F64, geometry: bool
+) -> None:
     """The backward part of ``_derivative_bar`` for one row."""
     # The limiter backward.
     for i in range(n - 2, -1, -1):
@@ -420,6 +518,9 @@ def _derivative_row_bar(s: F64, f: F64, n: int, enter: F64, dbar: F64, fbar: F64
             bi, bj = bdi, bdj
             fbar[i + 1] += bdelta / hs
             fbar[i] -= bdelta / hs
+            if geometry:
+                sbar[i + 1] -= bdelta * delta / hs
+                sbar[i] += bdelta * delta / hs
         dbar[i] = 0.0 if clip_i else bi
         dbar[i + 1] = 0.0 if clip_j else bj
     # The stencil backward.
@@ -433,12 +534,32 @@ def _derivative_row_bar(s: F64, f: F64, n: int, enter: F64, dbar: F64, fbar: F64
         fbar[i - 1] += -h2 / (h1 * (h1 + h2)) * dbar[i]
         fbar[i] += (h2 - h1) / (h1 * h2) * dbar[i]
         fbar[i + 1] += h1 / (h2 * (h1 + h2)) * dbar[i]
+        if geometry and dbar[i] != 0.0:
+            # value = N / Q, N = -h2^2 f_i-1 + (h2^2 - h1^2) f_i + h1^2 f_i+1,
+            # Q = h1 h2 (h1 + h2).
+            q = h1 * h2 * (h1 + h2)
+            value = (-h2 * h2 * f[i - 1] + (h2 * h2 - h1 * h1) * f[i] + h1 * h1 * f[i + 1]) / q
+            b_h1 = dbar[i] * (2 * h1 * (f[i + 1] - f[i]) - value * (2 * h1 * h2 + h2 * h2)) / q
+            b_h2 = dbar[i] * (2 * h2 * (f[i] - f[i - 1]) - value * (h1 * h1 + 2 * h1 * h2)) / q
+            sbar[i - 1] -= b_h1
+            sbar[i] += b_h1 - b_h2
+            sbar[i + 1] += b_h2
     fbar[0] += -(2 * a0 + b0) / (a0 * (a0 + b0)) * dbar[0]
     fbar[1] += (a0 + b0) / (a0 * b0) * dbar[0]
     fbar[2] += -a0 / (b0 * (a0 + b0)) * dbar[0]
     fbar[n - 1] += (2 * a1 + b1) / (a1 * (a1 + b1)) * dbar[n - 1]
     fbar[n - 2] += -(a1 + b1) / (a1 * b1) * dbar[n - 1]
     fbar[n - 3] += a1 / (b1 * (a1 + b1)) * dbar[n - 1]
+    if geometry:
+        b_a, b_b = _end_stencil_bar(a0, b0, f[0], f[1], f[2], dbar[0])
+        sbar[0] -= b_a
+        sbar[1] += b_a - b_b
+        sbar[2] += b_b
+        # The last node's stencil is minus the first one's on the reversed stations.
+        b_a, b_b = _end_stencil_bar(a1, b1, f[n - 1], f[n - 2], f[n - 3], -dbar[n - 1])
+        sbar[n - 1] += b_a
+        sbar[n - 2] += b_b - b_a
+        sbar[n - 3] -= b_b
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -462,10 +583,12 @@ def _event_bar(
     bu: F64,
     bdu: F64,
     bint: F64,
+    geo: tuple[F64, F64, F64],
 ) -> bool:
     """Adds ``scale`` times the derivatives of an event position ``at`` (the zero of
     ``kernel._margin`` of ``kind``) by the implicit-function rule; False when the margin
-    is crossed tangentially (no derivative)."""
+    is crossed tangentially (no derivative); and to the bars of the station positions and
+    radii in ``geo`` (``_laminar_bar``; Michel's Re_s counts from the first station)."""
     params = (n, c0, c0, nu, axisym)
     layer = (sk, uk, due, rk, dr, integral)
     _, lam, _, u = kernel._laminar_at(layer, params, at)
@@ -504,6 +627,7 @@ def _event_bar(
         bu,
         bdu,
         bint,
+        geo,
     )
     if not (g_s > 0.0 and np.isfinite(g_s)):
         return False
@@ -528,7 +652,10 @@ def _event_bar(
         bu,
         bdu,
         bint,
+        geo,
     )
+    if direct != 0.0 and geo[0].shape[0] > 0:
+        geo[0][0] -= w * direct  # sigma = at - s[0]
     return True
 
 
@@ -552,11 +679,15 @@ def _granville_bar(
     bu: F64,
     bdu: F64,
     bint: F64,
+    geo: tuple[F64, F64, F64],
 ) -> bool:
     """Adds ``scale`` times the derivatives of Granville's transition position (the
     instability point located by ``kernel._refine``, then the growth criterion crossed
     between stations by linear interpolation of its margin, as ``kernel.march_sides``
-    does); False when a crossing has no derivative."""
+    does), also to the bars of the station positions and radii in ``geo`` when it has
+    columns; False when a crossing has no derivative."""
+    bs, br, _ = geo
+    geometry = bs.shape[0] > 0
     lam = np.empty(n)
     re = np.empty(n)
     theta2 = np.empty(n)
@@ -619,6 +750,10 @@ def _granville_bar(
     b_si = 0.0
     if first:
         b_si += scale * (1.0 - frac)
+    elif geometry:
+        bs[hit - 1] += scale * (1.0 - frac)
+    if geometry:
+        bs[hit] += scale * frac
     b_gprev = b_frac * (-g_hit / (span * span))
     b_ghit = b_frac * (g_prev / (span * span))
     b_rei = 0.0
@@ -632,13 +767,19 @@ def _granville_bar(
     b_run[hit] += b_mean / d
     b_runi -= b_mean / d
     b_si += b_mean * mean_hit / d
+    if geometry:
+        bs[hit] -= b_mean * mean_hit / d
     if first:
         # g_prev = -growth(clip(lambda interpolated at s_i)).
         b_lc = -b_gprev * (_granville_growth_slope(lc_i) if -0.04 < lc_i < 0.04 else 0.0)
         if lam_sep < lam_i < LAMBDA_MAX:
             b_lam[ji - 1] += b_lc * (1.0 - frac_i)
             b_lam[ji] += b_lc * frac_i
-            b_si += b_lc * (lam[ji] - lam[ji - 1]) / (sk[ji] - sk[ji - 1])
+            rise = (lam[ji] - lam[ji - 1]) / (sk[ji] - sk[ji - 1])
+            b_si += b_lc * rise
+            if geometry:
+                bs[ji - 1] -= b_lc * rise * (1.0 - frac_i)
+                bs[ji] -= b_lc * rise * frac_i
     else:
         kp = hit - 1
         mean_p = (running[kp] - run_i) / (sk[kp] - s_i)
@@ -649,10 +790,16 @@ def _granville_bar(
         b_run[kp] += b_mp / dp
         b_runi -= b_mp / dp
         b_si += b_mp * mean_p / dp
+        if geometry:
+            bs[kp] -= b_mp * mean_p / dp
     # run_i = running interpolated at s_i.
     b_run[ji - 1] += b_runi * (1.0 - frac_i)
     b_run[ji] += b_runi * frac_i
-    b_si += b_runi * (running[ji] - running[ji - 1]) / (sk[ji] - sk[ji - 1])
+    rise = (running[ji] - running[ji - 1]) / (sk[ji] - sk[ji - 1])
+    b_si += b_runi * rise
+    if geometry:
+        bs[ji - 1] -= b_runi * rise * (1.0 - frac_i)
+        bs[ji] -= b_runi * rise * frac_i
     # re_i: Thwaites' state at s_i.
     b_si += _laminar_bar(
         sk,
@@ -674,6 +821,7 @@ def _granville_bar(
         bu,
         bdu,
         bint,
+        geo,
     )
     # The running integral of the clipped lambda (trapezoids).
     acc = 0.0
@@ -682,6 +830,11 @@ def _granville_bar(
         if acc == 0.0:
             continue
         half = 0.5 * acc * (sk[k] - sk[k - 1])
+        if geometry:
+            l0 = min(max(lam[k - 1], lam_sep), LAMBDA_MAX)
+            l1 = min(max(lam[k], lam_sep), LAMBDA_MAX)
+            bs[k] += 0.5 * acc * (l0 + l1)
+            bs[k - 1] -= 0.5 * acc * (l0 + l1)
         if lam_sep < lam[k] < LAMBDA_MAX:
             b_lam[k] += half
         if lam_sep < lam[k - 1] < LAMBDA_MAX:
@@ -699,6 +852,8 @@ def _granville_bar(
         bu[k] += b_re[k] * root / nu - bt * theta2[k] * THWAITES_B / uk[k]
         bint[k] += bt * THWAITES_A * nu / weight
         bu[0] += bt / weight * c0_slope
+        if geometry:
+            br[k] -= bt * theta2[k] * 2.0 / rk[k]
     # The instability point itself.
     return _event_bar(
         2,
@@ -720,6 +875,7 @@ def _granville_bar(
         bu,
         bdu,
         bint,
+        geo,
     )
 
 
@@ -750,6 +906,28 @@ def _station_cf_bar(
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _point_dh(
+    uk: F64, due: F64, rk: F64, dr: F64, j: int, t: float, h: float
+) -> tuple[float, float, float]:
+    """d/dh of Ue, Ue' and r'/r at fraction t of interval j of length h, the point held."""
+    d = _basis_dh(t, h)
+    b = _basis(t, h)
+    uh, ush = _edge_dh(uk, due, j, d)
+    rh, rsh = _edge_dh(rk, dr, j, d)
+    r, rs, _ = _edge_at(rk, dr, j, b)
+    return uh, ush, (rsh * r - rs * rh) / (r * r)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _rho_bar(
+    br: F64, bdr: F64, j: int, b: tuple[float, ...], bar: float, r: float, rs: float
+) -> None:
+    """Adds the bar of r'/r at a point of interval j to the bars of the node radii and
+    their gradients."""
+    _edge_bar(br, bdr, j, b, -bar * rs / (r * r), bar / r)
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _head_bar(
     sk: F64,
     uk: F64,
@@ -768,13 +946,20 @@ def _head_bar(
     bu: F64,
     bdu: F64,
     end_seed: F64,
+    bs: F64,
+    br: F64,
+    bdr: F64,
 ) -> tuple[F64, F64]:
     """Reverse of the recorded turbulent march (``kernel._head`` and its tape) for every
     row k of the seeds: ``sep_seed[k]`` on the separation position, ``bcf[k, m]`` on Cf of
     the turbulent station m, ``end_seed[k]`` the factor f of the profile drag's share
     f theta Ue^((H + 5)/2) at the last station.
-    Adds to ``bu``/``bdu`` (k, n); returns the bars of the start position and of the start
+    Adds to ``bu``/``bdu`` (k, n), and when ``bs`` has columns to the bars of the station
+    positions ``bs`` and of the radii and their gradients ``br``/``bdr`` (each step's
+    points held where they are, its interval's stations moved; a step that ends on a
+    station moves with it); returns the bars of the start position and of the start
     theta."""
+    geometry = bs.shape[1] > 0
     rows = sep_seed.shape[0]
     count = int(tape[0, 0])
     end_kind = int(tape[0, 1])
@@ -796,12 +981,20 @@ def _head_bar(
         u2, us2, uu2 = _edge_at(uk, due, j, b2)
         u4, us4, uu4 = _edge_at(uk, due, j, b4)
         # r'/r at the three positions and its derivative along s (zero when planar).
-        ra, rsa, rra = _edge_at(rk, dr, j, b1)
-        rho1, drho1 = rsa / ra, rra / ra - (rsa / ra) ** 2
-        ra, rsa, rra = _edge_at(rk, dr, j, b2)
-        rho2, drho2 = rsa / ra, rra / ra - (rsa / ra) ** 2
-        ra, rsa, rra = _edge_at(rk, dr, j, b4)
-        rho4, drho4 = rsa / ra, rra / ra - (rsa / ra) ** 2
+        ra1, rs1, rra = _edge_at(rk, dr, j, b1)
+        rho1, drho1 = rs1 / ra1, rra / ra1 - (rs1 / ra1) ** 2
+        ra2, rs2, rra = _edge_at(rk, dr, j, b2)
+        rho2, drho2 = rs2 / ra2, rra / ra2 - (rs2 / ra2) ** 2
+        ra4, rs4, rra = _edge_at(rk, dr, j, b4)
+        rho4, drho4 = rs4 / ra4, rra / ra4 - (rs4 / ra4) ** 2
+        if geometry:
+            # d/dh of Ue, Ue' and r'/r at the step's points (the points held).
+            u1h, us1h, rho1h = _point_dh(uk, due, rk, dr, j, (pos - left) / length, length)
+            t2 = (pos + 0.5 * step - left) / length
+            u2h, us2h, rho2h = _point_dh(uk, due, rk, dr, j, t2, length)
+            u4h, us4h, rho4h = 0.0, 0.0, 0.0
+            if not land:
+                u4h, us4h, rho4h = _point_dh(uk, due, rk, dr, j, (at_end - left) / length, length)
         r_ = tape[rec]
         k1 = _rhs_partials_stored(theta, h1, u1, us1, inv_nu, law, r_[6], r_[7], r_[8], rho1)
         y2t, y2h = theta + 0.5 * step * k1[0], h1 + 0.5 * step * k1[1]
@@ -907,6 +1100,18 @@ def _head_bar(
             p2b = u2b * us2 + us2b * uu2 + rho2b * drho2
             posb += p2b
             stepb += 0.5 * p2b
+            if geometry:
+                p1b = g[2] * us1 + g[3] * uu1 + g[4] * drho1
+                _interval_bar(bs[k], j, p1b, g[2] * u1h + g[3] * us1h + g[4] * rho1h)
+                _interval_bar(bs[k], j, p2b, u2b * u2h + us2b * us2h + rho2b * rho2h)
+                _rho_bar(br[k], bdr[k], j, b1, g[4], ra1, rs1)
+                _rho_bar(br[k], bdr[k], j, b2, rho2b, ra2, rs2)
+                _rho_bar(br[k], bdr[k], j, b4, rho4b, ra4, rs4)
+                if land:
+                    bs[k, j + 1] += stepb + pnb  # the step ends on station j + 1
+                else:
+                    p4b = u4b * us4 + us4b * uu4 + rho4b * drho4
+                    _interval_bar(bs[k], j, p4b, u4b * u4h + us4b * us4h + rho4b * rho4h)
             if land:
                 posb -= stepb  # the step is the room left to the station
             else:
@@ -936,6 +1141,7 @@ def side_sensitivities(
     profile_factor: float,
     slope_bar: F64,
     xk: F64,
+    geo_out: F64,
 ) -> NDArray[np.int64]:
     """Derivatives of a side's transition, laminar separation, separation and
     friction drag (rows of ``out``, ``QUANTITIES``) with respect to Ue/U_inf at each of its
@@ -946,8 +1152,10 @@ def side_sensitivities(
     Squire & Young, 4 pi r for Young); ``xk`` the stations' x, along which the friction
     drag is integrated.  When ``slope_bar`` has a row per quantity the
     stagnation slope is a parameter of its own (a contour's fitted model): its bars go
-    there instead of to Ue[1]/s[1].  Returns the status of each quantity (``OK``,
-    ``ABSENT`` or a reason in ``REASONS``).
+    there instead of to Ue[1]/s[1].  When ``geo_out`` (3, rows, n) has columns it
+    receives the derivatives with respect to the stations' s, r and x (the friction drag's
+    abscissa), Ue held.  Returns the status of each quantity (``OK``, ``ABSENT`` or a
+    reason in ``REASONS``).
     """
     n = sk.shape[0]
     rows = out.shape[0]
@@ -996,6 +1204,12 @@ def side_sensitivities(
     bu = np.zeros((rows, n))
     bdu = np.zeros((rows, n))
     bint = np.zeros((rows, n))
+    geometry = geo_out.shape[2] > 0
+    columns = n if geometry else 0
+    bs = np.zeros((rows, columns))
+    br = np.zeros((rows, columns))
+    bdr = np.zeros((rows, columns))
+    bx = np.zeros((rows, columns))
 
     tr_kind = 0 if cause == kernel.CAUSE_LAMINAR_SEPARATION else criterion
 
@@ -1024,6 +1238,7 @@ def side_sensitivities(
             bu[0],
             bdu[0],
             bint[0],
+            (bs[0], br[0], bdr[0]),
         ):
             status[0] = TANGENTIAL
     elif cause != kernel.CAUSE_TRIP:
@@ -1047,6 +1262,7 @@ def side_sensitivities(
             bu[0],
             bdu[0],
             bint[0],
+            (bs[0], br[0], bdr[0]),
         ):
             status[0] = TANGENTIAL
     # Laminar separation.
@@ -1074,6 +1290,7 @@ def side_sensitivities(
         bu[1],
         bdu[1],
         bint[1],
+        (bs[1], br[1], bdr[1]),
     ):
         status[1] = TANGENTIAL
     # Separation: laminar, or turbulent through the turbulent march below.
@@ -1103,6 +1320,7 @@ def side_sensitivities(
             bu[2],
             bdu[2],
             bint[2],
+            (bs[2], br[2], bdr[2]),
         ):
             status[2] = TANGENTIAL
     else:
@@ -1125,27 +1343,46 @@ def side_sensitivities(
             if keep > 2 and g[1] > 0.0 and g[2] > 0.0:
                 d1, d2 = sk[1] - sk[0], sk[2] - sk[0]
                 dx = xk[1] - xk[0]
+                b_dx = 0.0
                 if not (d1 > 0.0 and d2 > d1):
                     bg[1] += 0.5 * dx
+                    b_dx = 0.5 * g[1]
                 else:
                     lg = np.log(d2 / d1)
                     p = np.log(g[2] / g[1]) / lg
                     if _P_LOW < p < _P_HIGH:
                         bg[1] += dx / (1.0 + p) + dx / ((1.0 + p) ** 2 * lg)
                         bg[2] += -g[1] * dx / ((1.0 + p) ** 2 * lg * g[2])
+                        b_dx = g[1] / (1.0 + p)
+                        if geometry:
+                            # d/d lg of g1 dx / (1 + p), p = ln(g2/g1) / lg.
+                            b_lg = g[1] * dx * p / ((1.0 + p) ** 2 * lg)
+                            bs[3, 1] -= b_lg / d1
+                            bs[3, 2] += b_lg / d2
+                            bs[3, 0] += b_lg / d1 - b_lg / d2
                     else:
-                        bg[1] += dx / (1.0 + min(max(p, _P_LOW), _P_HIGH))
+                        clipped = min(max(p, _P_LOW), _P_HIGH)
+                        bg[1] += dx / (1.0 + clipped)
+                        b_dx = g[1] / (1.0 + clipped)
+                if geometry:
+                    bx[3, 1] += b_dx
+                    bx[3, 0] -= b_dx
         if keep - first < 2:
             total_ok = False
         for i in range(first, keep - 1):
             half = 0.5 * (xk[i + 1] - xk[i])
             bg[i] += half
             bg[i + 1] += half
+            if geometry:
+                bx[3, i + 1] += 0.5 * (g[i] + g[i + 1])
+                bx[3, i] -= 0.5 * (g[i] + g[i + 1])
         for i in range(keep):
             if bg[i] == 0.0 or not np.isfinite(g[i]):
                 continue
             bu[3, i] += bg[i] * cf[i] * 2.0 * uk[i] * wall[i]
             bcf[3, i] = bg[i] * uk[i] * uk[i] * wall[i]
+            if geometry and axisym:
+                br[3, i] += bg[i] * cf[i] * uk[i] * uk[i] * 2.0 * np.pi
             if turb[i]:
                 continue
             # A laminar station: Cf = 2 l(lambda) / Re_theta.
@@ -1176,6 +1413,8 @@ def side_sensitivities(
             bu[3, i] += b_re * root / nu - bt * th2 * THWAITES_B / uk[i]
             bint[3, i] += bt * THWAITES_A * nu / weight
             bu[3, 0] += bt / weight * c0_slope
+            if geometry:
+                br[3, i] -= bt * th2 * 2.0 / rk[i]
         if not total_ok:
             status[3] = ABSENT
     # The turbulent march, backward, for the quantities that go through it.
@@ -1261,6 +1500,9 @@ def side_sensitivities(
                 bu,
                 bdu,
                 end_seed,
+                bs,
+                br,
+                bdr,
             )
         # A turbulent station at the start holds the start state.
         for m in range(keep):
@@ -1303,6 +1545,7 @@ def side_sensitivities(
                     bu[k],
                     bdu[k],
                     bint[k],
+                    (bs[k], br[k], bdr[k]),
                 )
                 if start == tr and cause != kernel.CAUSE_TRIP:
                     if cause == kernel.CAUSE_CRITERION and criterion == 2:
@@ -1325,6 +1568,7 @@ def side_sensitivities(
                             bu[k],
                             bdu[k],
                             bint[k],
+                            (bs[k], br[k], bdr[k]),
                         ):
                             status[k] = TANGENTIAL
                     elif not _event_bar(
@@ -1347,21 +1591,39 @@ def side_sensitivities(
                         bu[k],
                         bdu[k],
                         bint[k],
+                        (bs[k], br[k], bdr[k]),
                     ):
                         status[k] = TANGENTIAL
+                elif start != tr and geometry:
+                    # The start offset s[0] + START_OFFSET (s[n-1] - s[0]).
+                    bs[k, 0] += b_start * (1.0 - kernel.START_OFFSET)
+                    bs[k, n - 1] += b_start * kernel.START_OFFSET
+        elif geometry:
+            for k in range(rows):
+                bs[k, 0] += pb[k]  # the start at the first station
     # Through the integral and the node gradients to the node values.
-    _integral_bar(sk, uk, due, rk, dr, n, bint, bu, bdu, wanted)
+    _integral_bar(sk, uk, due, rk, dr, n, bint, bu, bdu, wanted, bs, br, bdr)
     if start_kind == kernel.START_STAGNATION:
         for k in range(rows):
             if slope_bar.shape[0] == rows:
                 slope_bar[k] = bdu[k, 0]  # the slope of a fitted model
             else:
-                bu[k, 1] += bdu[k, 0] / (sk[1] - sk[0])  # slope = Ue[1] / s[1]
+                h0 = sk[1] - sk[0]
+                bu[k, 1] += bdu[k, 0] / h0  # slope = Ue[1] / s[1]
+                if geometry:
+                    bs[k, 1] -= bdu[k, 0] * uk[1] / (h0 * h0)
+                    bs[k, 0] += bdu[k, 0] * uk[1] / (h0 * h0)
             bdu[k, 0] = 0.0
-    _derivative_bar(sk, uk, n, bdu, bu, wanted)
+    _derivative_bar(sk, uk, n, bdu, bu, wanted, bs)
+    if geometry and axisym:
+        _derivative_bar(sk, rk, n, bdr, br, wanted, bs)
     for k in range(rows):
         for i in range(n):
             out[k, i] = bu[k, i]
+            if geometry:
+                geo_out[0, k, i] = bs[k, i]
+                geo_out[1, k, i] = br[k, i] if axisym else 0.0
+                geo_out[2, k, i] = bx[k, i]
     return status
 
 
@@ -1457,61 +1719,21 @@ def _raw_q(case: Case) -> F64:
     return np.maximum(1.0 - cp, 0.0)
 
 
-def _figures(side: SideInput, state: SideState, profile_factor: float) -> F64:
-    """The side's figures in the order of ``QUANTITIES`` (NaN where absent): event
-    positions in the side's s, its friction drag (``ibl.drag.friction_drag`` over the kept
-    stations, as the result reports it) and its share of the profile drag."""
-    keep = state.count
-    friction = math.nan
-    if keep >= 2:
-        x = side.x[:keep] if side.x is not None else state.s
-        weight = 2.0 * math.pi * side.r[:keep] if side.axisymmetric else None
-        value = drag_module.friction_drag(state.s, x, state.ue, state.cf, weight)
-        friction = math.nan if value is None else value
-    profile = math.nan
-    if keep == side.s.size:
-        theta, ue, h = (float(a[-1]) for a in (state.theta, state.ue, state.shape_factor))
-        profile = profile_factor * theta * ue ** (0.5 * (h + 5.0))
-    return np.array(
-        [
-            state.transition_s,
-            state.laminar_separation_s,
-            state.separation_s,
-            friction,
-            profile,
-        ]
-    )
-
-
-def _stagnation_shift(side: SideInput, profile_factor: float) -> F64:
+def _stagnation_shift(side: SideInput, geo: F64) -> F64:
     """d(figure)/d s0 of a contour side, the stagnation point's arc position moved with
-    the input values held: every station beyond the stagnation point moves by
-    ``nose.direction`` d s0 and the stagnation station's x, y (and r) along its segment.
-    One direction, by a central difference of two marches of the side with the step
-    ``S0_STEP`` of the side's length (the march is smooth in s0 where the derivatives
-    exist; the truncation error is of order step^2, the rounding error about
-    1e-16 / step)."""
+    the input values held, from the derivatives with respect to the stations' s, r and x
+    (``geo``, from ``side_sensitivities``): every station beyond the stagnation point
+    moves by ``nose.direction`` d s0 (its s is the distance from the stagnation point;
+    the stagnation station's stays 0), and the stagnation station's x (and r) along its
+    segment (``nose.position_grad``).  Positions are reported in the side's s, so there
+    is no term of their own."""
     nose = side.nose
     assert nose is not None
-    delta = min(S0_STEP * float(side.s[-1]), 0.01 * float(side.s[1]))  # s[1] stays > 0
-    moved = []
-    for sign in (1.0, -1.0):
-        s = side.s.copy()
-        s[1:] += sign * delta * nose.direction
-        x, y, r = side.x, side.y, side.r.copy()
-        dx, dy, dr = nose.position_grad
-        if x is not None and y is not None:
-            x, y = x.copy(), y.copy()
-            x[0] += sign * delta * dx
-            y[0] += sign * delta * dy
-        if side.axisymmetric:
-            r[0] += sign * delta * dr
-        moved.append(replace(side, s=s, x=x, y=y, r=r))
-    up, down = march_module.march(moved)
-    return np.asarray(
-        (_figures(moved[0], up, profile_factor) - _figures(moved[1], down, profile_factor))
-        / (2.0 * delta)
-    )
+    dx, _, dr = nose.position_grad
+    shift = nose.direction * geo[0, :, 1:].sum(axis=1) + dx * geo[2, :, 0]
+    if side.axisymmetric:
+        shift += dr * geo[1, :, 0]
+    return np.asarray(shift)
 
 
 def _contour_to_q(side: SideInput, bars: F64, slope_bar: F64, shift: F64, n_in: int) -> F64:
@@ -1520,13 +1742,16 @@ def _contour_to_q(side: SideInput, bars: F64, slope_bar: F64, shift: F64, n_in: 
     (``slope_bar``) and to the stagnation point's position (``shift``)."""
     nose = side.nose
     assert nose is not None
-    out = np.zeros((bars.shape[0], n_in))
     ue = side.ue
-    for i in range(1, ue.size):
-        if ue[i] > 0.0:
-            out[:, nose.points[i]] += bars[:, i] * 0.5 / ue[i]
+    stations = np.flatnonzero(ue[1:] > 0.0) + 1
+    weights = bars[:, stations] * (0.5 / ue[stations])
+    points = nose.points[stations]
+    rows = weights.shape[0]
+    flat = (np.arange(rows)[:, None] * n_in + points[None, :]).ravel()
+    summed = np.bincount(flat, weights.ravel(), minlength=rows * n_in)
+    out: F64 = np.asarray(summed, dtype=np.float64).reshape(rows, n_in)
     out += slope_bar[:, None] * nose.slope_grad[None, :]
-    out += np.nan_to_num(shift)[:, None] * nose.s0_grad[None, :]
+    out += shift[:, None] * nose.s0_grad[None, :]
     return out
 
 
@@ -1543,6 +1768,48 @@ def _q_to_inputs(case: Case, bar_q: F64) -> F64:
         assert q_inf is not None
         result /= q_inf
     return np.asarray(result)
+
+
+def side_arrays(
+    side: SideInput, state: SideState, flags: NDArray[np.bool_], factor: float, geometry: bool
+) -> tuple[NDArray[np.int64], F64, F64, F64]:
+    """``side_sensitivities`` on a marched side: the status per quantity, the derivatives
+    with respect to Ue/U_inf at the stations (rows ``QUANTITIES``), the bars of a contour's
+    stagnation slope (empty on a single surface), and when ``geometry`` those with
+    respect to the stations' s, r and x (3, rows, stations; else no columns).
+    ``flags`` the quantities wanted, ``factor`` the profile drag's (``side_sensitivities``)."""
+    s, ue, r, _, ints, reals = march_module._stack([side])
+    events = np.full(kernel.N_EVENT_FIELDS, np.nan)
+    events[1] = state.transition_s
+    events[2] = _CAUSE_CODES[state.transition_cause]
+    events[4] = state.laminar_separation_s
+    events[7] = state.separation_s
+    events[8] = 1.0 if state.separation_turbulent else 0.0
+    rows = len(QUANTITIES)
+    out = np.zeros((rows, s.shape[1]))
+    slope_bar = np.zeros(rows if side.nose is not None else 0)
+    geo = np.zeros((3, rows, s.shape[1] if geometry else 0))
+    xs = s[0].copy()  # the friction drag is integrated in x: s on a single surface
+    if side.x is not None:
+        xs[: side.x.size] = side.x
+    status = side_sensitivities(
+        s[0],
+        ue[0],
+        r[0],
+        ints[0],
+        reals[0],
+        events,
+        state.turbulent.copy(),
+        np.ascontiguousarray(state.cf),
+        state.count,
+        flags,
+        out,
+        factor,
+        slope_bar,
+        xs,
+        geo,
+    )
+    return status, out, slope_bar, geo
 
 
 def derivatives(
@@ -1578,41 +1845,14 @@ def derivatives(
         for name in wanted:
             unavailable(name, reason)
         return Sensitivities(with_respect_to=wrt, **values), notices
-    s, ue, r, _, ints, reals = march_module._stack([side])
-    events = np.full(kernel.N_EVENT_FIELDS, np.nan)
-    events[1] = state.transition_s
-    events[2] = _CAUSE_CODES[state.transition_cause]
-    events[4] = state.laminar_separation_s
-    events[7] = state.separation_s
-    events[8] = 1.0 if state.separation_turbulent else 0.0
-    out = np.zeros((len(QUANTITIES), s.shape[1]))
     flags = np.array([name in wanted for name in QUANTITIES])
     contour = side.nose is not None
     factor = 0.0
     if profile_scale is not None:
         factor = profile_scale * (4.0 * math.pi * float(side.r[-1]) if side.axisymmetric else 2.0)
-    slope_bar = np.zeros(len(QUANTITIES) if contour else 0)
-    xs = s[0].copy()  # the friction drag is integrated in x: s on a single surface
-    if side.x is not None:
-        xs[: side.x.size] = side.x
-    status = side_sensitivities(
-        s[0],
-        ue[0],
-        r[0],
-        ints[0],
-        reals[0],
-        events,
-        state.turbulent.copy(),
-        np.ascontiguousarray(state.cf),
-        state.count,
-        flags,
-        out,
-        factor,
-        slope_bar,
-        xs,
-    )
+    status, out, slope_bar, geo = side_arrays(side, state, flags, factor, contour)
     if contour:
-        shift = _stagnation_shift(side, factor)
+        shift = _stagnation_shift(side, geo)
         n_in = len(case.surface.x or ())
         inputs = _q_to_inputs(case, _contour_to_q(side, out, slope_bar, shift, n_in))
     else:

@@ -21,6 +21,7 @@ from __future__ import annotations
 
 import json
 import math
+from dataclasses import replace
 from typing import Any
 
 import msgspec
@@ -29,6 +30,9 @@ import pytest
 from litestar.testing import TestClient
 
 import ibl
+from ibl import sensitivity
+from ibl.march import SideState, march
+from ibl.prepare import SideInput, prepare
 from ibl.schema import Result
 from ibl_service.app import create_app
 from ibl_service.config import Settings
@@ -439,6 +443,147 @@ def test_profile_drag_of_a_joukowski_section(alpha: float) -> None:
     doc = _joukowski(alpha, 161, 3e6)
     both = {"transition", "friction_drag", "profile_drag"}
     _check_contour(doc, [both, both], skip=(80,) if alpha == 0.0 else ())
+
+
+# ------------------------------------------------- station positions and the stagnation point
+
+#: The profile drag's factor of a planar side (Squire & Young: 2 theta Ue^((H + 5)/2)).
+PLANAR_PROFILE = 2.0
+
+
+def _side_figures(side: SideInput, state: SideState) -> np.ndarray:
+    """A marched side's figures in the order of ``sensitivity.QUANTITIES``: event positions
+    in the side's s, its friction drag (``ibl.drag.friction_drag`` on the kept stations,
+    as the result reports it) and its profile drag share (NaN where absent)."""
+    keep = state.count
+    x = side.x[:keep] if side.x is not None else state.s
+    weight = 2.0 * math.pi * side.r[:keep] if side.axisymmetric else None
+    friction = ibl.drag.friction_drag(state.s, x, state.ue, state.cf, weight) if keep >= 2 else None
+    profile = math.nan
+    if keep == side.s.size:
+        theta, ue, h = (float(a[-1]) for a in (state.theta, state.ue, state.shape_factor))
+        profile = PLANAR_PROFILE * theta * ue ** (0.5 * (h + 5.0))
+    return np.array(
+        [
+            state.transition_s,
+            state.laminar_separation_s,
+            state.separation_s,
+            math.nan if friction is None else friction,
+            profile,
+        ]
+    )
+
+
+def _moved_difference(sides: list[SideInput], delta: float) -> np.ndarray:
+    """Central difference of the figures of two marched sides moved by +delta and -delta."""
+    up, down = march(sides)
+    return (_side_figures(sides[0], up) - _side_figures(sides[1], down)) / (2.0 * delta)
+
+
+def _station_cases() -> dict[str, dict[str, Any]]:
+    """Single surfaces of the checks above: every transition criterion, Howarth's flow,
+    a cone from a sharp tip and a sphere from its nose (bodies of revolution)."""
+    s = np.linspace(0.0, 1.0, 41)
+    ags = _surface(s, 1.0 - 0.2 * s, 2e6, transition={"criterion": "abu_ghannam_shaw"})
+    ags["flow"]["turbulence_intensity"] = 0.01
+    nose = np.linspace(0.0, 0.4 * np.pi, 54)  # a sphere of radius 0.5
+    sphere = _surface(nose, 1.5 * np.sin(nose / 0.5), 5e6)
+    sphere["body"] = {"kind": "axisymmetric", "radius": (0.5 * np.sin(nose / 0.5)).tolist()}
+    cone = _surface(s, 1.0 - 0.7 * s, 3e6)
+    cone["body"] = {"kind": "axisymmetric", "radius": (0.05 + 0.2 * s).tolist()}
+    howarth = np.linspace(0.0, 1.5, 41)
+    return {
+        "granville": _surface(s, 1.0 - 0.1 * s, 3e6, transition={"criterion": "granville"}),
+        "michel": _surface(s, 1.0 - 0.55 * s, 3e6),
+        "abu ghannam shaw": ags,
+        "howarth": _surface(howarth, 1.0 - howarth / 8.0, 1e5, transition={"criterion": "none"}),
+        "cone": cone,
+        "sphere": sphere,
+    }
+
+
+@pytest.mark.parametrize("name", list(_station_cases()))
+def test_derivatives_with_respect_to_each_station_position_and_radius(name: str) -> None:
+    # The derivatives of a side's figures with respect to each station's s (and r on a
+    # body of revolution), Ue held, from the backward sweep, against central differences
+    # of two marches with that station moved by 1e-7 of the side's length (truncation
+    # error of order 1e-14, rounding about 1e-16 / 1e-7 = 1e-9 of figures of order 1; the
+    # moved march's step sizes change too, an effect of the order of its truncation error,
+    # ``tests/test_kernel.py``): 1 % of the largest derivative of each figure.  Invariance
+    # (exact, up to rounding): moving every station by the same distance moves every
+    # event by that distance and leaves the drags as they are, so the derivatives with
+    # respect to the stations' s (and x) sum to 1 for positions and 0 for drags.
+    side = prepare(ibl.parse_case(_station_cases()[name])).sides[0]
+    state = march([side])[0]
+    status, _, _, geo = sensitivity.side_arrays(
+        side, state, np.ones(len(sensitivity.QUANTITIES), dtype=bool), PLANAR_PROFILE, True
+    )
+    present = status == sensitivity.OK
+    assert present[3]
+    delta = 1e-7 * float(side.s[-1] - side.s[0])
+    rows = [("s", geo[0] + geo[2])]  # x is s on a single surface
+    if side.axisymmetric:
+        rows.append(("r", geo[1]))
+    for what, got in rows:
+        first = 1 if what == "r" and side.r[0] == 0.0 else 0  # a radius stays >= 0
+        want = np.zeros_like(got)
+        for k in range(first, side.s.size):
+            moved = []
+            for sign in (1.0, -1.0):
+                s, r = side.s.copy(), side.r.copy()
+                (s if what == "s" else r)[k] += sign * delta
+                slope = side.ue[1] / (s[1] - s[0]) if side.start == "stagnation" else side.slope
+                moved.append(replace(side, s=s, r=r, slope=slope))
+            want[:, k] = _moved_difference(moved, delta)
+        for q in np.flatnonzero(present):
+            scale = np.max(np.abs(want[q]))
+            error = np.max(np.abs(got[q] - want[q]))
+            assert error <= TOLERANCE * scale, (what, sensitivity.QUANTITIES[q], error / scale)
+    total = (geo[0] + geo[2]).sum(axis=1)
+    expected = np.array([1.0, 1.0, 1.0, 0.0, 0.0])
+    assert np.allclose(total[present], expected[present], rtol=0.0, atol=1e-9)
+
+
+@pytest.mark.parametrize(
+    "doc",
+    [
+        _ellipse(3.0, 120, 1e-3, 1e-3 + 2.0 * np.pi, 2e6),
+        _joukowski(0.0, 161, 3e6),
+        _joukowski(2.0, 161, 3e6),
+    ],
+    ids=["ellipse 3 deg", "joukowski 0 deg", "joukowski 2 deg"],
+)
+def test_stagnation_point_position_in_the_backward_sweep(doc: dict) -> None:
+    # d(figure)/d s0 of each side (the stagnation point moved along the contour with the
+    # pressure values held: every station's s moves by +-d s0, the stagnation station's x
+    # along its segment) from the derivatives with respect to the stations' s and x,
+    # against a central difference of two marches of the side so moved (step 1e-7 of the
+    # side's length, as above): 1 % of the largest of the figure's derivatives with
+    # respect to s0 and to the stations' s.  Their effect on the input values is checked
+    # against whole runs by the contour tests above.
+    case = ibl.parse_case(doc)
+    sides = prepare(case).sides
+    for side, state in zip(sides, march(sides), strict=True):
+        nose = side.nose
+        assert nose is not None and not nose.gap
+        status, _, _, geo = sensitivity.side_arrays(
+            side, state, np.ones(len(sensitivity.QUANTITIES), dtype=bool), PLANAR_PROFILE, True
+        )
+        got = sensitivity._stagnation_shift(side, geo)
+        delta = min(1e-7 * float(side.s[-1]), 0.01 * float(side.s[1]))
+        moved = []
+        for sign in (1.0, -1.0):
+            assert side.x is not None and side.y is not None
+            s, x, y = side.s.copy(), side.x.copy(), side.y.copy()
+            s[1:] += sign * delta * nose.direction
+            x[0] += sign * delta * nose.position_grad[0]
+            y[0] += sign * delta * nose.position_grad[1]
+            moved.append(replace(side, s=s, x=x, y=y))
+        want = _moved_difference(moved, delta)
+        for q in np.flatnonzero(status == sensitivity.OK):
+            scale = max(abs(want[q]), np.max(np.abs(geo[0, q])))
+            error = abs(got[q] - want[q])
+            assert error <= TOLERANCE * scale, (side.name, sensitivity.QUANTITIES[q], error / scale)
 
 
 def test_equal_nose_values_are_null_with_a_warning() -> None:
