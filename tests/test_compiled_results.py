@@ -197,7 +197,12 @@ def test_first_cell_heights_equal_their_numpy_definition() -> None:
 
 @pytest.mark.parametrize(
     "output",
-    [{}, {"stations": False}, {"stations": ["cf", "x", "regime"]}, {"stations": ["theta"]}],
+    [
+        {},
+        {"stations": False},
+        {"stations": ["cf", "x", "regime"]},
+        {"stations": ["theta"], "sensitivities": ["transition", "friction_drag"]},
+    ],
 )
 @pytest.mark.parametrize(
     "doc", [ellipse_case(60), _plate(), _sphere()], ids=["ellipse", "plate", "sphere"]
