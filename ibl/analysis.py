@@ -44,6 +44,7 @@ from ibl.schema import (
     TransitionEvent,
     TurbulentMargin,
 )
+from ibl.side_scalars import Scalars, side_scalars
 
 __all__ = ["CAUTION", "NEAR_SEPARATION_FRACTION", "analyze", "parse_case", "run", "run_batch"]
 
@@ -286,8 +287,37 @@ def _results(
 
 def analyze(doc: Any) -> dict[str, Any]:
     """Analyse a case document and return the result document as JSON-ready builtins."""
-    result: dict[str, Any] = msgspec.to_builtins(run(parse_case(doc)))
-    return result
+    return _builtins(run(parse_case(doc)))
+
+
+def _builtins(result: Result) -> dict[str, Any]:
+    """``msgspec.to_builtins(result)`` (the same document, members in the same order) that
+    takes the station lists of the sides as they are instead of copying them: for a result
+    of lists (``arrays="list"``) that is not used afterwards."""
+    sides = result.sides
+    out: dict[str, Any] = msgspec.to_builtins(msgspec.structs.replace(result, sides=[]))
+    out["sides"] = [_side_builtins(side) for side in sides]
+    return out
+
+
+#: The station arrays in the order of the members of a side.
+_SIDE_STATIONS = tuple(name for name in Side.__struct_fields__ if name in STATION_QUANTITIES)
+
+
+def _side_builtins(side: Side) -> dict[str, Any]:
+    """One side of ``_builtins``: its station lists as they are, the rest by msgspec."""
+    stations = {}
+    for name in _SIDE_STATIONS:
+        value = getattr(side, name)
+        if value is not msgspec.UNSET:
+            stations[name] = value
+    if not stations:
+        built: dict[str, Any] = msgspec.to_builtins(side)
+        return built
+    rest = msgspec.to_builtins(
+        msgspec.structs.replace(side, **dict.fromkeys(stations, msgspec.UNSET))
+    )
+    return {"name": rest.pop("name"), **stations, **rest}
 
 
 def _options(case: Case) -> dict[str, str | float]:
@@ -325,10 +355,12 @@ class _Lists:
         return [column.tolist() for column in columns]
 
     @staticmethod
-    def nullable(values: NDArray[np.float64]) -> Any:
-        """NaN entries become None."""
+    def nullable(values: NDArray[np.float64], missing: tuple[int, ...] | None = None) -> Any:
+        """NaN entries become None (``missing``: their indices, when known)."""
         out: list[float | None] = values.tolist()
-        for i in np.flatnonzero(np.isnan(values)).tolist():
+        if missing is None:
+            missing = tuple(np.flatnonzero(np.isnan(values)).tolist())
+        for i in missing:
             out[i] = None
         return out
 
@@ -347,7 +379,7 @@ class _Json:
         return [msgspec.Raw(dumps(np.ascontiguousarray(c), option=option)) for c in columns]
 
     @staticmethod
-    def nullable(values: NDArray[np.float64]) -> Any:
+    def nullable(values: NDArray[np.float64], missing: tuple[int, ...] | None = None) -> Any:
         """NaN entries become null (as orjson writes them)."""
         return _Json.rows([values])[0]
 
@@ -389,14 +421,14 @@ class _Msgpack:
         return [msgspec.Raw(header + row.tobytes()) for row in _packed(columns)]
 
     @staticmethod
-    def nullable(values: NDArray[np.float64]) -> Any:
-        """NaN entries become nil."""
-        missing = np.isnan(values)
+    def nullable(values: NDArray[np.float64], missing: tuple[int, ...] | None = None) -> Any:
+        """NaN entries become nil (``missing``: their indices, when known)."""
         packed = _packed(values)
-        if missing.any():
-            packed["marker"][missing] = 0xC0
+        nan = None if missing == () else np.isnan(values)
+        if nan is not None and nan.any():
+            packed["marker"][nan] = 0xC0
             kept = np.ones((values.size, 9), dtype=bool)
-            kept[missing, 1:] = False  # nil is the marker alone
+            kept[nan, 1:] = False  # nil is the marker alone
             body = packed.view(np.uint8).reshape(-1, 9)[kept].tobytes()
         else:
             body = packed.tobytes()
@@ -416,7 +448,10 @@ _ARRAYS: dict[str, _Converter] = {"list": _Lists, "json": _Json, "msgpack": _Msg
 
 
 def _xy_at(side: SideInput, s: float) -> tuple[float | None, float | None]:
-    """x and y at arc length s along the side's stations (linear); None without a contour."""
+    """x and y at arc length s along the side's stations (linear); None without a contour.
+
+    The definition of the positions of events; the results take them from its compiled
+    twin, ``ibl.side_scalars.xy_at_compiled`` (``tests/test_compiled_results.py``)."""
     if side.x is None or side.y is None or not math.isfinite(s):
         return None, None
     i = min(max(int(side.s.searchsorted(s)), 1), side.s.size - 1)
@@ -436,8 +471,14 @@ def _side(
     found: Plateau | None = None,
     wanted: frozenset[str] = frozenset(STATION_QUANTITIES),
 ) -> Side:
-    """The result document of one side; a notice in ``warnings`` if its stations were cut."""
+    """The result document of one side; a notice in ``warnings`` if its stations were cut.
+
+    Its scalars (event positions on the contour, margins, mesh advice, friction drag) come
+    from one compiled pass, ``ibl.side_scalars.side_scalars``: the twin of ``_xy_at``,
+    ``_margins`` and ``_friction``, which define them."""
     keep = state.count
+    contour = side.x is not None and side.y is not None
+    v = _scalars(side, state, found, contour)
     if state.cut_non_finite:
         warnings.append(
             Notice(
@@ -448,14 +489,15 @@ def _side(
             )
         )
     if math.isfinite(state.thin_layer_s):
-        warnings.append(_thin_layer_notice(side, state, pointer))
+        x_limit = v.thin_layer_x if contour else None
+        warnings.append(_thin_layer_notice(side, state, pointer, x_limit))
     offset = side.offset
     tr = None
     if math.isfinite(state.transition_s):
         tr = TransitionEvent(
             s=state.transition_s + offset,
-            x=(xy := _xy_at(side, state.transition_s))[0],
-            y=xy[1],
+            x=v.transition_x if contour else None,
+            y=v.transition_y if contour else None,
             cause=state.transition_cause,  # type: ignore[arg-type]
             re_theta=state.transition_re_theta,
         )
@@ -463,8 +505,8 @@ def _side(
     if math.isfinite(state.laminar_separation_s):
         lsep = LaminarSeparationEvent(
             s=state.laminar_separation_s + offset,
-            x=(xy := _xy_at(side, state.laminar_separation_s))[0],
-            y=xy[1],
+            x=v.laminar_separation_x if contour else None,
+            y=v.laminar_separation_y if contour else None,
             bubble="short" if state.bubble_short else "long",
             re_delta_star=state.laminar_separation_re_delta_star,
         )
@@ -472,15 +514,24 @@ def _side(
     if math.isfinite(state.separation_s):
         sep = SeparationEvent(
             s=state.separation_s + offset,
-            x=(xy := _xy_at(side, state.separation_s))[0],
-            y=xy[1],
+            x=v.separation_x if contour else None,
+            y=v.separation_y if contour else None,
             regime="turbulent" if state.separation_turbulent else "laminar",
+        )
+    plateau = None
+    if found is not None:
+        on = contour and math.isfinite(found.onset_s)
+        plateau = PressurePlateauEvent(
+            s=found.onset_s + offset,
+            x=v.plateau_x if on else None,
+            y=v.plateau_y if on else None,
+            cp=found.cp,
+            end_s=found.end_s + offset,
         )
     arrays_out: dict[str, Any] = {}
     if wanted:
-        laminar = keep - int(np.count_nonzero(state.turbulent))
+        laminar = v.laminar_count
         names = [name for name in _FLOAT_STATIONS if name in wanted]
-        contour = side.x is not None and side.y is not None
         if not contour:
             for name in ("x", "y"):
                 if name in wanted:
@@ -490,7 +541,9 @@ def _side(
             columns = [_column(name, side, state, keep) for name in names]
             arrays_out.update(zip(names, arrays.rows(columns), strict=True))
         if "cf" in wanted:
-            arrays_out["cf"] = arrays.nullable(state.cf)
+            count = v.cf_missing
+            missing = () if count == 0 else (v.cf_first_missing,) if count == 1 else None
+            arrays_out["cf"] = arrays.nullable(state.cf, missing)
         if "regime" in wanted:
             arrays_out["regime"] = arrays.regime(laminar, keep - laminar)
     return Side(
@@ -499,10 +552,90 @@ def _side(
         transition=tr,
         laminar_separation=lsep,
         separation=sep,
-        pressure_plateau=_plateau_event(side, found),
-        margins=_margins(side, state),
-        mesh=_mesh(side, state),
-        friction_drag=_friction(side, state),
+        pressure_plateau=plateau,
+        margins=Margins(
+            laminar=(
+                LaminarMargin(thwaites_lambda=v.lambda_value, s=v.lambda_s)
+                if v.lambda_index >= 0
+                else None
+            ),
+            turbulent=(
+                TurbulentMargin(shape_factor=v.h_value, s=v.h_s) if v.h_index >= 0 else None
+            ),
+        ),
+        mesh=_mesh_advice(side, state, v, contour),
+        friction_drag=None if math.isnan(v.friction) else v.friction,
+    )
+
+
+def _scalars(side: SideInput, state: SideState, found: Plateau | None, contour: bool) -> Scalars:
+    """The compiled pass over one side's arrays (``ibl.side_scalars``)."""
+    x = side.x if side.x is not None and contour else _EMPTY
+    y = side.y if side.y is not None and contour else _EMPTY
+    return Scalars._make(
+        side_scalars(
+            side.s,
+            x,
+            y,
+            side.r,
+            contour,
+            side.axisymmetric,
+            side.offset,
+            state.count,
+            state.s,
+            state.ue,
+            state.shape_factor,
+            state.cf,
+            state.turbulent,
+            state.thwaites_lambda,
+            state.delta99,
+            (
+                state.transition_s,
+                state.laminar_separation_s,
+                state.separation_s,
+                math.nan if found is None else found.onset_s,
+                state.thin_layer_s,
+            ),
+            state.max_u_tau,
+            state.max_u_tau_index,
+            state.max_delta99_index,
+            state.max_eddy_viscosity_ratio_index,
+        )
+    )
+
+
+_EMPTY = np.empty(0)
+
+
+def _mesh_advice(side: SideInput, state: SideState, v: Scalars, contour: bool) -> MeshAdvice:
+    """The mesh advice of a side from its scalars (``_mesh`` defines it)."""
+    cells = []
+    if math.isfinite(state.max_u_tau):
+        # The smallest first cell for every y+ target is where u_tau is largest.
+        s_i = v.u_tau_s
+        x = v.u_tau_x if contour else None
+        y = v.u_tau_y if contour else None
+        y_plus = side.options.y_plus
+        heights = mesh.first_cell_heights(y_plus, side.nu, state.max_u_tau)
+        cells = [
+            FirstCell(y_plus=target, height=height, s=s_i, x=x, y=y)
+            for target, height in zip(y_plus, heights, strict=True)
+        ]
+    if state.count == 0:  # not one finite station (see SideState.cut_non_finite)
+        nan = math.nan
+        return MeshAdvice(
+            first_cell=[],
+            max_thickness=nan,
+            max_thickness_s=nan,
+            max_eddy_viscosity_ratio=nan,
+            max_eddy_viscosity_ratio_s=nan,
+        )
+    return MeshAdvice(
+        first_cell=cells,
+        max_thickness=v.thickness,
+        max_thickness_s=v.thickness_s,
+        max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
+        max_eddy_viscosity_ratio_s=v.eddy_ratio_s,
     )
 
 
@@ -540,7 +673,9 @@ def _column(name: str, side: SideInput, state: SideState, keep: int) -> NDArray[
 
 
 def _friction(side: SideInput, state: SideState) -> float | None:
-    """The side's friction drag (see ``ibl.drag.friction_drag``), over its stations."""
+    """The side's friction drag (see ``ibl.drag.friction_drag``), over its stations.
+
+    The definition; the results take it from ``ibl.side_scalars.side_scalars``."""
     keep = state.count
     if keep < 2:
         return None
@@ -654,10 +789,10 @@ def _drag(p: Prepared, states: list[SideState], frictions: list[float | None]) -
     )
 
 
-def _thin_layer_notice(side: SideInput, state: SideState, pointer: str) -> Notice:
-    """The stations of a body of revolution end where the layer is no longer thin."""
+def _thin_layer_notice(side: SideInput, state: SideState, pointer: str, x: float | None) -> Notice:
+    """The stations of a body of revolution end where the layer is no longer thin (``x``
+    there, None without a contour)."""
     at = state.thin_layer_s
-    x, _ = _xy_at(side, at)
     where = f"s = {at + side.offset:.4g}" + (f" (x = {x:.4g})" if x is not None else "")
     last = state.count - 1
     ratio = kernel.THIN_LAYER_RATIO
@@ -670,19 +805,6 @@ def _thin_layer_notice(side: SideInput, state: SideState, pointer: str) -> Notic
         f"hold from there on, so the stations end at s = {float(state.s[last]) + side.offset:.4g}"
         " and nothing beyond is reported",
         pointer=f"{pointer}/s/{last}",
-    )
-
-
-def _plateau_event(side: SideInput, found: Plateau | None) -> PressurePlateauEvent | None:
-    if found is None:
-        return None
-    x, y = _xy_at(side, found.onset_s)
-    return PressurePlateauEvent(
-        s=found.onset_s + side.offset,
-        x=x,
-        y=y,
-        cp=found.cp,
-        end_s=found.end_s + side.offset,
     )
 
 
@@ -712,7 +834,9 @@ def _plateau_notice(
 
 def _margins(side: SideInput, state: SideState) -> Margins:
     """The smallest Thwaites lambda over the laminar stations and the largest H over the
-    turbulent ones, with where they occur (the laminar stations come first)."""
+    turbulent ones, with where they occur (the laminar stations come first).
+
+    The definition; the results take them from ``ibl.side_scalars.side_scalars``."""
     laminar = turbulent_margin = None
     count = state.count
     first_turbulent = count - int(np.count_nonzero(state.turbulent))
@@ -781,6 +905,8 @@ def _near_separation(side: SideInput, state: SideState, margins: Margins) -> lis
 
 
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
+    """The mesh advice of a side (the definition; the results build it by ``_mesh_advice``
+    from ``ibl.side_scalars.side_scalars``)."""
     cells = []
     if math.isfinite(state.max_u_tau):
         # The smallest first cell for every y+ target is where u_tau is largest.

@@ -7,6 +7,9 @@ Contents
 - ``profile_drag_squire_young_1938(theta, ue, h)``: one side's share of a planar
   section's profile drag from its trailing-edge state.
 - ``profile_drag_young_1939(r, theta, ue, h)``: the same for a body of revolution.
+- ``friction_drag_compiled(s, x, ue, cf, r, axisymmetric)``: the compiled twin of
+  ``friction_drag`` that the result building calls (``tests/test_compiled_results.py``
+  checks it against ``friction_drag`` to the bit).
 
 All coefficients are referred to the free-stream dynamic pressure q_inf and the unit of
 length L of the coordinates: D/(q_inf L) per unit span (planar), D/(q_inf L^2) (body of
@@ -18,12 +21,14 @@ from __future__ import annotations
 
 import math
 
+import numba
 import numpy as np
 from numpy.typing import NDArray
 
 __all__ = [
     "FIRST_PANEL_EXPONENTS",
     "friction_drag",
+    "friction_drag_compiled",
     "profile_drag_squire_young_1938",
     "profile_drag_young_1939",
 ]
@@ -124,6 +129,47 @@ def _first_panel(s: F64, x: F64, g: F64) -> float:
 def _trapezoid(x: F64, g: F64) -> float:
     """Trapezoidal integral of g dx (NaN if any g is NaN)."""
     return 0.5 * float(np.dot(g[1:] + g[:-1], x[1:] - x[:-1]))
+
+
+@numba.njit(cache=True, error_model="numpy")
+def friction_drag_compiled(
+    s: F64, x: F64, ue: F64, cf: F64, r: F64, axisymmetric: bool
+) -> float:  # pragma: no cover - compiled
+    """Twin of ``friction_drag`` with the weight 2 pi r (``axisymmetric``) or 1; NaN where
+    ``friction_drag`` gives None.
+
+    The same floating-point operations in the same order, element by element: g = Cf Ue Ue
+    (times 2 pi r), the first panel's power fit, and the trapezoids' sum as the dot product
+    of the panel sums and widths by BLAS ddot, as numpy's ``dot`` takes it.
+    """
+    n = x.size
+    if n < 2:
+        return math.nan
+    g = cf * ue * ue
+    if axisymmetric:
+        g *= 2.0 * math.pi * r[:n]
+    start = 0
+    total = 0.0
+    if not math.isfinite(g[0]):
+        start = 1
+        if n > 2 and g[1] > 0.0 and g[2] > 0.0:  # False for NaN too
+            d1, d2 = s[1] - s[0], s[2] - s[0]
+            dx = x[1] - x[0]
+            if not d1 > 0.0 or not d2 > d1:
+                total = 0.5 * g[1] * dx
+            else:
+                p = math.log(g[2] / g[1]) / math.log(d2 / d1)
+                # min(max(p, low), high) as Python takes it (the first argument on a tie)
+                low, high = FIRST_PANEL_EXPONENTS
+                if low > p:
+                    p = low
+                if high < p:
+                    p = high
+                total = g[1] * dx / (1.0 + p)
+    if n - start < 2:
+        return math.nan
+    total += 0.5 * np.dot(g[start + 1 :] + g[start:-1], x[start + 1 :] - x[start:-1])
+    return total if math.isfinite(total) else math.nan
 
 
 def profile_drag_squire_young_1938(theta: float, ue: float, h: float) -> float:
