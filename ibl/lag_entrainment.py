@@ -12,8 +12,11 @@ Contents
   (the H at which Cf vanishes).
 - Their scalar numba twins (``*_nb``), checked against the definitions by
   ``tests/test_lag_entrainment.py``.
-- ``march``: the compiled march of (theta, H, C_E) for one side, with the inputs and
-  outputs of ``ibl.kernel._head`` plus the entrainment coefficient at the stations.
+- The method's part of the compiled march of (theta, H, C_E): ``_rhs`` (the equations
+  below), and what the shared step control (``ibl.step_control``, which also marches
+  Head's equations) asks of a method: the start state (``start_state``), where the state
+  is valid (``_valid``), the step limits on H and C_E (``limit_state``) and the
+  separation function (``_criterion``).
 
 Equations (Green, Weeks & Brooman 1977, incompressible; r the body radius of a thin
 axisymmetric layer, as in Head's axisymmetric equations of ``ibl.turbulent``):
@@ -67,8 +70,6 @@ import numba
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
 
-from ibl import kernel
-
 __all__ = [
     "MIN_RE_THETA",
     "WALL_LAMBDA",
@@ -80,7 +81,6 @@ __all__ = [
     "equilibrium_gradient_green_1977",
     "h0_winter_gaudet_1973",
     "lag_factor_green_1977",
-    "march",
     "separation_shape_factor_green_1977",
     "shear_stress_coefficient_green_1977",
 ]
@@ -117,9 +117,10 @@ MIN_RE_THETA = 320.0
 #: attached wall layer entrains (C_E >= 0, common practice); the clip acts only at the
 #: smallest Re_theta with a start H below the flat-plate H0.
 START_CE_MIN = 0.0
-#: Step limits of the march, as in ``ibl.kernel`` (``STEP_UE``, ``STEP_THETA``): largest
-#: relative change of H - 1 and of C_E + 0.01 (the pole of F) per step.  Ours, chosen so
-#: that twenty times smaller steps change theta and H by less than 0.5 %
+#: Step limits of the march, beside the shared ones of ``ibl.step_control`` (``STEP_UE``,
+#: ``STEP_THETA``): largest relative change of H - 1 and of C_E + 0.01 (the pole of F)
+#: per step.  Ours, chosen so that twenty times smaller steps change theta and H by less
+#: than 0.5 %
 #: (tests/test_lag_entrainment.py).
 STEP_H, STEP_CE = 0.04, 0.1
 
@@ -449,7 +450,7 @@ def eq_entrainment_nb(h: float, cf: float) -> float:
     return h1_nb(h) * (0.5 * cf - (h + 1.0) * eq_gradient_nb(h, cf))
 
 
-# ----------------------------------------------------------------------------- march
+# ------------------------------------------------------------- the method in the march
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -493,253 +494,22 @@ def _valid(theta: float, h: float, ce: float) -> bool:
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _step_limit(
-    scale: float,
-    span: float,
-    from_origin: float,
-    min_step: float,
-    theta: float,
-    h: float,
-    ce: float,
-    u: float,
-    du: float,
-    f_theta: float,
-    f_h: float,
-    f_ce: float,
-) -> float:
-    """Largest step from a state: ``kernel._step_limit``'s limits on Ue and theta, and
-    relative changes of H - 1 and C_E + 0.01 (``STEP_H``, ``STEP_CE``); a minimum of
-    continuous functions, so continuous in the state."""
-    limit = scale * kernel.MAX_STEP * span
-    limit = min(limit, scale * kernel.STEP_ORIGIN * from_origin)
-    limit = min(limit, scale * kernel.STEP_UE * u / max(abs(du), 1e-300))
-    limit = min(limit, scale * kernel.STEP_THETA * theta / max(abs(f_theta), 1e-300))
-    limit = min(limit, scale * STEP_H * (h - 1.0) / max(abs(f_h), 1e-300))
-    limit = min(limit, scale * STEP_CE * (ce + F_D) / max(abs(f_ce), 1e-300))
-    return max(limit, min_step)
-
-
-@numba.njit(cache=True, error_model="numpy")
 def _criterion(h: float, theta: float, u: float, inv_nu: float, h_separation: float) -> float:
     """Separation function: H minus the smaller of the H criterion and H at Cf = 0."""
     return h - min(h_separation, h_cf_zero_nb(u * theta * inv_nu))
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _crossing(
-    step: float,
-    a: tuple[float, float, float, float, float],
-    b: tuple[float, float, float, float, float],
-    inv_nu: float,
-    h_separation: float,
-) -> float:
-    """Fraction of a step at which ``_criterion`` reaches zero, on cubic Hermite
-    interpolants of H and theta over the step (Ue linear), by the Illinois variant of
-    regula falsi converged to rounding.  ``a``, ``b``: (H, dH/ds, theta, dtheta/ds, Ue)
-    at the step's ends."""
-    lo, hi = 0.0, 1.0
-    g_lo = _criterion(a[0], a[2], a[4], inv_nu, h_separation)
-    g_hi = _criterion(b[0], b[2], b[4], inv_nu, h_separation)
-    side = 0
-    for _ in range(100):
-        if hi - lo <= 1e-15:
-            break
-        mid = (lo * g_hi - hi * g_lo) / (g_hi - g_lo)
-        if not (lo < mid < hi):
-            mid = 0.5 * (lo + hi)
-        hv, _ = kernel._hermite(mid, step, a[0], b[0], a[1], b[1])
-        tv, _ = kernel._hermite(mid, step, a[2], b[2], a[3], b[3])
-        uv = a[4] + mid * (b[4] - a[4])
-        g = _criterion(hv, tv, uv, inv_nu, h_separation)
-        if g >= 0.0:
-            hi, g_hi = mid, g
-            if side == 1:
-                g_lo *= 0.5
-            side = 1
-        else:
-            lo, g_lo = mid, g
-            if side == -1:
-                g_hi *= 0.5
-            side = -1
-    return hi
+def start_state(theta: float, h: float, u: float, inv_nu: float) -> float:
+    """C_E at the start of the march: its equilibrium value
+    (``equilibrium_entrainment_green_1977``) for theta, H and the local Re_theta, no
+    smaller than ``START_CE_MIN``."""
+    return max(eq_entrainment_nb(h, cf_nb(h, u * theta * inv_nu)), START_CE_MIN)
 
 
 @numba.njit(cache=True, error_model="numpy")
-def march(
-    s: F64,
-    ue: F64,
-    due: F64,
-    r: F64,
-    dr: F64,
-    n: int,
-    start: float,
-    theta0: float,
-    h0: float,
-    inv_nu: float,
-    h_separation: float,
-    axisymmetric: bool,
-    theta_out: F64,
-    h_out: F64,
-    ce_out: F64,
-    scale: float,
-    s_peak: float,
-) -> tuple[float, int, int]:
-    """The lag-entrainment equations from ``start`` by classical Runge-Kutta.
-
-    The step control of ``ibl.kernel._head``: every step lies inside one interval between
-    stations and ends on the next station when the limits allow; the step is a continuous
-    function of the state at its start (``_step_limit``, clipped to the next station); a
-    step whose end state asks for a step shorter by more than ``kernel.RETAKE_FACTOR`` is
-    taken again with that step, up to ``kernel.RETAKES`` times; only a state outside the
-    equations' validity (``_valid``) halves a step.
-
-    Fills theta, H and C_E at the stations from ``start`` on; returns the separation
-    position (NaN when attached to the end; where the march stopped for
-    ``kernel.STOP_BUDGET``, ``STOP_INVALID`` or ``STOP_THIN``), the step count and the
-    stop code, as ``kernel._head`` does.  C_E starts at its equilibrium value
-    (``equilibrium_entrainment_green_1977``) for theta0, H0 and the local Re_theta.
-    """
-    origin = s[0]
-    end = s[n - 1]
-    span = end - origin
-    min_step = 1e-9 * span
-    budget = kernel.MAX_STEPS + 2 * n
-    if theta0 > 0.0:
-        min_step = min(min_step, 1e-3 * theta0)
-    pos = start
-    theta = theta0
-    h = h0
-    j = 0
-    while j < n - 2 and s[j + 1] <= pos:
-        j += 1
-    m = j if s[j] >= pos else j + 1
-    u, du, rr, drr = kernel._edge(
-        s, ue, due, r, dr, j, (pos - s[j]) / (s[j + 1] - s[j]), axisymmetric
-    )
-    if not (u > 0.0 and rr > 0.0):
-        return pos, 0, kernel.STOP_NONE
-    ce = max(eq_entrainment_nb(h, cf_nb(h, u * theta * inv_nu)), START_CE_MIN)
-    if _criterion(h, theta, u, inv_nu, h_separation) >= 0.0:
-        while m < n and s[m] <= pos:
-            theta_out[m] = theta
-            h_out[m] = h0
-            ce_out[m] = ce
-            m += 1
-        return pos, 0, kernel.STOP_NONE
-    if pos > s_peak and kernel._delta99_turbulent(theta, h) >= kernel.THIN_LAYER_RATIO * rr:
-        return pos, 0, kernel.STOP_THIN
-    if not _valid(theta, h, ce):
-        return pos, 0, kernel.STOP_INVALID
-    f_t, f_h, f_c = _rhs(theta, h, ce, u, du, rr, drr, inv_nu, axisymmetric)
-    steps = 0
-    while True:
-        while m < n and s[m] <= pos:
-            theta_out[m] = theta
-            h_out[m] = h
-            ce_out[m] = ce
-            m += 1
-        if m >= n or pos >= end:
-            return np.nan, steps, kernel.STOP_NONE
-        if steps >= budget:
-            return pos, steps, kernel.STOP_BUDGET
-        while j < n - 2 and s[j + 1] <= pos:
-            j += 1
-        left = s[j]
-        length = s[j + 1] - left
-        room = max(s[j + 1] - pos, 0.0)
-        limit = _step_limit(scale, span, pos - origin, min_step, theta, h, ce, u, du, f_t, f_h, f_c)
-        step = min(limit, room)
-        retakes = 0
-        while True:
-            steps += 1
-            land = step >= room
-            at_end = s[j + 1] if land else pos + step
-            u2, du2, r2, dr2 = kernel._edge(
-                s, ue, due, r, dr, j, (pos + 0.5 * step - left) / length, axisymmetric
-            )
-            t2 = theta + 0.5 * step * f_t
-            h2 = h + 0.5 * step * f_h
-            c2 = ce + 0.5 * step * f_c
-            ok = u2 > 0.0 and r2 > 0.0 and _valid(t2, h2, c2)
-            if ok:
-                a_t, a_h, a_c = _rhs(t2, h2, c2, u2, du2, r2, dr2, inv_nu, axisymmetric)
-                t3 = theta + 0.5 * step * a_t
-                h3 = h + 0.5 * step * a_h
-                c3 = ce + 0.5 * step * a_c
-                ok = _valid(t3, h3, c3)
-            if ok:
-                b_t, b_h, b_c = _rhs(t3, h3, c3, u2, du2, r2, dr2, inv_nu, axisymmetric)
-                t_end = 1.0 if land else (at_end - left) / length
-                u4, du4, r4, dr4 = kernel._edge(s, ue, due, r, dr, j, t_end, axisymmetric)
-                t4 = theta + step * b_t
-                h4 = h + step * b_h
-                c4 = ce + step * b_c
-                ok = u4 > 0.0 and r4 > 0.0 and _valid(t4, h4, c4)
-            if ok:
-                c_t, c_h, c_c = _rhs(t4, h4, c4, u4, du4, r4, dr4, inv_nu, axisymmetric)
-                theta_new = theta + step / 6.0 * (f_t + 2.0 * (a_t + b_t) + c_t)
-                h_new = h + step / 6.0 * (f_h + 2.0 * (a_h + b_h) + c_h)
-                ce_new = ce + step / 6.0 * (f_c + 2.0 * (a_c + b_c) + c_c)
-                ok = _valid(theta_new, h_new, ce_new)
-            if not ok:
-                if step <= min_step or steps >= budget:
-                    if u2 <= 0.0:
-                        return pos, steps, kernel.STOP_NONE
-                    return pos, steps, kernel.STOP_INVALID
-                step = max(0.5 * step, min_step)
-                continue
-            g_t, g_h, g_c = _rhs(theta_new, h_new, ce_new, u4, du4, r4, dr4, inv_nu, axisymmetric)
-            if retakes < kernel.RETAKES and steps < budget:
-                shorter = kernel.RETAKE_FACTOR * _step_limit(
-                    scale,
-                    span,
-                    at_end - origin,
-                    min_step,
-                    theta_new,
-                    h_new,
-                    ce_new,
-                    u4,
-                    du4,
-                    g_t,
-                    g_h,
-                    g_c,
-                )
-                if shorter < step:
-                    step = shorter
-                    retakes += 1
-                    continue
-            break
-        if _criterion(h_new, theta_new, u4, inv_nu, h_separation) >= 0.0:
-            frac = _crossing(
-                step,
-                (h, f_h, theta, f_t, u),
-                (h_new, g_h, theta_new, g_t, u4),
-                inv_nu,
-                h_separation,
-            )
-            separation = pos + frac * step
-            while m < n and s[m] <= separation:
-                t = (s[m] - pos) / step
-                theta_out[m], _ = kernel._hermite(t, step, theta, theta_new, f_t, g_t)
-                h_m, _ = kernel._hermite(t, step, h, h_new, f_h, g_h)
-                h_out[m] = min(h_m, h_separation)
-                ce_out[m], _ = kernel._hermite(t, step, ce, ce_new, f_c, g_c)
-                m += 1
-            return separation, steps, kernel.STOP_NONE
-        if pos + step > s_peak:
-            g_new = kernel._delta99_turbulent(theta_new, h_new) - kernel.THIN_LAYER_RATIO * r4
-            if g_new >= 0.0:
-                g_old = kernel._delta99_turbulent(theta, h) - kernel.THIN_LAYER_RATIO * rr
-                frac = g_old / (g_old - g_new) if g_old < 0.0 else 0.0
-                reached = min(max(pos + frac * step, s_peak), pos + step)
-                while m < n and s[m] <= reached:
-                    t = (s[m] - pos) / step
-                    theta_out[m], _ = kernel._hermite(t, step, theta, theta_new, f_t, g_t)
-                    h_out[m], _ = kernel._hermite(t, step, h, h_new, f_h, g_h)
-                    ce_out[m], _ = kernel._hermite(t, step, ce, ce_new, f_c, g_c)
-                    m += 1
-                return reached, steps, kernel.STOP_THIN
-        pos = at_end
-        theta, h, ce = theta_new, h_new, ce_new
-        f_t, f_h, f_c = g_t, g_h, g_c
-        u, du, rr, drr = u4, du4, r4, dr4
+def limit_state(limit: float, scale: float, h: float, ce: float, f_h: float, f_ce: float) -> float:
+    """The step limits on the relative changes of H - 1 and C_E + 0.01 (``STEP_H``,
+    ``STEP_CE``), applied to the shared limits ``limit`` of ``ibl.step_control``."""
+    limit = min(limit, scale * STEP_H * (h - 1.0) / max(abs(f_h), 1e-300))
+    return min(limit, scale * STEP_CE * (ce + F_D) / max(abs(f_ce), 1e-300))

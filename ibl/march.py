@@ -29,11 +29,12 @@ import numpy as np
 from numpy.typing import NDArray
 
 from ibl import kernel
+from ibl.columns import INT_COLUMNS, REAL_COLUMNS
 from ibl.laminar_fd import Supplied, solve_side
 from ibl.prepare import SideInput
 from ibl.turbulent import METHODS, SKIN_FRICTION
 
-__all__ = ["SideState", "march", "march_released"]
+__all__ = ["INT_COLUMNS", "REAL_COLUMNS", "SideState", "march", "march_released"]
 
 F64 = NDArray[np.float64]
 
@@ -41,30 +42,6 @@ F64 = NDArray[np.float64]
 SIDES_PER_THREAD = 256
 #: Threads a march may use: the cores this process may run on.
 THREADS = len(os.sched_getaffinity(0)) if hasattr(os, "sched_getaffinity") else os.cpu_count() or 1
-
-#: The named columns of the kernel's integer and real per-side parameters, in column order
-#: (``kernel.march_sides``); a row is built from a mapping by these names.
-INT_COLUMNS = (
-    "start",
-    "criterion",
-    "closure",
-    "skin_friction",
-    "axisymmetric",
-    "turbulent_method",
-    "laminar_method",
-)
-REAL_COLUMNS = (
-    "nu",
-    "stagnation_slope",
-    "inflow_theta",
-    "inflow_shape_factor",
-    "trip",
-    "tu_percent",
-    "separation_lambda",
-    "initial_shape_factor",
-    "separation_shape_factor",
-    "supplied_laminar_separation",
-)
 
 _START = {
     "stagnation": kernel.START_STAGNATION,
@@ -131,8 +108,8 @@ def _stack(
     sides: list[SideInput],
 ) -> tuple[F64, F64, F64, NDArray[np.int64], NDArray[np.int64], F64]:
     """Pad the sides to one length (s continues with its last spacing, Ue and r are held)
-    and gather their options as integer and real codes (``ints`` column 5, the laminar
-    method, is Thwaites' here)."""
+    and gather their options as integer and real codes, by the named columns of
+    ``ibl.columns`` (the laminar method is Thwaites' here)."""
     count = np.array([side.s.size for side in sides], dtype=np.int64)
     n = int(count.max())
     shape = (len(sides), n)

@@ -13,6 +13,7 @@ from typing import Any
 
 from ibl import finite_difference, laminar, plateau, transition, turbulent
 from ibl.analysis import NEAR_SEPARATION_FRACTION
+from ibl.methods import methods
 from ibl.schema import (
     LaminarOptions,
     MeshOptions,
@@ -59,11 +60,10 @@ def _catalogue() -> dict[str, Any]:
     turb_defaults = TurbulentOptions()
     return {
         "laminar": {
-            "method": "thwaites_1949",
+            "method": methods("laminar")["thwaites"].label,
             "summary": "Thwaites' integral method; axisymmetric bodies by the Rott-Crabtree "
             "(Mangler) form; analytic start at a stagnation point or sharp leading edge",
-            "reference": "Thwaites (1949) Aeronaut. Q. 1, 245-280; Rott & Crabtree (1952) "
-            "J. Aeronaut. Sci. 19, 553",
+            "reference": methods("laminar")["thwaites"].reference,
             "options": {
                 "method": {
                     "default": lam_defaults.method,
@@ -173,26 +173,9 @@ def _catalogue() -> dict[str, Any]:
     }
 
 
-#: The laminar methods (``laminar.method`` of a case), with their sources.
-LAMINAR_METHODS: dict[str, dict[str, Any]] = {
-    "thwaites": {
-        "summary": "Thwaites' integral method (one-parameter closure in lambda = theta^2 "
-        "Ue'/nu); bodies of revolution by the Rott-Crabtree (Mangler) form; laminar "
-        "separation at lambda = separation_lambda",
-        "reference": "Thwaites (1949) Aeronaut. Q. 1, 245-280; Rott & Crabtree (1952) "
-        "J. Aeronaut. Sci. 19, 553",
-    },
+#: What the catalogue adds to a laminar method's row of ``ibl.methods.REGISTRY``.
+_LAMINAR_DETAILS: dict[str, dict[str, Any]] = {
     "finite_difference": {
-        "summary": "the laminar boundary-layer equations in Goertler's variables, marched by "
-        "Keller's box scheme with Newton iteration from the Hiemenz, Homann or Blasius "
-        "profile to separation (zero wall shear) or the end of the side; bodies of "
-        "revolution by Mangler's transformation; transition criteria, trips, the bubble "
-        "class and Head's start use its theta, H and Re_theta; delta99 is estimated as "
-        "7.39 theta (Blasius ratio); a march that fails leaves the side to Thwaites' "
-        "method with the warning laminar_method_failed",
-        "reference": "Keller (1970) in Numerical Solution of Partial Differential Equations "
-        "II, Academic Press; Cebeci & Bradshaw (1977) Momentum Transfer in Boundary Layers, "
-        "Hemisphere; Mangler (1948) [memory]",
         "grid": {
             "eta_points": finite_difference.N_ETA,
             "eta_max": finite_difference.ETA_MAX,
@@ -202,6 +185,13 @@ LAMINAR_METHODS: dict[str, dict[str, Any]] = {
         "the cylinder, sphere, Howarth and cone flows (grid study in "
         "ibl.finite_difference)",
     },
+}
+
+#: The laminar methods (``laminar.method`` of a case), with their sources: the rows of
+#: the registry of methods (``ibl.methods``).
+LAMINAR_METHODS: dict[str, dict[str, Any]] = {
+    name: {"summary": m.summary, "reference": m.reference, **_LAMINAR_DETAILS.get(name, {})}
+    for name, m in methods("laminar").items()
 }
 
 

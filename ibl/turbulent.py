@@ -7,7 +7,8 @@ Contents
 - ``entrainment_coefficient_head_1958``: F(H1).
 - ``cf_ludwieg_tillmann_1949`` and ``cf_white_1974``: skin-friction laws (``SKIN_FRICTION``).
 
-The march itself is compiled in ``ibl.kernel``, which repeats these formulas as scalar twins.
+The march itself is compiled: ``ibl.head`` repeats these formulas as scalar twins and
+``ibl.step_control`` marches them.
 
 Equations (Head 1958; axisymmetric form for thin layers, r the body radius):
 
@@ -15,7 +16,7 @@ Equations (Head 1958; axisymmetric form for thin layers, r the body radius):
     \frac{1}{r}\frac{d(r\theta)}{ds} = \frac{C_f}{2} - (H + 2)\frac{\theta}{U_e}\frac{dU_e}{ds},
     \qquad \frac{1}{r U_e}\frac{d(r U_e \theta H_1)}{ds} = F(H_1)
 
-The march (``ibl.kernel``) integrates theta and H1; eliminating r from the second gives
+The march (``ibl.step_control``) integrates theta and H1; eliminating r from the second gives
 
 .. math::
     \frac{dH_1}{ds} = \frac{F - H_1\,[C_f/2 - (H + 1)(\theta/U_e)\,dU_e/ds]}{\theta}
@@ -27,6 +28,8 @@ from typing import Any, NamedTuple
 
 import numpy as np
 from numpy.typing import ArrayLike, NDArray
+
+from ibl.methods import methods
 
 __all__ = [
     "H1_HIGH_BRANCH_MAX",
@@ -221,9 +224,10 @@ def cf_white_1974(h: ArrayLike, re_theta: ArrayLike) -> F64:
 
 
 class TurbulentMethod(NamedTuple):
-    """A turbulent integral method: its code in the compiled march (column 5 of the
-    kernel's ``ints``; ``ibl.kernel`` dispatches on it), name in results, skin friction
-    (None: the case's ``skin_friction`` option), summary and source."""
+    """A turbulent integral method: its code in the compiled march (column
+    ``turbulent_method`` of the kernel's ``ints``; ``ibl.step_control`` dispatches on it),
+    name in results, skin friction (None: the case's ``skin_friction`` option), summary
+    and source."""
 
     code: int
     name: str
@@ -232,26 +236,12 @@ class TurbulentMethod(NamedTuple):
     reference: str
 
 
-#: Registry of turbulent methods (the case's ``turbulent.method``); the first is the
-#: default.  A method is a module with its compiled march (inputs and outputs of
-#: ``ibl.kernel._head``) and a row here.
+#: Turbulent methods (the case's ``turbulent.method``) by name, from the registry of
+#: methods (``ibl.methods.REGISTRY``: a method is a module and a row there); the first is
+#: the default.
 METHODS: dict[str, TurbulentMethod] = {
-    "head": TurbulentMethod(
-        0,
-        "head_1958",
-        None,
-        "Head's entrainment method, planar and axisymmetric (thin layers)",
-        "Head (1958) ARC R&M 3152; fits of Cebeci & Bradshaw (1977)",
-    ),
-    "lag_entrainment": TurbulentMethod(
-        1,
-        "green_weeks_brooman_1977",
-        "winter_gaudet_1973",
-        "Lag-entrainment method (momentum, entrainment and a lag equation for the "
-        "entrainment coefficient), incompressible, planar and axisymmetric (thin layers); "
-        "skin friction of Winter & Gaudet; constants [memory]",
-        "Green, Weeks & Brooman (1977) ARC R&M 3791; Winter & Gaudet (1973) ARC R&M 3712",
-    ),
+    m.name: TurbulentMethod(m.code, m.label, m.skin_friction, m.summary, m.reference)
+    for m in methods("turbulent").values()
 }
 
 

@@ -15,7 +15,7 @@ import pytest
 from litestar.testing import TestClient
 
 import ibl
-from ibl import kernel
+from ibl import kernel, step_control
 from ibl import lag_entrainment as lag
 from ibl.errors import CaseError
 from ibl.references import surface_case
@@ -133,8 +133,10 @@ def _lag_march(ue, s, theta0, h0, inv_nu, scale=1.0):
     due = np.gradient(ue, s)
     r, dr = np.ones(n), np.zeros(n)
     theta, h, ce = (np.full(n, np.nan) for _ in range(3))
-    sep, _, stop = lag.march(
-        s, ue, due, r, dr, n, s[0], theta0, h0, inv_nu, 2.4, False, theta, h, ce, scale, np.inf
+    sep, _, stop = step_control.march(
+        step_control.METHOD_LAG_ENTRAINMENT,
+        *(s, ue, due, r, dr, n, s[0], theta0, h0, inv_nu, 2.4, 0, False),
+        *(theta, h, ce, scale, np.inf, np.zeros((1, kernel.TAPE_COLUMNS))),
     )
     return sep, stop, theta, h, ce
 
