@@ -671,11 +671,11 @@ def prepare(case: Case) -> Prepared:
         warnings.extend(_inflow_notices(case, side))
         warnings.extend(_trip_notices(case, [side]))
         return Prepared([side], None, warnings)
-    sides, stagnation = _split_contour(
+    sides, stagnation, closed = _split_contour(
         arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings, radius_from_y
     )
     warnings.extend(_trip_notices(case, sides))
-    return Prepared(sides, stagnation, warnings, _closure(x, y, arc)[0])
+    return Prepared(sides, stagnation, warnings, closed)
 
 
 def _trip_notices(case: Case, sides: list[SideInput]) -> list[Notice]:
@@ -1084,48 +1084,59 @@ def _stagnation_candidates(
     return best_a, best_b, best[0], best[1], best[2], best[3], best_dropped
 
 
+#: Why a side's derivatives of the stagnation point are not available, by the code
+#: ``_nose_gradients`` returns (0: they are).
+NOSE_GAPS = (
+    "",
+    "a slope's secant ends at Ue = 0",
+    "the nose holds several points of equal value: the model switches under any change",
+    "the fitted stagnation point falls on a point",
+    "the stagnation point's model is not differentiated",
+)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _secant_gradient(target: F64, arc: F64, q: F64, j: int, s0: float) -> None:
+    """d(slope)/d q_j of a slope taken as the secant Ue_j / |s_j - s0| (NaN at Ue_j = 0)."""
+    target[j] = 0.5 / np.sqrt(q[j]) / abs(arc[j] - s0) if q[j] > 0.0 else np.nan
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _nose_gradients(
     arc: F64, q: F64, a: int, b: int, s0: float, slope: float, plateau: bool
-) -> tuple[F64, F64, F64, str]:
+) -> tuple[F64, F64, F64, int]:
     """Derivatives of the stagnation point's arc position s0 and of the slopes before and
     after it with respect to q at each listed point, as ``_stagnation_candidates`` and the
-    plateau rule of ``_split_contour`` chose them for the run a..b, and "" or why they do
-    not exist.  A plateau, or a run at an end of an open contour, holds s0 at a fixed arc
-    position and takes each slope as the secant Ue/distance to the first point beyond it;
-    a fitted model moves s0 with the values of its points (the parabola through three
-    points, or the V of two secants of Ue = sqrt(q))."""
+    plateau rule of ``_locate`` chose them for the run a..b, and 0 or the code in
+    ``NOSE_GAPS`` of why they do not exist.  A plateau, or a run at an end of an open
+    contour, holds s0 at a fixed arc position and takes each slope as the secant
+    Ue/distance to the first point beyond it; a fitted model moves s0 with the values of
+    its points (the parabola through three points, or the V of two secants of
+    Ue = sqrt(q))."""
     n = q.size
     d_s0, d_before, d_after = np.zeros(n), np.zeros(n), np.zeros(n)
-
-    def secant(target: F64, j: int) -> None:
-        target[j] = 0.5 / math.sqrt(q[j]) / abs(arc[j] - s0) if q[j] > 0.0 else math.nan
-
     if a == 0 or b == n - 1 or plateau:
         if a == 0:
-            secant(d_before, b + 1)
-            secant(d_after, b + 1)
+            _secant_gradient(d_before, arc, q, b + 1, s0)
+            _secant_gradient(d_after, arc, q, b + 1, s0)
         elif b == n - 1:
-            secant(d_before, a - 1)
-            secant(d_after, a - 1)
+            _secant_gradient(d_before, arc, q, a - 1, s0)
+            _secant_gradient(d_after, arc, q, a - 1, s0)
         else:
-            secant(d_before, a - 1)
-            secant(d_after, b + 1)
-        ok = bool(np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after)))
-        return d_s0, d_before, d_after, "" if ok else "a slope's secant ends at Ue = 0"
+            _secant_gradient(d_before, arc, q, a - 1, s0)
+            _secant_gradient(d_after, arc, q, b + 1, s0)
+        ok = np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after))
+        return d_s0, d_before, d_after, 0 if ok else 1
     if a < b:
-        return (
-            d_s0,
-            d_before,
-            d_after,
-            ("the nose holds several points of equal value: the model switches under any change"),
-        )
+        return d_s0, d_before, d_after, 2
     p_s0, p_slope, _, v_s0, v_slope, _ = stagnation_models(arc, q, a, b)
     if s0 == arc[a] + v_s0 and slope == v_slope:
         sm, s_a = arc[a - 1] - arc[a], arc[a - 2] - arc[a]
         sp, s_d = arc[b + 1] - arc[a], arc[b + 2] - arc[a]
         if not sm < v_s0 < sp:
-            return d_s0, d_before, d_after, "the fitted stagnation point falls on a point"
-        u = np.sqrt(q[[a - 2, a - 1, b + 1, b + 2]])
+            return d_s0, d_before, d_after, 3
+        points = np.array([a - 2, a - 1, b + 1, b + 2])
+        u = np.sqrt(q[points])
         left = (u[1] - u[0]) / (sm - s_a)
         right = (u[3] - u[2]) / (s_d - sp)
         g_left = np.array([-1.0, 1.0, 0.0, 0.0]) / (sm - s_a)
@@ -1136,27 +1147,35 @@ def _nose_gradients(
         g_meet = (g_top * down - top * (g_left - g_right)) / (down * down)
         g_slope = 0.5 * (g_right - g_left)
         dq = 0.5 / u  # dUe/dq
-        for k, j in enumerate((a - 2, a - 1, b + 1, b + 2)):
+        for k in range(4):
+            j = points[k]
             d_s0[j] += g_meet[k] * dq[k]
             d_before[j] += g_slope[k] * dq[k]
-        return d_s0, d_before, d_before.copy(), ""
+        return d_s0, d_before, d_before.copy(), 0
     if a == b and s0 == arc[a] + p_s0 and slope == p_slope:
         h0, h1 = arc[a] - arc[a - 1], arc[a + 1] - arc[a]
         if not -h0 < p_s0 < h1:
-            return d_s0, d_before, d_after, "the fitted stagnation point falls on a point"
+            return d_s0, d_before, d_after, 3
         values = q[a - 1 : a + 2]
         g_d0 = np.array([-1.0, 1.0, 0.0]) / h0
         g_d1 = np.array([0.0, -1.0, 1.0]) / h1
         g_c2 = (g_d1 - g_d0) / (h0 + h1)
         g_c1 = g_d0 + g_c2 * h0
-        c2 = float(g_c2 @ values)
-        c1 = float(g_c1 @ values)
+        c2 = _dot3(g_c2, values)
+        c1 = _dot3(g_c1, values)
         d_s0[a - 1 : a + 2] = -0.5 * (g_c1 * c2 - c1 * g_c2) / (c2 * c2)
-        d_before[a - 1 : a + 2] = g_c2 / (2.0 * math.sqrt(c2))
-        return d_s0, d_before, d_before.copy(), ""
-    return d_s0, d_before, d_after, "the stagnation point's model is not differentiated"
+        d_before[a - 1 : a + 2] = g_c2 / (2.0 * np.sqrt(c2))
+        return d_s0, d_before, d_before.copy(), 0
+    return d_s0, d_before, d_after, 4
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _dot3(u: F64, v: F64) -> float:
+    """u @ v of three-vectors, summed in order as numpy's dot of short vectors sums them."""
+    return u[0] * v[0] + u[1] * v[1] + u[2] * v[2]
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _stagnation_region(q: F64, a: int, b: int, tol: float, noise: float) -> tuple[int, int]:
     """The run a..b widened to the farthest points with q <= ``tol`` that are reached from it
     through points with q <= ``noise``."""
@@ -1174,22 +1193,120 @@ def _stagnation_region(q: F64, a: int, b: int, tol: float, noise: float) -> tupl
     return lo, hi
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _locate(
+    arc: F64, x: F64, q: F64, ends: bool
+) -> tuple[int, int, float, float, float, float, bool, float]:
+    """The front stagnation point of the listed contour (``_stagnation_candidates``), its
+    run widened over noisy taps at the stagnation value: (first and last point of the
+    run, s0, slope before, slope after, Ue at the vertex, whether the run is a plateau
+    left out of the sides, smallest q of the run); first = -1 when the data hold none.
+
+    Noisy taps round the stagnation point, some clipped to its value: every point at
+    the stagnation value reached through points within tap noise of it belongs to the
+    stagnation region, which becomes a plateau."""
+    n = q.size
+    a, b, s0, before, after, ue_vertex, plateau = _stagnation_candidates(
+        arc, x, q, ends, PLATEAU_Q, STAGNATION_COARSE
+    )
+    if a < 0:
+        return a, b, s0, before, after, ue_vertex, plateau, np.nan
+    lo, hi = _stagnation_region(q, a, b, PLATEAU_Q, CP_NOISE)
+    if (lo < a or hi > b) and lo > 0 and hi < n - 1:
+        a, b, plateau = lo, hi, True
+        s0 = 0.5 * (arc[a] + arc[b])
+        before = np.sqrt(q[a - 1]) / (s0 - arc[a - 1])
+        after = np.sqrt(q[b + 1]) / (arc[b + 1] - s0)
+        ue_vertex = np.sqrt(q[a : b + 1].min())
+    return a, b, s0, before, after, ue_vertex, plateau, q[a : b + 1].min()
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _axis_point(x: F64, y: F64, r: F64, arc: F64, closed: bool, radius_from_y: bool) -> float:
     """Arc length of the most upstream point where the body of revolution meets its axis
-    (radius 0, or y changing sign when the radius is |y|) inside the contour, or NaN."""
-    total = float(arc[-1])
-    inner = slice(1, -1) if closed else slice(None)
-    candidates = []
-    on_axis = np.flatnonzero(r[inner] <= REPEAT_TOLERANCE * total) + (1 if closed else 0)
-    candidates += [(float(x[i]), float(arc[i])) for i in on_axis.tolist()]
+    (radius 0, or y changing sign when the radius is |y|) inside the contour, or NaN;
+    of several at the same x, the first along the contour."""
+    n = x.size
+    limit = REPEAT_TOLERANCE * arc[n - 1]
+    best_x = best_s = np.nan
+    found = False
+    for i in range(1 if closed else 0, n - 1 if closed else n):
+        if r[i] <= limit and (not found or (x[i], arc[i]) < (best_x, best_s)):
+            found, best_x, best_s = True, x[i], arc[i]
     if radius_from_y:
-        cross = np.flatnonzero(y[:-1] * y[1:] < 0.0)
-        for i in cross.tolist():
-            t = y[i] / (y[i] - y[i + 1])
-            candidates.append(
-                (float(x[i] + t * (x[i + 1] - x[i])), float(arc[i] + t * (arc[i + 1] - arc[i])))
-            )
-    return min(candidates)[1] if candidates else float("nan")
+        for i in range(n - 1):
+            if y[i] * y[i + 1] < 0.0:
+                t = y[i] / (y[i] - y[i + 1])
+                at_x = x[i] + t * (x[i + 1] - x[i])
+                at_s = arc[i] + t * (arc[i + 1] - arc[i])
+                if not found or (at_x, at_s) < (best_x, best_s):
+                    found, best_x, best_s = True, at_x, at_s
+    return best_s
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _station(
+    columns: F64, arc: F64, index: F64, s0: float, tol: float, plateau: bool, a: int, b: int
+) -> tuple[int, float, float, float, float, float, float, float, float, int, int]:
+    """The stagnation point at arc length s0 on the segment from listed point i0 to
+    i0 + 1: (i0, the fraction along it, x0, y0, r0 (1 without a radius row), the
+    segment's direction dx/ds, dy/ds, dr/ds, the unwrapped fractional input index), and
+    the last point before it and the first after it on the sides: a point within ``tol``
+    of it is the stagnation station itself, and the points a..b of a plateau are left
+    out."""
+    n = arc.size
+    i0 = min(max(np.searchsorted(arc, s0, side="right") - 1, 0), n - 2)
+    seg = arc[i0 + 1] - arc[i0]
+    frac = (s0 - arc[i0]) / seg
+    x, y = columns[0], columns[1]
+    x0 = x[i0] + frac * (x[i0 + 1] - x[i0])
+    y0 = y[i0] + frac * (y[i0 + 1] - y[i0])
+    r0, dr0 = 1.0, 0.0
+    if columns.shape[0] > 3:
+        r = columns[3]
+        r0 = r[i0] + frac * (r[i0 + 1] - r[i0])
+        dr0 = (r[i0 + 1] - r[i0]) / seg
+    dx0, dy0 = (x[i0 + 1] - x[i0]) / seg, (y[i0 + 1] - y[i0]) / seg
+    position = index[i0] + frac * (index[i0 + 1] - index[i0])
+    if plateau:
+        last_before, first_after = a - 1, b + 1
+    else:
+        last_before = np.searchsorted(arc, s0 - tol, side="left") - 1
+        first_after = np.searchsorted(arc, s0 + tol, side="right")
+    return i0, frac, x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _vanishing(q: F64, first: int, step: int, size: int) -> int:
+    """The first of the ``size`` listed points from ``first`` on by ``step``, its last
+    left out, at the stagnation value (q <= ``PLATEAU_Q``): its place along them, or -1."""
+    for k in range(size - 1):
+        if q[first + step * k] <= PLATEAU_Q:
+            return k
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _nose_arrays(
+    index: F64, period: int, first: int, step: int, size: int, d_s0: F64, d_slope: F64, n_in: int
+) -> tuple[NDArray[np.int64], F64, F64]:
+    """A side's ``Nose`` arrays: the input point of each station (-1 at the stagnation
+    point, then the ``size`` listed points from ``first`` on by ``step``; listed indices
+    are unwrapped, taken modulo ``period`` on a closed contour, 0 when open), and the
+    derivatives ``d_s0`` and ``d_slope`` over the listed points summed onto the
+    ``n_in`` input points in listing order (a point listed twice gets both)."""
+    inputs = np.empty(index.size, dtype=np.int64)
+    for j in range(index.size):
+        inputs[j] = int(index[j]) % period if period > 0 else int(index[j])
+    points = np.empty(size + 1, dtype=np.int64)
+    points[0] = -1
+    for k in range(size):
+        points[k + 1] = inputs[first + step * k]
+    s0_grad, slope_grad = np.zeros(n_in), np.zeros(n_in)
+    for j in range(index.size):
+        s0_grad[inputs[j]] += d_s0[j]
+        slope_grad[inputs[j]] += d_slope[j]
+    return points, s0_grad, slope_grad
 
 
 def _split_contour(
@@ -1205,8 +1322,9 @@ def _split_contour(
     p_pointer: str,
     warnings: list[Notice],
     radius_from_y: bool = False,
-) -> tuple[list[SideInput], Stagnation]:
-    """Locate the stagnation point between points and split the contour into its sides.
+) -> tuple[list[SideInput], Stagnation, bool]:
+    """Locate the stagnation point between points and split the contour into its sides;
+    also whether the contour is closed.
 
     A closed contour (see ``_closure``) is first listed from the point where its sides
     meet, the most downstream point (the trailing edge or rear point; the middle of a
@@ -1226,21 +1344,10 @@ def _split_contour(
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 
-    a, b, s0, slope_before, slope_after, ue_vertex, plateau = _stagnation_candidates(
-        arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
+    a, b, s0, slope_before, slope_after, ue_vertex, plateau, q_run = _locate(
+        arc, x, q, not closed
     )
     nose_gap = ""
-    if a >= 0:
-        # Noisy taps round the stagnation point, some clipped to its value: every point at
-        # the stagnation value reached through points within tap noise of it belongs to
-        # the stagnation region, which becomes a plateau.
-        lo, hi = _stagnation_region(q, a, b, PLATEAU_Q, CP_NOISE)
-        if (lo < a or hi > b) and lo > 0 and hi < n - 1:
-            a, b, plateau = lo, hi, True
-            s0 = 0.5 * (arc[a] + arc[b])
-            slope_before = float(np.sqrt(q[a - 1]) / (s0 - arc[a - 1]))
-            slope_after = float(np.sqrt(q[b + 1]) / (arc[b + 1] - s0))
-            ue_vertex = float(np.sqrt(q[a : b + 1].min()))
     if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
         nose_gap = "the sides start without a stagnation slope"
@@ -1253,7 +1360,8 @@ def _split_contour(
         while b < n - 1 and x[b + 1] <= x[a] + TIE_TOLERANCE * total:
             b += 1
         s0 = 0.5 * (arc[a] + arc[b])
-        ue_vertex = float(np.sqrt(np.min(q[a : b + 1])))
+        q_run = float(np.min(q[a : b + 1]))
+        ue_vertex = math.sqrt(q_run)
         slope_before = slope_after = float("nan")
         plateau = False
         nose_gap = "no stagnation point in the data: the sides start as from a sharp edge"
@@ -1266,12 +1374,12 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    elif ue_vertex <= STAGNATION_UE < math.sqrt(q[a : b + 1].min()):
+    elif ue_vertex <= STAGNATION_UE < math.sqrt(q_run):
         warnings.append(
             Notice(
                 code="stagnation_point_between_taps",
                 message="no point reads the stagnation value (the largest Ue/U_inf falls to "
-                f"{np.sqrt(q[a : b + 1].min()):.3g}); the stagnation point is located between "
+                f"{math.sqrt(q_run):.3g}); the stagnation point is located between "
                 "points by extrapolating their edge velocity to zero, and the sides start "
                 "there with Ue rising linearly from 0",
                 pointer=p_pointer,
@@ -1289,7 +1397,8 @@ def _split_contour(
             )
         )
     if not nose_gap:
-        d_s0, d_before, d_after, nose_gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
+        d_s0, d_before, d_after, gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
+        nose_gap = NOSE_GAPS[gap]
     if axisymmetric:
         r_axis = radius if radius is not None else np.abs(y)
         axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
@@ -1321,86 +1430,73 @@ def _split_contour(
             )
         )
 
-    # The stagnation point on the segment from point i0 to i0 + 1.
-    i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
-    frac = (s0 - arc[i0]) / (arc[i0 + 1] - arc[i0])
-    x0 = float(x[i0] + frac * (x[i0 + 1] - x[i0]))
-    y0 = float(y[i0] + frac * (y[i0 + 1] - y[i0]))
-    r0 = float(radius[i0] + frac * (radius[i0 + 1] - radius[i0])) if radius is not None else 1.0
+    i0, frac, x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
+        columns, arc, index, s0, tol, plateau, a, b
+    )
     if axisymmetric and radius_from_y:
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
-    period = (n_in if implicit else n_in - 1) if closed else np.inf
-    seg = float(arc[i0 + 1] - arc[i0])
-    dx0, dy0 = float(x[i0 + 1] - x[i0]) / seg, float(y[i0 + 1] - y[i0]) / seg
-    dr0 = float(radius[i0 + 1] - radius[i0]) / seg if radius is not None else 0.0
-    if axisymmetric and radius_from_y:
         dr0 = math.copysign(dy0, y0)
-    inputs = (index.astype(np.int64) % int(period)) if closed else index.astype(np.int64)
-
-    def over_inputs(values: F64) -> F64:
-        out = np.zeros(n_in)
-        np.add.at(out, inputs, values)
-        return out
-
-    position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
+    period = (n_in if implicit else n_in - 1) if closed else np.inf
+    position = position % period
     along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
 
-    # Points before the stagnation point (walked backwards) and after it; a point within
-    # tol of it is the stagnation station itself, and the points of a plateau are left out.
-    if plateau:
-        last_before, first_after = a - 1, b + 1
-    else:
-        last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
-        first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
-    branches = (
-        np.arange(last_before, -1, -1, dtype=np.int64),
-        np.arange(first_after, n, dtype=np.int64),
-    )
+    # The points before the stagnation point (walked backwards) and after it, each as
+    # (first listed point, step, count).
+    runs = ((last_before, -1, max(last_before + 1, 0)), (first_after, 1, max(n - first_after, 0)))
     no_slope = math.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
-    ue_start = float(np.sqrt(q[a : b + 1].min())) if no_slope else 0.0
-    names = _side_names(x, y, branches, closed, y0)
-    vanishing = np.flatnonzero(q <= PLATEAU_Q).tolist()  # points at the stagnation value
+    ue_start = math.sqrt(q_run) if no_slope else 0.0
+    names = _side_names(x, y, runs, closed, y0)
     sides: list[SideInput] = []
-    for branch, name, slope in zip(branches, names, (slope_before, slope_after), strict=True):
-        if branch.size + 1 < MIN_POINTS:
+    for (first, step, size), name, slope in zip(runs, names, (slope_before, slope_after), strict=True):
+        if size + 1 < MIN_POINTS:
             continue
-        # A side ends where its edge velocity falls to zero again (another stagnation point):
-        # the first point of branch[:-1] at the stagnation value (a branch steps by 1 or -1).
-        first, step = int(branch[0]), 1 if branch is branches[1] else -1
-        zero = [(i - first) * step for i in vanishing if 0 <= (i - first) * step < branch.size - 1]
-        if zero:
-            branch = branch[: min(zero) + 1]
+        # A side ends where its edge velocity falls to zero again (another stagnation point).
+        ends = _vanishing(q, first, step, size)
+        if ends >= 0:
+            size = ends + 1
+            last = first + step * ends
             warnings.append(
                 Notice(
                     code="edge_velocity_vanishes",
                     message=f"{name}: the edge velocity falls to zero at s = "
-                    f"{abs(arc[branch[-1]] - s0):.4g} from the stagnation point (another "
+                    f"{abs(arc[last] - s0):.4g} from the stagnation point (another "
                     "stagnation point); the side ends there",
-                    pointer=f"{p_pointer}/{int(index[branch[-1]] % period)}",
+                    pointer=f"{p_pointer}/{int(index[last] % period)}",
                 )
             )
         side_s, u, r, side_x, side_y = _side_rows(
-            columns, arc, int(branch[0]), step, branch.size, s0, ue_start, x0, y0, r0
+            columns, arc, first, step, size, s0, ue_start, x0, y0, r0
         )
-        nose = None
-        if not nose_gap:
-            before = branch is branches[0]
+        if nose_gap:
+            nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
+        else:
+            # A side ended at another stagnation point takes the derivatives and direction
+            # of the side after the stagnation point.
+            before = step < 0 and ends < 0
+            points, s0_grad, slope_grad = _nose_arrays(
+                index,
+                int(period) if closed else 0,
+                first,
+                step,
+                size,
+                d_s0,
+                d_before if before else d_after,
+                n_in,
+            )
             nose = Nose(
-                points=np.concatenate([[-1], inputs[branch]]),
-                s0_grad=over_inputs(d_s0),
-                slope_grad=over_inputs(d_before if before else d_after),
+                points=points,
+                s0_grad=s0_grad,
+                slope_grad=slope_grad,
                 direction=1.0 if before else -1.0,
                 position_grad=(dx0, dy0, dr0),
                 gap="",
             )
-        else:
-            nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
         if axisymmetric:
             zero_r = np.flatnonzero(r[1:-1] <= 0.0)
             if zero_r.size:
-                i = int(index[branch[zero_r[0]]] % period)
+                i = int(index[first + step * int(zero_r[0])] % period)
                 pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
                 raise CaseError.at(
                     pointer,
@@ -1432,7 +1528,7 @@ def _split_contour(
         raise CaseError.at("/surface", "too few points on either side of the stagnation point")
     if len(sides) == 2 and sides[0].name == sides[1].name:
         raise CaseError.at("/surface", "could not tell the upper side from the lower side")
-    return sides, stagnation
+    return sides, stagnation, closed
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1469,26 +1565,30 @@ def _side_rows(
     return block
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _listed_arc(arc: F64, x: F64, y: F64, j: int) -> float:
+    """Arc length along the input list at point j; j = arc.size is the first point again,
+    past the closing segment of a loop."""
+    if j < arc.size:
+        return arc[j]
+    return arc[-1] + np.hypot(x[-1] - x[0], y[-1] - y[0])
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
     """Arc length along the input list at a fractional point index, linear between points;
     one past the last point is the first again (the closing segment of a loop)."""
     last = arc.size  # the index of the first point repeated
-
-    def listed(j: int) -> float:
-        if j < last:
-            return float(arc[j])
-        return float(arc[-1] + float(np.hypot(x[-1] - x[0], y[-1] - y[0])))
-
-    if math.isnan(position):
+    if np.isnan(position):
         return position
     if not position > 0.0:
-        return listed(0)
+        return _listed_arc(arc, x, y, 0)
     j = int(position)
     if j >= last:
-        return listed(last)
-    low = listed(j)
+        return _listed_arc(arc, x, y, last)
+    low = _listed_arc(arc, x, y, j)
     # As numpy.interp on the integer grid of the points: slope * (x - x_j) + f_j.
-    return (listed(j + 1) - low) * (position - j) + low
+    return (_listed_arc(arc, x, y, j + 1) - low) * (position - j) + low
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1500,20 +1600,24 @@ def _extent_product(x: F64, y: F64) -> float:
 def _side_names(
     x: F64,
     y: F64,
-    branches: tuple[NDArray[np.int64], NDArray[np.int64]],
+    runs: tuple[tuple[int, int, int], tuple[int, int, int]],
     closed: bool,
     y0: float,
 ) -> tuple[Literal["upper", "lower"], Literal["upper", "lower"]]:
     """Names of the side walked backwards from the stagnation point and of the one walked
-    forwards.  On a closed contour, by its orientation: walking round it counter-clockwise
-    from the front stagnation point goes over the lower side first.  Otherwise (or for a
-    contour without area) the side with the higher mean y is the upper one; a side alone
-    is the upper one unless it lies below the stagnation point."""
+    forwards, each given as (first listed point, step, count).  On a closed contour, by
+    its orientation: walking round it counter-clockwise from the front stagnation point
+    goes over the lower side first.  Otherwise (or for a contour without area) the side
+    with the higher mean y is the upper one; a side alone is the upper one unless it lies
+    below the stagnation point."""
     if closed:
         area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
         if abs(area) > 1e-12 * (_extent_product(x, y) + 1e-300):
             return ("upper", "lower") if area > 0.0 else ("lower", "upper")
-    mean = [float(y[branch].mean()) if branch.size else np.nan for branch in branches]
+    mean = [
+        float(y[np.arange(first, first + step * size, step)].mean()) if size else np.nan
+        for first, step, size in runs
+    ]
     if np.isnan(mean[1]) or np.isnan(mean[0]):
         alone = mean[0] if np.isnan(mean[1]) else mean[1]
         name: Literal["upper", "lower"] = "lower" if alone < y0 else "upper"
