@@ -355,10 +355,44 @@ def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None
 
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
     array = np.fromiter(values, dtype=np.float64, count=len(values))  # faster than np.array
-    if not math.isfinite(array.sum()):
-        bad = np.flatnonzero(~np.isfinite(array))
-        problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
+    bad = _first_nonfinite(array)
+    if bad >= 0:
+        problems.append(FieldProblem(f"{pointer}/{bad}", "is not a finite number"))
     return array
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_nonfinite(values: F64) -> int:
+    """The index of the first value that is not a finite number, or -1."""
+    for i in range(values.size):
+        if not np.isfinite(values[i]):
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_at_most(values: F64, start: int, stop: int, limit: float) -> int:
+    """The index of the first of ``values[start:stop]`` at or below ``limit``, or -1."""
+    for i in range(start, stop):
+        if values[i] <= limit:
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _sign_change(values: F64) -> int:
+    """The index of the first finite value whose sign (-1 or +1; zeros left out) differs
+    from that of the first non-zero finite value, or -1."""
+    first = 0.0
+    for i in range(values.size):
+        sign = np.sign(values[i])
+        if not np.isfinite(values[i]) or sign == 0.0:
+            continue
+        if first == 0.0:
+            first = sign
+        elif sign != first:
+            return i
+    return -1
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -375,6 +409,16 @@ def _arc_length(x: F64, y: F64, tolerance: float) -> tuple[F64, int]:
         if arc[i] - arc[i - 1] <= limit:
             return arc, i
     return arc, -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_not_increasing(s: F64) -> int:
+    """The index of the first value not above the one before it (s[i] - s[i-1] <= 0), or
+    -1."""
+    for i in range(1, s.size):
+        if s[i] - s[i - 1] <= 0.0:
+            return i
+    return -1
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -402,12 +446,8 @@ def _check_length(
 def _check_one_sign(ue: F64, problems: list[FieldProblem]) -> None:
     """A single surface's signed edge velocity must not change sign: where it does, the
     surface passes a stagnation point and the layer cannot march through it."""
-    signs = np.sign(ue[np.isfinite(ue)])
-    moving = np.flatnonzero(signs)
-    if moving.size and np.any(signs[moving] != signs[moving[0]]):
-        i = int(
-            np.flatnonzero(np.isfinite(ue))[moving[np.argmax(signs[moving] != signs[moving[0]])]]
-        )
+    i = _sign_change(ue)
+    if i >= 0:
         problems.append(
             FieldProblem(
                 f"/pressure/edge_velocity/{i}",
@@ -459,6 +499,8 @@ def _smooth(q: F64, arc: F64, smoothing: float | str, periodic: bool) -> tuple[F
 
 def _noise_notice(arc: F64, q: F64, pointer: str) -> Notice | None:
     """A warning when the pressure data look noisy enough to upset the march."""
+    if smoothing_module.noise_at_most(arc, q, NOISE_SIGMA):
+        return None  # the common case, told from half the work of the estimate
     sigma, ratio = smoothing_module.noise_estimate(arc, q)
     if sigma <= NOISE_SIGMA or ratio <= NOISE_RATIO:
         return None
@@ -589,10 +631,8 @@ def prepare(case: Case) -> Prepared:
             i = repeated
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
     else:
-        step = np.diff(s_in)
-        bad = np.flatnonzero(step <= 0.0)
-        if bad.size:
-            i = int(bad[0]) + 1
+        i = _first_not_increasing(s_in)
+        if i > 0:
             raise CaseError.at(
                 f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
             )
@@ -773,9 +813,8 @@ def _single_side(
 ) -> SideInput:
     inflow = case.inflow
     p_pointer = _pressure_pointer(case.pressure)
-    inner_zero = np.flatnonzero(ue[1:] <= 0.0)
-    if inner_zero.size:
-        i = int(inner_zero[0]) + 1
+    i = _first_at_most(ue, 1, ue.size, 0.0)
+    if i >= 0:
         raise CaseError.at(
             f"{p_pointer}/{i}",
             "the edge velocity vanishes inside the surface; give a contour (x, y) so that "
@@ -783,11 +822,9 @@ def _single_side(
         )
     axisymmetric = case.body.kind == "axisymmetric"
     if axisymmetric and radius is not None:
-        zero = np.flatnonzero(radius[1:] <= 0.0)
-        if zero.size:
-            raise CaseError.at(
-                f"/body/radius/{int(zero[0]) + 1}", "must be positive after the first point"
-            )
+        zero = _first_at_most(radius, 1, radius.size, 0.0)
+        if zero >= 0:
+            raise CaseError.at(f"/body/radius/{zero}", "must be positive after the first point")
     r = radius if radius is not None else np.ones_like(s)
     if inflow is not None:
         if ue[0] <= 0.0:
@@ -1494,9 +1531,9 @@ def _split_contour(
                 gap="",
             )
         if axisymmetric:
-            zero_r = np.flatnonzero(r[1:-1] <= 0.0)
-            if zero_r.size:
-                i = int(index[first + step * int(zero_r[0])] % period)
+            zero_r = _first_at_most(r, 1, r.size - 1, 0.0)  # station k is listed point k - 1
+            if zero_r >= 0:
+                i = int(index[first + step * (zero_r - 1)] % period)
                 pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
                 raise CaseError.at(
                     pointer,
@@ -1618,9 +1655,9 @@ def _side_names(
         float(y[np.arange(first, first + step * size, step)].mean()) if size else np.nan
         for first, step, size in runs
     ]
-    if np.isnan(mean[1]) or np.isnan(mean[0]):
-        alone = mean[0] if np.isnan(mean[1]) else mean[1]
+    if math.isnan(mean[1]) or math.isnan(mean[0]):
+        alone = mean[0] if math.isnan(mean[1]) else mean[1]
         name: Literal["upper", "lower"] = "lower" if alone < y0 else "upper"
         other: Literal["upper", "lower"] = "upper" if name == "lower" else "lower"
-        return (name, other) if np.isnan(mean[1]) else (other, name)
+        return (name, other) if math.isnan(mean[1]) else (other, name)
     return ("upper", "lower") if mean[0] >= mean[1] else ("lower", "upper")
