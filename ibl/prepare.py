@@ -396,19 +396,43 @@ def _sign_change(values: F64) -> int:
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _arc_length(x: F64, y: F64, tolerance: float) -> tuple[F64, int]:
-    """Arc length along a contour (chords), and the first point that repeats the one
+def _chords(x: F64, y: F64) -> F64:
+    """The length of each segment of a contour, point i to i + 1."""
+    chord = np.empty(x.size - 1)
+    for i in range(chord.size):
+        chord[i] = np.hypot(x[i + 1] - x[i], y[i + 1] - y[i])
+    return chord
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _arc_from_chords(chord: F64, tolerance: float) -> tuple[F64, int]:
+    """Arc length from the segment lengths, and the first point that repeats the one
     before it (closer than ``tolerance`` times the contour length), or -1."""
-    n = x.size
+    n = chord.size + 1
     arc = np.empty(n)
     arc[0] = 0.0
     for i in range(1, n):
-        arc[i] = arc[i - 1] + np.hypot(x[i] - x[i - 1], y[i] - y[i - 1])
+        arc[i] = arc[i - 1] + chord[i - 1]
     limit = tolerance * arc[n - 1]
     for i in range(1, n):
         if arc[i] - arc[i - 1] <= limit:
             return arc, i
     return arc, -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _arc_length(x: F64, y: F64, tolerance: float) -> tuple[F64, int]:
+    """Arc length along a contour (chords), and the first point that repeats the one
+    before it (closer than ``tolerance`` times the contour length), or -1."""
+    return _arc_from_chords(_chords(x, y), tolerance)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _arc_and_chords(x: F64, y: F64, tolerance: float) -> tuple[F64, F64, int]:
+    """``_arc_length`` and the segment lengths it adds up (``_listing`` uses them again)."""
+    chord = _chords(x, y)
+    arc, repeated = _arc_from_chords(chord, tolerance)
+    return arc, chord, repeated
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -626,7 +650,7 @@ def prepare(case: Case) -> Prepared:
     warnings: list[Notice] = []
     # Arc length along the input.
     if contour:
-        arc, repeated = _arc_length(x, y, REPEAT_TOLERANCE)
+        arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
         if repeated > 0:
             i = repeated
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
@@ -712,7 +736,19 @@ def prepare(case: Case) -> Prepared:
         warnings.extend(_trip_notices(case, [side]))
         return Prepared([side], None, warnings)
     sides, stagnation, closed = _split_contour(
-        arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings, radius_from_y
+        arc,
+        chord,
+        x,
+        y,
+        q,
+        radius,
+        nu,
+        axisymmetric,
+        options,
+        trips,
+        p_pointer,
+        warnings,
+        radius_from_y,
     )
     warnings.extend(_trip_notices(case, sides))
     return Prepared(sides, stagnation, warnings, closed)
@@ -948,12 +984,15 @@ def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
 
 @numba.njit(cache=True, error_model="numpy")
 def _listing(
-    x: F64, y: F64, q: F64, radius: F64, closed: bool, implicit: bool
+    x: F64, y: F64, q: F64, radius: F64, closed: bool, implicit: bool, arc: F64, chord: F64
 ) -> tuple[F64, F64, F64]:
     """The contour as rows x, y, q (and the radius, unless ``radius`` is empty), listed
     from its rear point when closed (``_rear_point``, ``_rotate``; the first point
     repeated at the end when the closure is implicit); each point's unwrapped index in the
-    input list, and the arc length along the listing."""
+    input list, and the arc length along the listing.  ``arc`` and ``chord`` are the arc
+    length along the input list and its segment lengths (``_arc_and_chords``): the arc
+    length along the listing adds up the same segments in the order listed, as
+    ``_arc_length`` of the listed points would."""
     n_in = x.size
     width = n_in + 1 if implicit else n_in
     columns = np.empty((3 if radius.size == 0 else 4, width))
@@ -965,11 +1004,22 @@ def _listing(
     if implicit:
         columns[:, n_in] = columns[:, 0]
     index = np.arange(width).astype(np.float64)
-    if closed:
-        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
-        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
-    arc, _ = _arc_length(columns[0], columns[1], 0.0)
-    return columns, index, arc
+    if not closed:
+        return columns, index, arc
+    m = width - 1  # distinct points; segment m - 1 closes the loop to point 0
+    closing = np.hypot(x[0] - x[m - 1], y[0] - y[m - 1])
+    cycle_arc = arc
+    if implicit:
+        cycle_arc = np.empty(width)
+        cycle_arc[:n_in] = arc
+        cycle_arc[n_in] = arc[n_in - 1] + closing
+    columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    listed = np.empty(index.size)
+    listed[0] = 0.0
+    for j in range(1, index.size):
+        p = int(index[j - 1]) % m  # the segment from point p to p + 1 (modulo m)
+        listed[j] = listed[j - 1] + (chord[p] if p < m - 1 else closing)
+    return columns, index, listed
 
 
 def _relative_trip(at: float | None, offset: float) -> float | None:
@@ -1348,6 +1398,7 @@ def _nose_arrays(
 
 def _split_contour(
     arc: F64,
+    chord: F64,
     x: F64,
     y: F64,
     q: F64,
@@ -1361,7 +1412,7 @@ def _split_contour(
     radius_from_y: bool = False,
 ) -> tuple[list[SideInput], Stagnation, bool]:
     """Locate the stagnation point between points and split the contour into its sides;
-    also whether the contour is closed.
+    also whether the contour is closed.  ``arc`` and ``chord``: see ``_arc_and_chords``.
 
     A closed contour (see ``_closure``) is first listed from the point where its sides
     meet, the most downstream point (the trailing edge or rear point; the middle of a
@@ -1373,7 +1424,7 @@ def _split_contour(
     arc_in, x_in, y_in = arc, x, y
     closed, implicit = _closure(x, y, arc)
     columns, index, arc = _listing(
-        x, y, q, radius if radius is not None else np.empty(0), closed, implicit
+        x, y, q, radius if radius is not None else np.empty(0), closed, implicit, arc, chord
     )
     x, y, q = columns[0], columns[1], columns[2]
     radius = columns[3] if radius is not None else None
