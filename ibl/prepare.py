@@ -446,6 +446,15 @@ def _first_not_increasing(s: F64) -> int:
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _bernoulli_q(cp: F64) -> F64:
+    """(Ue/U_inf)^2 = 1 - Cp, at least 0 (Bernoulli): ``numpy.maximum(1.0 - cp, 0.0)``."""
+    q = np.empty(cp.size)
+    for i in range(cp.size):
+        q[i] = max(1.0 - cp[i], 0.0)
+    return q
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _cp_excess(cp: F64, cp_max: float, noise: float) -> tuple[int, int]:
     """The first Cp above its stagnation value by more than ``noise`` (or -1), and how many
     exceed it at all."""
@@ -686,7 +695,7 @@ def prepare(case: Case) -> Prepared:
         if mach > 0.0:
             q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
         else:
-            q = np.maximum(1.0 - p_values, 0.0)  # Bernoulli: (Ue/U_inf)^2 = 1 - Cp
+            q = _bernoulli_q(p_values)
     else:
         q = p_values**2
     if mach > 0.0:
@@ -1017,7 +1026,9 @@ def _listing(
     listed = np.empty(index.size)
     listed[0] = 0.0
     for j in range(1, index.size):
-        p = int(index[j - 1]) % m  # the segment from point p to p + 1 (modulo m)
+        p = int(index[j - 1])  # the segment from point p to p + 1 (modulo m)
+        while p >= m:
+            p -= m
         listed[j] = listed[j - 1] + (chord[p] if p < m - 1 else closing)
     return columns, index, listed
 
@@ -1384,7 +1395,10 @@ def _nose_arrays(
     ``n_in`` input points in listing order (a point listed twice gets both)."""
     inputs = np.empty(index.size, dtype=np.int64)
     for j in range(index.size):
-        inputs[j] = int(index[j]) % period if period > 0 else int(index[j])
+        inputs[j] = int(index[j])
+        if period > 0:
+            while inputs[j] >= period:  # unwrapped indices lie below two periods
+                inputs[j] -= period
     points = np.empty(size + 1, dtype=np.int64)
     points[0] = -1
     for k in range(size):
