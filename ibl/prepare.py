@@ -386,6 +386,15 @@ def _first_at_most(values: F64, start: int, stop: int, limit: float) -> int:
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _first_above(values: F64, limit: float) -> int:
+    """The index of the first value above ``limit``, or -1."""
+    for i in range(values.size):
+        if values[i] > limit:
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _sign_change(values: F64) -> int:
     """The index of the first finite value whose sign (-1 or +1; zeros left out) differs
     from that of the first non-zero finite value, or -1."""
@@ -731,7 +740,7 @@ def prepare(case: Case) -> Prepared:
         noisy = _noise_notice(arc, q, p_pointer)
         if noisy is not None:
             warnings.append(noisy)
-    if not q.max() > 0.0:
+    if _first_above(q, 0.0) < 0:
         raise CaseError.at(p_pointer, "the edge velocity is zero everywhere")
 
     nu = 1.0 / flow.reynolds if flow.reynolds is not None else 0.0
