@@ -1519,7 +1519,7 @@ def _split_contour(
     if axisymmetric:
         r_axis = radius if radius is not None else np.abs(y)
         axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
-        if np.isfinite(axis) and abs(axis - s0) > tol:
+        if math.isfinite(axis) and abs(axis - s0) > tol:
             spacing = float(np.max(np.diff(arc[max(a - 1, 0) : b + 2])))
             if abs(axis - s0) > spacing:
                 warnings.append(
@@ -1731,13 +1731,19 @@ def _side_names(
         area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
         if abs(area) > 1e-12 * (_extent_product(x, y) + 1e-300):
             return ("upper", "lower") if area > 0.0 else ("lower", "upper")
-    mean = [
-        float(y[np.arange(first, first + step * size, step)].mean()) if size else np.nan
-        for first, step, size in runs
-    ]
+    mean = [_mean_along(y, first, step, size) for first, step, size in runs]
     if math.isnan(mean[1]) or math.isnan(mean[0]):
         alone = mean[0] if math.isnan(mean[1]) else mean[1]
         name: Literal["upper", "lower"] = "lower" if alone < y0 else "upper"
         other: Literal["upper", "lower"] = "upper" if name == "lower" else "lower"
         return (name, other) if math.isnan(mean[1]) else (other, name)
     return ("upper", "lower") if mean[0] >= mean[1] else ("lower", "upper")
+
+
+def _mean_along(y: F64, first: int, step: int, size: int) -> float:
+    """The mean of the ``size`` values of y from ``first`` on by ``step`` (1 or -1), summed
+    in that order as ``numpy.mean`` sums them; NaN when there are none."""
+    if not size:
+        return math.nan
+    values = y[first : first + size] if step > 0 else y[np.arange(first, first - size, -1)]
+    return float(values.sum() / size)
