@@ -358,7 +358,7 @@ def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F
     """The values as an array; a value that is not a finite number is a problem."""
     array = np.empty(len(values))
     try:  # packing the list into the array's buffer: twice as fast as numpy.fromiter
-        struct.pack_into(f"{len(values)}d", array, 0, *values)
+        struct.pack_into(f"{len(values)}d", array.data, 0, *values)
     except struct.error:  # not numbers: numpy says why, as it always has
         array = np.fromiter(values, dtype=np.float64, count=len(values))
     bad = _first_nonfinite(array)
@@ -1285,7 +1285,7 @@ def _nose_gradients(
 @numba.njit(cache=True, error_model="numpy")
 def _dot3(u: F64, v: F64) -> float:
     """u @ v of three-vectors, summed in order as numpy's dot of short vectors sums them."""
-    return u[0] * v[0] + u[1] * v[1] + u[2] * v[2]
+    return float(u[0] * v[0] + u[1] * v[1] + u[2] * v[2])
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1360,15 +1360,15 @@ def _axis_point(x: F64, y: F64, r: F64, arc: F64, closed: bool, radius_from_y: b
 @numba.njit(cache=True, error_model="numpy")
 def _station(
     columns: F64, arc: F64, index: F64, s0: float, tol: float, plateau: bool, a: int, b: int
-) -> tuple[int, float, float, float, float, float, float, float, float, int, int]:
-    """The stagnation point at arc length s0 on the segment from listed point i0 to
-    i0 + 1: (i0, the fraction along it, x0, y0, r0 (1 without a radius row), the
-    segment's direction dx/ds, dy/ds, dr/ds, the unwrapped fractional input index), and
+) -> tuple[float, float, float, float, float, float, float, int, int]:
+    """The stagnation point at arc length s0 on the segment from the listed point before
+    it to the next: (x0, y0, r0 (1 without a radius row), the segment's direction dx/ds,
+    dy/ds, dr/ds, the unwrapped fractional input index), and
     the last point before it and the first after it on the sides: a point within ``tol``
     of it is the stagnation station itself, and the points a..b of a plateau are left
     out."""
     n = arc.size
-    i0 = min(max(np.searchsorted(arc, s0, side="right") - 1, 0), n - 2)
+    i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
     seg = arc[i0 + 1] - arc[i0]
     frac = (s0 - arc[i0]) / seg
     x, y = columns[0], columns[1]
@@ -1384,9 +1384,9 @@ def _station(
     if plateau:
         last_before, first_after = a - 1, b + 1
     else:
-        last_before = np.searchsorted(arc, s0 - tol, side="left") - 1
-        first_after = np.searchsorted(arc, s0 + tol, side="right")
-    return i0, frac, x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after
+        last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
+        first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
+    return x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1461,9 +1461,7 @@ def _split_contour(
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 
-    a, b, s0, slope_before, slope_after, ue_vertex, plateau, q_run = _locate(
-        arc, x, q, not closed
-    )
+    a, b, s0, slope_before, slope_after, ue_vertex, plateau, q_run = _locate(arc, x, q, not closed)
     nose_gap = ""
     if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
@@ -1547,7 +1545,7 @@ def _split_contour(
             )
         )
 
-    i0, frac, x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
+    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
         columns, arc, index, s0, tol, plateau, a, b
     )
     if axisymmetric and radius_from_y:
@@ -1566,7 +1564,9 @@ def _split_contour(
     ue_start = math.sqrt(q_run) if no_slope else 0.0
     names = _side_names(x, y, runs, closed, y0)
     sides: list[SideInput] = []
-    for (first, step, size), name, slope in zip(runs, names, (slope_before, slope_after), strict=True):
+    for (first, step, size), name, slope in zip(
+        runs, names, (slope_before, slope_after), strict=True
+    ):
         if size + 1 < MIN_POINTS:
             continue
         # A side ends where its edge velocity falls to zero again (another stagnation point).
@@ -1687,8 +1687,8 @@ def _listed_arc(arc: F64, x: F64, y: F64, j: int) -> float:
     """Arc length along the input list at point j; j = arc.size is the first point again,
     past the closing segment of a loop."""
     if j < arc.size:
-        return arc[j]
-    return arc[-1] + np.hypot(x[-1] - x[0], y[-1] - y[0])
+        return float(arc[j])
+    return float(arc[-1] + np.hypot(x[-1] - x[0], y[-1] - y[0]))
 
 
 @numba.njit(cache=True, error_model="numpy")
