@@ -65,6 +65,9 @@ STAGNATION_COARSE = 0.5
 PLATEAU_Q = 1e-6
 #: A stagnation plateau longer than this fraction of the contour is reported.
 PLATEAU_WARNING = 1e-3
+#: A closed contour whose area is at most this fraction of its bounding box's has no
+#: orientation: its sides are named from their mean y.
+AREA_TOLERANCE = 1e-12
 #: Points whose x differs by less than this fraction of the contour length tie for the most
 #: upstream point (a flat front face) of data without a stagnation point.
 TIE_TOLERANCE = 1e-7
@@ -1709,6 +1712,34 @@ def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _orientation(x: F64, y: F64) -> int:
+    """The orientation of a closed contour (its last point repeating its first) from the
+    sign of its area (the shoelace sum): 1 counter-clockwise, -1 clockwise, 0 when the
+    area is at most ``AREA_TOLERANCE`` times that of the bounding box; 2 when the rounding
+    of the two sums of products could change that answer.
+
+    Each sum, in any order of summation (numpy's dot products sum in blocks), lies within
+    n u sum |terms| of the exact one (u the unit roundoff); the margin taken is four
+    times that, so any other order of summation gives the same answer unless 2 is
+    returned."""
+    n = x.size - 1
+    forward = backward = size = 0.0
+    for i in range(n):
+        a, b = x[i] * y[i + 1], x[i + 1] * y[i]
+        forward += a
+        backward += b
+        size += abs(a) + abs(b)
+    area = 0.5 * (forward - backward)
+    limit = AREA_TOLERANCE * (_extent_product(x, y) + 1e-300)
+    margin = 4.0 * (n + 2) * 2.0**-53 * size
+    if abs(area) - margin > limit:
+        return 1 if area > 0.0 else -1
+    if abs(area) + margin <= limit:
+        return 0
+    return 2
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _extent_product(x: F64, y: F64) -> float:
     """(max x - min x) (max y - min y): the area of the contour's bounding box."""
     return float((x.max() - x.min()) * (y.max() - y.min()))
@@ -1728,9 +1759,14 @@ def _side_names(
     with the higher mean y is the upper one; a side alone is the upper one unless it lies
     below the stagnation point."""
     if closed:
-        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
-        if abs(area) > 1e-12 * (_extent_product(x, y) + 1e-300):
-            return ("upper", "lower") if area > 0.0 else ("lower", "upper")
+        turn = _orientation(x, y)
+        if turn == 2:  # too close to call whatever the order of summation: numpy's sums call it
+            area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+            turn = 0
+            if abs(area) > AREA_TOLERANCE * (_extent_product(x, y) + 1e-300):
+                turn = 1 if area > 0.0 else -1
+        if turn:
+            return ("upper", "lower") if turn > 0 else ("lower", "upper")
     mean = [_mean_along(y, first, step, size) for first, step, size in runs]
     if math.isnan(mean[1]) or math.isnan(mean[0]):
         alone = mean[0] if math.isnan(mean[1]) else mean[1]

@@ -313,3 +313,45 @@ def test_noise_bound_never_hides_a_larger_estimate(seed: int) -> None:
         if noise_at_most(s, q, limit):
             assert sigma <= limit
     assert noise_at_most(s, q, 1.01 * math.sqrt(256.0 / 255.0) * sigma + 1.0) or n < 11
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_orientation_decides_as_numpy_dot_products(seed: int) -> None:
+    # The definition: the shoelace area from numpy's dot products against the tolerance.
+    rng = np.random.default_rng(seed)
+    for _ in range(200):
+        n = int(rng.integers(3, 300))
+        t = np.sort(rng.random(n)) * 2.0 * np.pi
+        flat = 10.0 ** float(rng.integers(-16, 0)) * rng.choice([0.0, 1.0, -1.0])
+        x = np.cos(t) + 1e-3 * rng.standard_normal(n)
+        y = flat * np.sin(t) + (1e-14 * rng.standard_normal(n) if rng.random() < 0.5 else 0.0)
+        x, y = np.append(x, x[0]), np.append(y, y[0])
+        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+        limit = prepare.AREA_TOLERANCE * (prepare._extent_product(x, y) + 1e-300)
+        want = (1 if area > 0.0 else -1) if abs(area) > limit else 0
+        got = prepare._orientation(x, y)
+        assert got in (want, 2)
+
+
+def test_side_names_of_nearly_flat_loops_as_numpy_names_them() -> None:
+    # Loops out and back along one curve, offset by about the area tolerance, far from the
+    # origin (large products): the orientation is too close to call in compiled sums, and
+    # numpy's dot products name the sides, as they always did.
+    rng = np.random.default_rng(11)
+    undecided = 0
+    for _ in range(300):
+        n = int(rng.integers(4, 100))
+        t = np.linspace(0.0, 1.0, n)
+        offset = prepare.AREA_TOLERANCE * 10.0 ** float(rng.uniform(-1.0, 1.0))
+        x = 1e3 + np.concatenate([t, t[::-1]])
+        y = 0.1 * np.concatenate([np.sin(t), np.sin(t[::-1]) + offset * rng.random(n)])
+        x, y = np.append(x, x[0]), np.append(y, y[0])
+        undecided += prepare._orientation(x, y) == 2
+        runs = ((n - 1, -1, n), (n, 1, n + 1))
+        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+        if abs(area) > prepare.AREA_TOLERANCE * (prepare._extent_product(x, y) + 1e-300):
+            want = ("upper", "lower") if area > 0.0 else ("lower", "upper")
+        else:
+            want = prepare._side_names(x, y, runs, False, float(y[n - 1]))
+        assert prepare._side_names(x, y, runs, True, float(y[n - 1])) == want
+    assert undecided > 0
