@@ -216,11 +216,11 @@ def _plateaus(case: Case, prepared: Prepared) -> _Ready:
         return _Ready(prepared, [None] * count, [False] * count)
     sides, plateaus, cut = [], [], []
     for side in prepared.sides:
-        cp = cp_from_edge_velocity(side.ue, case.flow.mach)
         # Single-surface input has no geometry to tell a separated plateau from attached
         # flow at constant pressure (ibl.plateau, rule (c)): it is not checked.
         found = None
         if side.x is not None and side.y is not None:
+            cp = cp_from_edge_velocity(side.ue, case.flow.mach)
             found = find_plateau(side.s, cp, side.x, side.y)
         shorter = cut_side(side, found.onset_s) if found is not None else None
         sides.append(shorter if shorter is not None else side)

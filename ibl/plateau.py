@@ -146,10 +146,21 @@ def cp_from_edge_velocity(ue: F64, mach: float = 0.0, gamma: float = GAMMA) -> F
     """
     ue = np.asarray(ue, dtype=np.float64)
     if mach <= 0.0:
+        if ue.ndim == 1:
+            return _bernoulli_cp(ue)
         return np.asarray(1.0 - ue**2, dtype=np.float64)
     t_ratio = 1.0 + 0.5 * (gamma - 1.0) * mach**2 * (1.0 - ue**2)
     p_ratio = np.maximum(t_ratio, 0.0) ** (gamma / (gamma - 1.0))
     return np.asarray((p_ratio - 1.0) / (0.5 * gamma * mach**2), dtype=np.float64)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _bernoulli_cp(ue: F64) -> F64:
+    """Cp = 1 - (Ue/U_inf)^2 at each point (Bernoulli): ``1.0 - ue**2``, compiled."""
+    cp = np.empty(ue.size)
+    for i in range(ue.size):
+        cp[i] = 1.0 - ue[i] * ue[i]
+    return cp
 
 
 @numba.njit(cache=True, error_model="numpy")

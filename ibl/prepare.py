@@ -16,6 +16,7 @@ everything this module changes on the way (clipping, smoothing) becomes a warnin
 from __future__ import annotations
 
 import math
+import struct
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 from typing import Literal
@@ -64,6 +65,9 @@ STAGNATION_COARSE = 0.5
 PLATEAU_Q = 1e-6
 #: A stagnation plateau longer than this fraction of the contour is reported.
 PLATEAU_WARNING = 1e-3
+#: A closed contour whose area is at most this fraction of its bounding box's has no
+#: orientation: its sides are named from their mean y.
+AREA_TOLERANCE = 1e-12
 #: Points whose x differs by less than this fraction of the contour length tie for the most
 #: upstream point (a flat front face) of data without a stagnation point.
 TIE_TOLERANCE = 1e-7
@@ -354,27 +358,118 @@ def _check_pressure_references(case: Case, problems: list[FieldProblem]) -> None
 
 
 def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F64:
-    array = np.fromiter(values, dtype=np.float64, count=len(values))  # faster than np.array
-    if not math.isfinite(array.sum()):
-        bad = np.flatnonzero(~np.isfinite(array))
-        problems.append(FieldProblem(f"{pointer}/{bad[0]}", "is not a finite number"))
+    """The values as an array; a value that is not a finite number is a problem."""
+    array = np.empty(len(values))
+    try:  # packing the list into the array's buffer: twice as fast as numpy.fromiter
+        struct.pack_into(f"{len(values)}d", array.data, 0, *values)
+    except struct.error:  # not numbers: numpy says why, as it always has
+        array = np.fromiter(values, dtype=np.float64, count=len(values))
+    bad = _first_nonfinite(array)
+    if bad >= 0:
+        problems.append(FieldProblem(f"{pointer}/{bad}", "is not a finite number"))
     return array
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_nonfinite(values: F64) -> int:
+    """The index of the first value that is not a finite number, or -1."""
+    for i in range(values.size):
+        if not np.isfinite(values[i]):
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_at_most(values: F64, start: int, stop: int, limit: float) -> int:
+    """The index of the first of ``values[start:stop]`` at or below ``limit``, or -1."""
+    for i in range(start, stop):
+        if values[i] <= limit:
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_above(values: F64, limit: float) -> int:
+    """The index of the first value above ``limit``, or -1."""
+    for i in range(values.size):
+        if values[i] > limit:
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _sign_change(values: F64) -> int:
+    """The index of the first finite value whose sign (-1 or +1; zeros left out) differs
+    from that of the first non-zero finite value, or -1."""
+    first = 0.0
+    for i in range(values.size):
+        sign = np.sign(values[i])
+        if not np.isfinite(values[i]) or sign == 0.0:
+            continue
+        if first == 0.0:
+            first = sign
+        elif sign != first:
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _chords(x: F64, y: F64) -> F64:
+    """The length of each segment of a contour, point i to i + 1."""
+    chord = np.empty(x.size - 1)
+    for i in range(chord.size):
+        chord[i] = np.hypot(x[i + 1] - x[i], y[i + 1] - y[i])
+    return chord
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _arc_from_chords(chord: F64, tolerance: float) -> tuple[F64, int]:
+    """Arc length from the segment lengths, and the first point that repeats the one
+    before it (closer than ``tolerance`` times the contour length), or -1."""
+    n = chord.size + 1
+    arc = np.empty(n)
+    arc[0] = 0.0
+    for i in range(1, n):
+        arc[i] = arc[i - 1] + chord[i - 1]
+    limit = tolerance * arc[n - 1]
+    for i in range(1, n):
+        if arc[i] - arc[i - 1] <= limit:
+            return arc, i
+    return arc, -1
 
 
 @numba.njit(cache=True, error_model="numpy")
 def _arc_length(x: F64, y: F64, tolerance: float) -> tuple[F64, int]:
     """Arc length along a contour (chords), and the first point that repeats the one
     before it (closer than ``tolerance`` times the contour length), or -1."""
-    n = x.size
-    arc = np.empty(n)
-    arc[0] = 0.0
-    for i in range(1, n):
-        arc[i] = arc[i - 1] + np.hypot(x[i] - x[i - 1], y[i] - y[i - 1])
-    limit = tolerance * arc[n - 1]
-    for i in range(1, n):
-        if arc[i] - arc[i - 1] <= limit:
-            return arc, i
-    return arc, -1
+    return _arc_from_chords(_chords(x, y), tolerance)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _arc_and_chords(x: F64, y: F64, tolerance: float) -> tuple[F64, F64, int]:
+    """``_arc_length`` and the segment lengths it adds up (``_listing`` uses them again)."""
+    chord = _chords(x, y)
+    arc, repeated = _arc_from_chords(chord, tolerance)
+    return arc, chord, repeated
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _first_not_increasing(s: F64) -> int:
+    """The index of the first value not above the one before it (s[i] - s[i-1] <= 0), or
+    -1."""
+    for i in range(1, s.size):
+        if s[i] - s[i - 1] <= 0.0:
+            return i
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _bernoulli_q(cp: F64) -> F64:
+    """(Ue/U_inf)^2 = 1 - Cp, at least 0 (Bernoulli): ``numpy.maximum(1.0 - cp, 0.0)``."""
+    q = np.empty(cp.size)
+    for i in range(cp.size):
+        q[i] = max(1.0 - cp[i], 0.0)
+    return q
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -402,12 +497,8 @@ def _check_length(
 def _check_one_sign(ue: F64, problems: list[FieldProblem]) -> None:
     """A single surface's signed edge velocity must not change sign: where it does, the
     surface passes a stagnation point and the layer cannot march through it."""
-    signs = np.sign(ue[np.isfinite(ue)])
-    moving = np.flatnonzero(signs)
-    if moving.size and np.any(signs[moving] != signs[moving[0]]):
-        i = int(
-            np.flatnonzero(np.isfinite(ue))[moving[np.argmax(signs[moving] != signs[moving[0]])]]
-        )
+    i = _sign_change(ue)
+    if i >= 0:
         problems.append(
             FieldProblem(
                 f"/pressure/edge_velocity/{i}",
@@ -459,6 +550,8 @@ def _smooth(q: F64, arc: F64, smoothing: float | str, periodic: bool) -> tuple[F
 
 def _noise_notice(arc: F64, q: F64, pointer: str) -> Notice | None:
     """A warning when the pressure data look noisy enough to upset the march."""
+    if smoothing_module.noise_at_most(arc, q, NOISE_SIGMA):
+        return None  # the common case, told from half the work of the estimate
     sigma, ratio = smoothing_module.noise_estimate(arc, q)
     if sigma <= NOISE_SIGMA or ratio <= NOISE_RATIO:
         return None
@@ -584,15 +677,13 @@ def prepare(case: Case) -> Prepared:
     warnings: list[Notice] = []
     # Arc length along the input.
     if contour:
-        arc, repeated = _arc_length(x, y, REPEAT_TOLERANCE)
+        arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
         if repeated > 0:
             i = repeated
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
     else:
-        step = np.diff(s_in)
-        bad = np.flatnonzero(step <= 0.0)
-        if bad.size:
-            i = int(bad[0]) + 1
+        i = _first_not_increasing(s_in)
+        if i > 0:
             raise CaseError.at(
                 f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
             )
@@ -622,7 +713,7 @@ def prepare(case: Case) -> Prepared:
         if mach > 0.0:
             q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
         else:
-            q = np.maximum(1.0 - p_values, 0.0)  # Bernoulli: (Ue/U_inf)^2 = 1 - Cp
+            q = _bernoulli_q(p_values)
     else:
         q = p_values**2
     if mach > 0.0:
@@ -652,7 +743,7 @@ def prepare(case: Case) -> Prepared:
         noisy = _noise_notice(arc, q, p_pointer)
         if noisy is not None:
             warnings.append(noisy)
-    if not q.max() > 0.0:
+    if _first_above(q, 0.0) < 0:
         raise CaseError.at(p_pointer, "the edge velocity is zero everywhere")
 
     nu = 1.0 / flow.reynolds if flow.reynolds is not None else 0.0
@@ -671,11 +762,23 @@ def prepare(case: Case) -> Prepared:
         warnings.extend(_inflow_notices(case, side))
         warnings.extend(_trip_notices(case, [side]))
         return Prepared([side], None, warnings)
-    sides, stagnation = _split_contour(
-        arc, x, y, q, radius, nu, axisymmetric, options, trips, p_pointer, warnings, radius_from_y
+    sides, stagnation, closed = _split_contour(
+        arc,
+        chord,
+        x,
+        y,
+        q,
+        radius,
+        nu,
+        axisymmetric,
+        options,
+        trips,
+        p_pointer,
+        warnings,
+        radius_from_y,
     )
     warnings.extend(_trip_notices(case, sides))
-    return Prepared(sides, stagnation, warnings, _closure(x, y, arc)[0])
+    return Prepared(sides, stagnation, warnings, closed)
 
 
 def _trip_notices(case: Case, sides: list[SideInput]) -> list[Notice]:
@@ -773,9 +876,8 @@ def _single_side(
 ) -> SideInput:
     inflow = case.inflow
     p_pointer = _pressure_pointer(case.pressure)
-    inner_zero = np.flatnonzero(ue[1:] <= 0.0)
-    if inner_zero.size:
-        i = int(inner_zero[0]) + 1
+    i = _first_at_most(ue, 1, ue.size, 0.0)
+    if i >= 0:
         raise CaseError.at(
             f"{p_pointer}/{i}",
             "the edge velocity vanishes inside the surface; give a contour (x, y) so that "
@@ -783,11 +885,9 @@ def _single_side(
         )
     axisymmetric = case.body.kind == "axisymmetric"
     if axisymmetric and radius is not None:
-        zero = np.flatnonzero(radius[1:] <= 0.0)
-        if zero.size:
-            raise CaseError.at(
-                f"/body/radius/{int(zero[0]) + 1}", "must be positive after the first point"
-            )
+        zero = _first_at_most(radius, 1, radius.size, 0.0)
+        if zero >= 0:
+            raise CaseError.at(f"/body/radius/{zero}", "must be positive after the first point")
     r = radius if radius is not None else np.ones_like(s)
     if inflow is not None:
         if ue[0] <= 0.0:
@@ -911,12 +1011,15 @@ def _rotate(columns: F64, start: float) -> tuple[F64, F64]:
 
 @numba.njit(cache=True, error_model="numpy")
 def _listing(
-    x: F64, y: F64, q: F64, radius: F64, closed: bool, implicit: bool
+    x: F64, y: F64, q: F64, radius: F64, closed: bool, implicit: bool, arc: F64, chord: F64
 ) -> tuple[F64, F64, F64]:
     """The contour as rows x, y, q (and the radius, unless ``radius`` is empty), listed
     from its rear point when closed (``_rear_point``, ``_rotate``; the first point
     repeated at the end when the closure is implicit); each point's unwrapped index in the
-    input list, and the arc length along the listing."""
+    input list, and the arc length along the listing.  ``arc`` and ``chord`` are the arc
+    length along the input list and its segment lengths (``_arc_and_chords``): the arc
+    length along the listing adds up the same segments in the order listed, as
+    ``_arc_length`` of the listed points would."""
     n_in = x.size
     width = n_in + 1 if implicit else n_in
     columns = np.empty((3 if radius.size == 0 else 4, width))
@@ -928,11 +1031,24 @@ def _listing(
     if implicit:
         columns[:, n_in] = columns[:, 0]
     index = np.arange(width).astype(np.float64)
-    if closed:
-        cycle_arc, _ = _arc_length(columns[0], columns[1], 0.0)
-        columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
-    arc, _ = _arc_length(columns[0], columns[1], 0.0)
-    return columns, index, arc
+    if not closed:
+        return columns, index, arc
+    m = width - 1  # distinct points; segment m - 1 closes the loop to point 0
+    closing = np.hypot(x[0] - x[m - 1], y[0] - y[m - 1])
+    cycle_arc = arc
+    if implicit:
+        cycle_arc = np.empty(width)
+        cycle_arc[:n_in] = arc
+        cycle_arc[n_in] = arc[n_in - 1] + closing
+    columns, index = _rotate(columns, _rear_point(columns[0], columns[1], cycle_arc))
+    listed = np.empty(index.size)
+    listed[0] = 0.0
+    for j in range(1, index.size):
+        p = int(index[j - 1])  # the segment from point p to p + 1 (modulo m)
+        while p >= m:
+            p -= m
+        listed[j] = listed[j - 1] + (chord[p] if p < m - 1 else closing)
+    return columns, index, listed
 
 
 def _relative_trip(at: float | None, offset: float) -> float | None:
@@ -1084,48 +1200,59 @@ def _stagnation_candidates(
     return best_a, best_b, best[0], best[1], best[2], best[3], best_dropped
 
 
+#: Why a side's derivatives of the stagnation point are not available, by the code
+#: ``_nose_gradients`` returns (0: they are).
+NOSE_GAPS = (
+    "",
+    "a slope's secant ends at Ue = 0",
+    "the nose holds several points of equal value: the model switches under any change",
+    "the fitted stagnation point falls on a point",
+    "the stagnation point's model is not differentiated",
+)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _secant_gradient(target: F64, arc: F64, q: F64, j: int, s0: float) -> None:
+    """d(slope)/d q_j of a slope taken as the secant Ue_j / |s_j - s0| (NaN at Ue_j = 0)."""
+    target[j] = 0.5 / np.sqrt(q[j]) / abs(arc[j] - s0) if q[j] > 0.0 else np.nan
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _nose_gradients(
     arc: F64, q: F64, a: int, b: int, s0: float, slope: float, plateau: bool
-) -> tuple[F64, F64, F64, str]:
+) -> tuple[F64, F64, F64, int]:
     """Derivatives of the stagnation point's arc position s0 and of the slopes before and
     after it with respect to q at each listed point, as ``_stagnation_candidates`` and the
-    plateau rule of ``_split_contour`` chose them for the run a..b, and "" or why they do
-    not exist.  A plateau, or a run at an end of an open contour, holds s0 at a fixed arc
-    position and takes each slope as the secant Ue/distance to the first point beyond it;
-    a fitted model moves s0 with the values of its points (the parabola through three
-    points, or the V of two secants of Ue = sqrt(q))."""
+    plateau rule of ``_locate`` chose them for the run a..b, and 0 or the code in
+    ``NOSE_GAPS`` of why they do not exist.  A plateau, or a run at an end of an open
+    contour, holds s0 at a fixed arc position and takes each slope as the secant
+    Ue/distance to the first point beyond it; a fitted model moves s0 with the values of
+    its points (the parabola through three points, or the V of two secants of
+    Ue = sqrt(q))."""
     n = q.size
     d_s0, d_before, d_after = np.zeros(n), np.zeros(n), np.zeros(n)
-
-    def secant(target: F64, j: int) -> None:
-        target[j] = 0.5 / math.sqrt(q[j]) / abs(arc[j] - s0) if q[j] > 0.0 else math.nan
-
     if a == 0 or b == n - 1 or plateau:
         if a == 0:
-            secant(d_before, b + 1)
-            secant(d_after, b + 1)
+            _secant_gradient(d_before, arc, q, b + 1, s0)
+            _secant_gradient(d_after, arc, q, b + 1, s0)
         elif b == n - 1:
-            secant(d_before, a - 1)
-            secant(d_after, a - 1)
+            _secant_gradient(d_before, arc, q, a - 1, s0)
+            _secant_gradient(d_after, arc, q, a - 1, s0)
         else:
-            secant(d_before, a - 1)
-            secant(d_after, b + 1)
-        ok = bool(np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after)))
-        return d_s0, d_before, d_after, "" if ok else "a slope's secant ends at Ue = 0"
+            _secant_gradient(d_before, arc, q, a - 1, s0)
+            _secant_gradient(d_after, arc, q, b + 1, s0)
+        ok = np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after))
+        return d_s0, d_before, d_after, 0 if ok else 1
     if a < b:
-        return (
-            d_s0,
-            d_before,
-            d_after,
-            ("the nose holds several points of equal value: the model switches under any change"),
-        )
+        return d_s0, d_before, d_after, 2
     p_s0, p_slope, _, v_s0, v_slope, _ = stagnation_models(arc, q, a, b)
     if s0 == arc[a] + v_s0 and slope == v_slope:
         sm, s_a = arc[a - 1] - arc[a], arc[a - 2] - arc[a]
         sp, s_d = arc[b + 1] - arc[a], arc[b + 2] - arc[a]
         if not sm < v_s0 < sp:
-            return d_s0, d_before, d_after, "the fitted stagnation point falls on a point"
-        u = np.sqrt(q[[a - 2, a - 1, b + 1, b + 2]])
+            return d_s0, d_before, d_after, 3
+        points = np.array([a - 2, a - 1, b + 1, b + 2])
+        u = np.sqrt(q[points])
         left = (u[1] - u[0]) / (sm - s_a)
         right = (u[3] - u[2]) / (s_d - sp)
         g_left = np.array([-1.0, 1.0, 0.0, 0.0]) / (sm - s_a)
@@ -1136,27 +1263,35 @@ def _nose_gradients(
         g_meet = (g_top * down - top * (g_left - g_right)) / (down * down)
         g_slope = 0.5 * (g_right - g_left)
         dq = 0.5 / u  # dUe/dq
-        for k, j in enumerate((a - 2, a - 1, b + 1, b + 2)):
+        for k in range(4):
+            j = points[k]
             d_s0[j] += g_meet[k] * dq[k]
             d_before[j] += g_slope[k] * dq[k]
-        return d_s0, d_before, d_before.copy(), ""
+        return d_s0, d_before, d_before.copy(), 0
     if a == b and s0 == arc[a] + p_s0 and slope == p_slope:
         h0, h1 = arc[a] - arc[a - 1], arc[a + 1] - arc[a]
         if not -h0 < p_s0 < h1:
-            return d_s0, d_before, d_after, "the fitted stagnation point falls on a point"
+            return d_s0, d_before, d_after, 3
         values = q[a - 1 : a + 2]
         g_d0 = np.array([-1.0, 1.0, 0.0]) / h0
         g_d1 = np.array([0.0, -1.0, 1.0]) / h1
         g_c2 = (g_d1 - g_d0) / (h0 + h1)
         g_c1 = g_d0 + g_c2 * h0
-        c2 = float(g_c2 @ values)
-        c1 = float(g_c1 @ values)
+        c2 = _dot3(g_c2, values)
+        c1 = _dot3(g_c1, values)
         d_s0[a - 1 : a + 2] = -0.5 * (g_c1 * c2 - c1 * g_c2) / (c2 * c2)
-        d_before[a - 1 : a + 2] = g_c2 / (2.0 * math.sqrt(c2))
-        return d_s0, d_before, d_before.copy(), ""
-    return d_s0, d_before, d_after, "the stagnation point's model is not differentiated"
+        d_before[a - 1 : a + 2] = g_c2 / (2.0 * np.sqrt(c2))
+        return d_s0, d_before, d_before.copy(), 0
+    return d_s0, d_before, d_after, 4
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _dot3(u: F64, v: F64) -> float:
+    """u @ v of three-vectors, summed in order as numpy's dot of short vectors sums them."""
+    return float(u[0] * v[0] + u[1] * v[1] + u[2] * v[2])
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _stagnation_region(q: F64, a: int, b: int, tol: float, noise: float) -> tuple[int, int]:
     """The run a..b widened to the farthest points with q <= ``tol`` that are reached from it
     through points with q <= ``noise``."""
@@ -1174,26 +1309,128 @@ def _stagnation_region(q: F64, a: int, b: int, tol: float, noise: float) -> tupl
     return lo, hi
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _locate(
+    arc: F64, x: F64, q: F64, ends: bool
+) -> tuple[int, int, float, float, float, float, bool, float]:
+    """The front stagnation point of the listed contour (``_stagnation_candidates``), its
+    run widened over noisy taps at the stagnation value: (first and last point of the
+    run, s0, slope before, slope after, Ue at the vertex, whether the run is a plateau
+    left out of the sides, smallest q of the run); first = -1 when the data hold none.
+
+    Noisy taps round the stagnation point, some clipped to its value: every point at
+    the stagnation value reached through points within tap noise of it belongs to the
+    stagnation region, which becomes a plateau."""
+    n = q.size
+    a, b, s0, before, after, ue_vertex, plateau = _stagnation_candidates(
+        arc, x, q, ends, PLATEAU_Q, STAGNATION_COARSE
+    )
+    if a < 0:
+        return a, b, s0, before, after, ue_vertex, plateau, np.nan
+    lo, hi = _stagnation_region(q, a, b, PLATEAU_Q, CP_NOISE)
+    if (lo < a or hi > b) and lo > 0 and hi < n - 1:
+        a, b, plateau = lo, hi, True
+        s0 = 0.5 * (arc[a] + arc[b])
+        before = np.sqrt(q[a - 1]) / (s0 - arc[a - 1])
+        after = np.sqrt(q[b + 1]) / (arc[b + 1] - s0)
+        ue_vertex = np.sqrt(q[a : b + 1].min())
+    return a, b, s0, before, after, ue_vertex, plateau, q[a : b + 1].min()
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _axis_point(x: F64, y: F64, r: F64, arc: F64, closed: bool, radius_from_y: bool) -> float:
     """Arc length of the most upstream point where the body of revolution meets its axis
-    (radius 0, or y changing sign when the radius is |y|) inside the contour, or NaN."""
-    total = float(arc[-1])
-    inner = slice(1, -1) if closed else slice(None)
-    candidates = []
-    on_axis = np.flatnonzero(r[inner] <= REPEAT_TOLERANCE * total) + (1 if closed else 0)
-    candidates += [(float(x[i]), float(arc[i])) for i in on_axis.tolist()]
+    (radius 0, or y changing sign when the radius is |y|) inside the contour, or NaN;
+    of several at the same x, the first along the contour."""
+    n = x.size
+    limit = REPEAT_TOLERANCE * arc[n - 1]
+    best_x = best_s = np.nan
+    found = False
+    for i in range(1 if closed else 0, n - 1 if closed else n):
+        if r[i] <= limit and (not found or (x[i], arc[i]) < (best_x, best_s)):
+            found, best_x, best_s = True, x[i], arc[i]
     if radius_from_y:
-        cross = np.flatnonzero(y[:-1] * y[1:] < 0.0)
-        for i in cross.tolist():
-            t = y[i] / (y[i] - y[i + 1])
-            candidates.append(
-                (float(x[i] + t * (x[i + 1] - x[i])), float(arc[i] + t * (arc[i + 1] - arc[i])))
-            )
-    return min(candidates)[1] if candidates else float("nan")
+        for i in range(n - 1):
+            if y[i] * y[i + 1] < 0.0:
+                t = y[i] / (y[i] - y[i + 1])
+                at_x = x[i] + t * (x[i + 1] - x[i])
+                at_s = arc[i] + t * (arc[i + 1] - arc[i])
+                if not found or (at_x, at_s) < (best_x, best_s):
+                    found, best_x, best_s = True, at_x, at_s
+    return best_s
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _station(
+    columns: F64, arc: F64, index: F64, s0: float, tol: float, plateau: bool, a: int, b: int
+) -> tuple[float, float, float, float, float, float, float, int, int]:
+    """The stagnation point at arc length s0 on the segment from the listed point before
+    it to the next: (x0, y0, r0 (1 without a radius row), the segment's direction dx/ds,
+    dy/ds, dr/ds, the unwrapped fractional input index), and
+    the last point before it and the first after it on the sides: a point within ``tol``
+    of it is the stagnation station itself, and the points a..b of a plateau are left
+    out."""
+    n = arc.size
+    i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
+    seg = arc[i0 + 1] - arc[i0]
+    frac = (s0 - arc[i0]) / seg
+    x, y = columns[0], columns[1]
+    x0 = x[i0] + frac * (x[i0 + 1] - x[i0])
+    y0 = y[i0] + frac * (y[i0 + 1] - y[i0])
+    r0, dr0 = 1.0, 0.0
+    if columns.shape[0] > 3:
+        r = columns[3]
+        r0 = r[i0] + frac * (r[i0 + 1] - r[i0])
+        dr0 = (r[i0 + 1] - r[i0]) / seg
+    dx0, dy0 = (x[i0 + 1] - x[i0]) / seg, (y[i0 + 1] - y[i0]) / seg
+    position = index[i0] + frac * (index[i0 + 1] - index[i0])
+    if plateau:
+        last_before, first_after = a - 1, b + 1
+    else:
+        last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
+        first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
+    return x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _vanishing(q: F64, first: int, step: int, size: int) -> int:
+    """The first of the ``size`` listed points from ``first`` on by ``step``, its last
+    left out, at the stagnation value (q <= ``PLATEAU_Q``): its place along them, or -1."""
+    for k in range(size - 1):
+        if q[first + step * k] <= PLATEAU_Q:
+            return k
+    return -1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _nose_arrays(
+    index: F64, period: int, first: int, step: int, size: int, d_s0: F64, d_slope: F64, n_in: int
+) -> tuple[NDArray[np.int64], F64, F64]:
+    """A side's ``Nose`` arrays: the input point of each station (-1 at the stagnation
+    point, then the ``size`` listed points from ``first`` on by ``step``; listed indices
+    are unwrapped, taken modulo ``period`` on a closed contour, 0 when open), and the
+    derivatives ``d_s0`` and ``d_slope`` over the listed points summed onto the
+    ``n_in`` input points in listing order (a point listed twice gets both)."""
+    inputs = np.empty(index.size, dtype=np.int64)
+    for j in range(index.size):
+        inputs[j] = int(index[j])
+        if period > 0:
+            while inputs[j] >= period:  # unwrapped indices lie below two periods
+                inputs[j] -= period
+    points = np.empty(size + 1, dtype=np.int64)
+    points[0] = -1
+    for k in range(size):
+        points[k + 1] = inputs[first + step * k]
+    s0_grad, slope_grad = np.zeros(n_in), np.zeros(n_in)
+    for j in range(index.size):
+        s0_grad[inputs[j]] += d_s0[j]
+        slope_grad[inputs[j]] += d_slope[j]
+    return points, s0_grad, slope_grad
 
 
 def _split_contour(
     arc: F64,
+    chord: F64,
     x: F64,
     y: F64,
     q: F64,
@@ -1205,8 +1442,9 @@ def _split_contour(
     p_pointer: str,
     warnings: list[Notice],
     radius_from_y: bool = False,
-) -> tuple[list[SideInput], Stagnation]:
-    """Locate the stagnation point between points and split the contour into its sides.
+) -> tuple[list[SideInput], Stagnation, bool]:
+    """Locate the stagnation point between points and split the contour into its sides;
+    also whether the contour is closed.  ``arc`` and ``chord``: see ``_arc_and_chords``.
 
     A closed contour (see ``_closure``) is first listed from the point where its sides
     meet, the most downstream point (the trailing edge or rear point; the middle of a
@@ -1218,7 +1456,7 @@ def _split_contour(
     arc_in, x_in, y_in = arc, x, y
     closed, implicit = _closure(x, y, arc)
     columns, index, arc = _listing(
-        x, y, q, radius if radius is not None else np.empty(0), closed, implicit
+        x, y, q, radius if radius is not None else np.empty(0), closed, implicit, arc, chord
     )
     x, y, q = columns[0], columns[1], columns[2]
     radius = columns[3] if radius is not None else None
@@ -1226,21 +1464,8 @@ def _split_contour(
     total = float(arc[-1])
     tol = REPEAT_TOLERANCE * total
 
-    a, b, s0, slope_before, slope_after, ue_vertex, plateau = _stagnation_candidates(
-        arc, x, q, not closed, PLATEAU_Q, STAGNATION_COARSE
-    )
+    a, b, s0, slope_before, slope_after, ue_vertex, plateau, q_run = _locate(arc, x, q, not closed)
     nose_gap = ""
-    if a >= 0:
-        # Noisy taps round the stagnation point, some clipped to its value: every point at
-        # the stagnation value reached through points within tap noise of it belongs to
-        # the stagnation region, which becomes a plateau.
-        lo, hi = _stagnation_region(q, a, b, PLATEAU_Q, CP_NOISE)
-        if (lo < a or hi > b) and lo > 0 and hi < n - 1:
-            a, b, plateau = lo, hi, True
-            s0 = 0.5 * (arc[a] + arc[b])
-            slope_before = float(np.sqrt(q[a - 1]) / (s0 - arc[a - 1]))
-            slope_after = float(np.sqrt(q[b + 1]) / (arc[b + 1] - s0))
-            ue_vertex = float(np.sqrt(q[a : b + 1].min()))
     if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
         slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
         nose_gap = "the sides start without a stagnation slope"
@@ -1253,7 +1478,8 @@ def _split_contour(
         while b < n - 1 and x[b + 1] <= x[a] + TIE_TOLERANCE * total:
             b += 1
         s0 = 0.5 * (arc[a] + arc[b])
-        ue_vertex = float(np.sqrt(np.min(q[a : b + 1])))
+        q_run = float(np.min(q[a : b + 1]))
+        ue_vertex = math.sqrt(q_run)
         slope_before = slope_after = float("nan")
         plateau = False
         nose_gap = "no stagnation point in the data: the sides start as from a sharp edge"
@@ -1266,12 +1492,12 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    elif ue_vertex <= STAGNATION_UE < math.sqrt(q[a : b + 1].min()):
+    elif ue_vertex <= STAGNATION_UE < math.sqrt(q_run):
         warnings.append(
             Notice(
                 code="stagnation_point_between_taps",
                 message="no point reads the stagnation value (the largest Ue/U_inf falls to "
-                f"{np.sqrt(q[a : b + 1].min()):.3g}); the stagnation point is located between "
+                f"{math.sqrt(q_run):.3g}); the stagnation point is located between "
                 "points by extrapolating their edge velocity to zero, and the sides start "
                 "there with Ue rising linearly from 0",
                 pointer=p_pointer,
@@ -1289,11 +1515,12 @@ def _split_contour(
             )
         )
     if not nose_gap:
-        d_s0, d_before, d_after, nose_gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
+        d_s0, d_before, d_after, gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
+        nose_gap = NOSE_GAPS[gap]
     if axisymmetric:
         r_axis = radius if radius is not None else np.abs(y)
         axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
-        if np.isfinite(axis) and abs(axis - s0) > tol:
+        if math.isfinite(axis) and abs(axis - s0) > tol:
             spacing = float(np.max(np.diff(arc[max(a - 1, 0) : b + 2])))
             if abs(axis - s0) > spacing:
                 warnings.append(
@@ -1321,86 +1548,75 @@ def _split_contour(
             )
         )
 
-    # The stagnation point on the segment from point i0 to i0 + 1.
-    i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
-    frac = (s0 - arc[i0]) / (arc[i0 + 1] - arc[i0])
-    x0 = float(x[i0] + frac * (x[i0 + 1] - x[i0]))
-    y0 = float(y[i0] + frac * (y[i0 + 1] - y[i0]))
-    r0 = float(radius[i0] + frac * (radius[i0 + 1] - radius[i0])) if radius is not None else 1.0
+    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
+        columns, arc, index, s0, tol, plateau, a, b
+    )
     if axisymmetric and radius_from_y:
         r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
-    period = (n_in if implicit else n_in - 1) if closed else np.inf
-    seg = float(arc[i0 + 1] - arc[i0])
-    dx0, dy0 = float(x[i0 + 1] - x[i0]) / seg, float(y[i0 + 1] - y[i0]) / seg
-    dr0 = float(radius[i0 + 1] - radius[i0]) / seg if radius is not None else 0.0
-    if axisymmetric and radius_from_y:
         dr0 = math.copysign(dy0, y0)
-    inputs = (index.astype(np.int64) % int(period)) if closed else index.astype(np.int64)
-
-    def over_inputs(values: F64) -> F64:
-        out = np.zeros(n_in)
-        np.add.at(out, inputs, values)
-        return out
-
-    position = float(index[i0] + frac * (index[i0 + 1] - index[i0])) % period
+    period = (n_in if implicit else n_in - 1) if closed else np.inf
+    position = position % period
     along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
 
-    # Points before the stagnation point (walked backwards) and after it; a point within
-    # tol of it is the stagnation station itself, and the points of a plateau are left out.
-    if plateau:
-        last_before, first_after = a - 1, b + 1
-    else:
-        last_before = int(np.searchsorted(arc, s0 - tol, side="left")) - 1
-        first_after = int(np.searchsorted(arc, s0 + tol, side="right"))
-    branches = (
-        np.arange(last_before, -1, -1, dtype=np.int64),
-        np.arange(first_after, n, dtype=np.int64),
-    )
+    # The points before the stagnation point (walked backwards) and after it, each as
+    # (first listed point, step, count).
+    runs = ((last_before, -1, max(last_before + 1, 0)), (first_after, 1, max(n - first_after, 0)))
     no_slope = math.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
-    ue_start = float(np.sqrt(q[a : b + 1].min())) if no_slope else 0.0
-    names = _side_names(x, y, branches, closed, y0)
-    vanishing = np.flatnonzero(q <= PLATEAU_Q).tolist()  # points at the stagnation value
+    ue_start = math.sqrt(q_run) if no_slope else 0.0
+    names = _side_names(x, y, runs, closed, y0)
     sides: list[SideInput] = []
-    for branch, name, slope in zip(branches, names, (slope_before, slope_after), strict=True):
-        if branch.size + 1 < MIN_POINTS:
+    for (first, step, size), name, slope in zip(
+        runs, names, (slope_before, slope_after), strict=True
+    ):
+        if size + 1 < MIN_POINTS:
             continue
-        # A side ends where its edge velocity falls to zero again (another stagnation point):
-        # the first point of branch[:-1] at the stagnation value (a branch steps by 1 or -1).
-        first, step = int(branch[0]), 1 if branch is branches[1] else -1
-        zero = [(i - first) * step for i in vanishing if 0 <= (i - first) * step < branch.size - 1]
-        if zero:
-            branch = branch[: min(zero) + 1]
+        # A side ends where its edge velocity falls to zero again (another stagnation point).
+        ends = _vanishing(q, first, step, size)
+        if ends >= 0:
+            size = ends + 1
+            last = first + step * ends
             warnings.append(
                 Notice(
                     code="edge_velocity_vanishes",
                     message=f"{name}: the edge velocity falls to zero at s = "
-                    f"{abs(arc[branch[-1]] - s0):.4g} from the stagnation point (another "
+                    f"{abs(arc[last] - s0):.4g} from the stagnation point (another "
                     "stagnation point); the side ends there",
-                    pointer=f"{p_pointer}/{int(index[branch[-1]] % period)}",
+                    pointer=f"{p_pointer}/{int(index[last] % period)}",
                 )
             )
         side_s, u, r, side_x, side_y = _side_rows(
-            columns, arc, int(branch[0]), step, branch.size, s0, ue_start, x0, y0, r0
+            columns, arc, first, step, size, s0, ue_start, x0, y0, r0
         )
-        nose = None
-        if not nose_gap:
-            before = branch is branches[0]
+        if nose_gap:
+            nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
+        else:
+            # A side ended at another stagnation point takes the derivatives and direction
+            # of the side after the stagnation point.
+            before = step < 0 and ends < 0
+            points, s0_grad, slope_grad = _nose_arrays(
+                index,
+                int(period) if closed else 0,
+                first,
+                step,
+                size,
+                d_s0,
+                d_before if before else d_after,
+                n_in,
+            )
             nose = Nose(
-                points=np.concatenate([[-1], inputs[branch]]),
-                s0_grad=over_inputs(d_s0),
-                slope_grad=over_inputs(d_before if before else d_after),
+                points=points,
+                s0_grad=s0_grad,
+                slope_grad=slope_grad,
                 direction=1.0 if before else -1.0,
                 position_grad=(dx0, dy0, dr0),
                 gap="",
             )
-        else:
-            nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
         if axisymmetric:
-            zero_r = np.flatnonzero(r[1:-1] <= 0.0)
-            if zero_r.size:
-                i = int(index[branch[zero_r[0]]] % period)
+            zero_r = _first_at_most(r, 1, r.size - 1, 0.0)  # station k is listed point k - 1
+            if zero_r >= 0:
+                i = int(index[first + step * (zero_r - 1)] % period)
                 pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
                 raise CaseError.at(
                     pointer,
@@ -1432,7 +1648,7 @@ def _split_contour(
         raise CaseError.at("/surface", "too few points on either side of the stagnation point")
     if len(sides) == 2 and sides[0].name == sides[1].name:
         raise CaseError.at("/surface", "could not tell the upper side from the lower side")
-    return sides, stagnation
+    return sides, stagnation, closed
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1469,26 +1685,58 @@ def _side_rows(
     return block
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _listed_arc(arc: F64, x: F64, y: F64, j: int) -> float:
+    """Arc length along the input list at point j; j = arc.size is the first point again,
+    past the closing segment of a loop."""
+    if j < arc.size:
+        return float(arc[j])
+    return float(arc[-1] + np.hypot(x[-1] - x[0], y[-1] - y[0]))
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _along_input(position: float, arc: F64, x: F64, y: F64) -> float:
     """Arc length along the input list at a fractional point index, linear between points;
     one past the last point is the first again (the closing segment of a loop)."""
     last = arc.size  # the index of the first point repeated
-
-    def listed(j: int) -> float:
-        if j < last:
-            return float(arc[j])
-        return float(arc[-1] + float(np.hypot(x[-1] - x[0], y[-1] - y[0])))
-
-    if math.isnan(position):
+    if np.isnan(position):
         return position
     if not position > 0.0:
-        return listed(0)
+        return _listed_arc(arc, x, y, 0)
     j = int(position)
     if j >= last:
-        return listed(last)
-    low = listed(j)
+        return _listed_arc(arc, x, y, last)
+    low = _listed_arc(arc, x, y, j)
     # As numpy.interp on the integer grid of the points: slope * (x - x_j) + f_j.
-    return (listed(j + 1) - low) * (position - j) + low
+    return (_listed_arc(arc, x, y, j + 1) - low) * (position - j) + low
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _orientation(x: F64, y: F64) -> int:
+    """The orientation of a closed contour (its last point repeating its first) from the
+    sign of its area (the shoelace sum): 1 counter-clockwise, -1 clockwise, 0 when the
+    area is at most ``AREA_TOLERANCE`` times that of the bounding box; 2 when the rounding
+    of the two sums of products could change that answer.
+
+    Each sum, in any order of summation (numpy's dot products sum in blocks), lies within
+    n u sum |terms| of the exact one (u the unit roundoff); the margin taken is four
+    times that, so any other order of summation gives the same answer unless 2 is
+    returned."""
+    n = x.size - 1
+    forward = backward = size = 0.0
+    for i in range(n):
+        a, b = x[i] * y[i + 1], x[i + 1] * y[i]
+        forward += a
+        backward += b
+        size += abs(a) + abs(b)
+    area = 0.5 * (forward - backward)
+    limit = AREA_TOLERANCE * (_extent_product(x, y) + 1e-300)
+    margin = 4.0 * (n + 2) * 2.0**-53 * size
+    if abs(area) - margin > limit:
+        return 1 if area > 0.0 else -1
+    if abs(area) + margin <= limit:
+        return 0
+    return 2
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -1500,23 +1748,38 @@ def _extent_product(x: F64, y: F64) -> float:
 def _side_names(
     x: F64,
     y: F64,
-    branches: tuple[NDArray[np.int64], NDArray[np.int64]],
+    runs: tuple[tuple[int, int, int], tuple[int, int, int]],
     closed: bool,
     y0: float,
 ) -> tuple[Literal["upper", "lower"], Literal["upper", "lower"]]:
     """Names of the side walked backwards from the stagnation point and of the one walked
-    forwards.  On a closed contour, by its orientation: walking round it counter-clockwise
-    from the front stagnation point goes over the lower side first.  Otherwise (or for a
-    contour without area) the side with the higher mean y is the upper one; a side alone
-    is the upper one unless it lies below the stagnation point."""
+    forwards, each given as (first listed point, step, count).  On a closed contour, by
+    its orientation: walking round it counter-clockwise from the front stagnation point
+    goes over the lower side first.  Otherwise (or for a contour without area) the side
+    with the higher mean y is the upper one; a side alone is the upper one unless it lies
+    below the stagnation point."""
     if closed:
-        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
-        if abs(area) > 1e-12 * (_extent_product(x, y) + 1e-300):
-            return ("upper", "lower") if area > 0.0 else ("lower", "upper")
-    mean = [float(y[branch].mean()) if branch.size else np.nan for branch in branches]
-    if np.isnan(mean[1]) or np.isnan(mean[0]):
-        alone = mean[0] if np.isnan(mean[1]) else mean[1]
+        turn = _orientation(x, y)
+        if turn == 2:  # too close to call whatever the order of summation: numpy's sums call it
+            area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+            turn = 0
+            if abs(area) > AREA_TOLERANCE * (_extent_product(x, y) + 1e-300):
+                turn = 1 if area > 0.0 else -1
+        if turn:
+            return ("upper", "lower") if turn > 0 else ("lower", "upper")
+    mean = [_mean_along(y, first, step, size) for first, step, size in runs]
+    if math.isnan(mean[1]) or math.isnan(mean[0]):
+        alone = mean[0] if math.isnan(mean[1]) else mean[1]
         name: Literal["upper", "lower"] = "lower" if alone < y0 else "upper"
         other: Literal["upper", "lower"] = "upper" if name == "lower" else "lower"
-        return (name, other) if np.isnan(mean[1]) else (other, name)
+        return (name, other) if math.isnan(mean[1]) else (other, name)
     return ("upper", "lower") if mean[0] >= mean[1] else ("lower", "upper")
+
+
+def _mean_along(y: F64, first: int, step: int, size: int) -> float:
+    """The mean of the ``size`` values of y from ``first`` on by ``step`` (1 or -1), summed
+    in that order as ``numpy.mean`` sums them; NaN when there are none."""
+    if not size:
+        return math.nan
+    values = y[first : first + size] if step > 0 else y[np.arange(first, first - size, -1)]
+    return float(values.sum() / size)

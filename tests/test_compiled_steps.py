@@ -7,11 +7,14 @@ difference would change results.
 
 from __future__ import annotations
 
+import math
+
 import numpy as np
 import pytest
 
 from ibl import prepare
-from ibl.smoothing import _cubic_residual_medians
+from ibl.plateau import _bernoulli_cp
+from ibl.smoothing import _cubic_residual_medians, noise_at_most, noise_estimate
 
 
 def lagrange_residual_medians(s: np.ndarray, q: np.ndarray) -> tuple[float, float, float]:
@@ -70,3 +73,285 @@ def test_arc_length_along_the_input_equals_numpy_interp() -> None:
     for position in [0.0, 0.25, 1.0, 13.7, 28.999, 29.0, 29.5, 30.0, *rng.random(50) * 30.0]:
         expected = float(np.interp(position, grid, listed))
         assert prepare._along_input(float(position), arc, x, y) == expected
+
+
+def nose_gradients_numpy(
+    arc: np.ndarray, q: np.ndarray, a: int, b: int, s0: float, slope: float, plateau: bool
+) -> tuple[np.ndarray, np.ndarray, np.ndarray, str]:
+    """The derivatives of the stagnation point's position and slopes written with numpy
+    arrays (the definition of ``prepare._nose_gradients``)."""
+    n = q.size
+    d_s0, d_before, d_after = np.zeros(n), np.zeros(n), np.zeros(n)
+
+    def secant(target: np.ndarray, j: int) -> None:
+        target[j] = 0.5 / math.sqrt(q[j]) / abs(arc[j] - s0) if q[j] > 0.0 else math.nan
+
+    if a == 0 or b == n - 1 or plateau:
+        first, second = (
+            (b + 1, b + 1) if a == 0 else (a - 1, a - 1) if b == n - 1 else (a - 1, b + 1)
+        )
+        secant(d_before, first)
+        secant(d_after, second)
+        ok = bool(np.all(np.isfinite(d_before)) and np.all(np.isfinite(d_after)))
+        return d_s0, d_before, d_after, "" if ok else prepare.NOSE_GAPS[1]
+    if a < b:
+        return d_s0, d_before, d_after, prepare.NOSE_GAPS[2]
+    p_s0, p_slope, _, v_s0, v_slope, _ = prepare.stagnation_models(arc, q, a, b)
+    if s0 == arc[a] + v_s0 and slope == v_slope:
+        sm, s_a = arc[a - 1] - arc[a], arc[a - 2] - arc[a]
+        sp, s_d = arc[b + 1] - arc[a], arc[b + 2] - arc[a]
+        if not sm < v_s0 < sp:
+            return d_s0, d_before, d_after, prepare.NOSE_GAPS[3]
+        u = np.sqrt(q[[a - 2, a - 1, b + 1, b + 2]])
+        left = (u[1] - u[0]) / (sm - s_a)
+        right = (u[3] - u[2]) / (s_d - sp)
+        g_left = np.array([-1.0, 1.0, 0.0, 0.0]) / (sm - s_a)
+        g_right = np.array([0.0, 0.0, -1.0, 1.0]) / (s_d - sp)
+        top = u[2] - u[1] + left * sm - right * sp
+        g_top = np.array([0.0, -1.0, 1.0, 0.0]) + sm * g_left - sp * g_right
+        down = left - right
+        g_meet = (g_top * down - top * (g_left - g_right)) / (down * down)
+        g_slope = 0.5 * (g_right - g_left)
+        dq = 0.5 / u
+        for k, j in enumerate((a - 2, a - 1, b + 1, b + 2)):
+            d_s0[j] += g_meet[k] * dq[k]
+            d_before[j] += g_slope[k] * dq[k]
+        return d_s0, d_before, d_before.copy(), ""
+    if s0 == arc[a] + p_s0 and slope == p_slope:
+        h0, h1 = arc[a] - arc[a - 1], arc[a + 1] - arc[a]
+        if not -h0 < p_s0 < h1:
+            return d_s0, d_before, d_after, prepare.NOSE_GAPS[3]
+        values = q[a - 1 : a + 2]
+        g_d0 = np.array([-1.0, 1.0, 0.0]) / h0
+        g_d1 = np.array([0.0, -1.0, 1.0]) / h1
+        g_c2 = (g_d1 - g_d0) / (h0 + h1)
+        g_c1 = g_d0 + g_c2 * h0
+        c2 = float(g_c2 @ values)
+        c1 = float(g_c1 @ values)
+        d_s0[a - 1 : a + 2] = -0.5 * (g_c1 * c2 - c1 * g_c2) / (c2 * c2)
+        d_before[a - 1 : a + 2] = g_c2 / (2.0 * math.sqrt(c2))
+        return d_s0, d_before, d_before.copy(), ""
+    return d_s0, d_before, d_after, prepare.NOSE_GAPS[4]
+
+
+def _nose_case(rng: np.random.Generator, kind: str) -> tuple:
+    """A random listing round a stagnation point and the choice of model the caller made."""
+    n = int(rng.integers(8, 60))
+    arc = np.cumsum(rng.random(n) + 1e-2)
+    a = b = int(rng.integers(2, n - 2))
+    q = (arc - arc[a] - rng.normal(0.0, 0.3 * (arc[a + 1] - arc[a]))) ** 2 * rng.random() * 50
+    q = q + rng.random(n) * 10.0 ** float(rng.integers(-9, -1))
+    p_s0, p_slope, _, v_s0, v_slope, _ = prepare.stagnation_models(arc, q, a, b)
+    if kind == "parabola":
+        return arc, q, a, b, arc[a] + p_s0, p_slope, False
+    if kind == "v":
+        return arc, q, a, b, arc[a] + v_s0, v_slope, False
+    if kind == "run":
+        return arc, q, a, a + 1, arc[a], 1.0, False
+    if kind == "end":
+        a, b = (0, 0) if rng.random() < 0.5 else (n - 1, n - 1)
+        return arc, q, a, b, arc[a], 1.0, False
+    lo = int(rng.integers(1, n - 3))  # a plateau, some of it at zero
+    hi = int(rng.integers(lo, n - 2))
+    q[lo : hi + 1] = 0.0
+    if rng.random() < 0.3:
+        q[hi + 1] = 0.0  # the secant after it ends at Ue = 0
+    return arc, q, lo, hi, 0.5 * (arc[lo] + arc[hi]), 1.0, True
+
+
+@pytest.mark.parametrize("kind", ["parabola", "v", "run", "end", "plateau"])
+def test_nose_gradients_equal_their_numpy_definition(kind: str) -> None:
+    rng = np.random.default_rng(list(map(ord, kind)))
+    for _ in range(200):
+        args = _nose_case(rng, kind)
+        *arrays, code = prepare._nose_gradients(*args)
+        *expected, gap = nose_gradients_numpy(*args)
+        assert prepare.NOSE_GAPS[code] == gap
+        for got, want in zip(arrays, expected, strict=True):
+            np.testing.assert_array_equal(got, want)  # NaN equal to NaN, else to the bit
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_listed_arc_length_equals_the_arc_length_of_the_listing(seed: int) -> None:
+    # The definition: the arc length of the listed points, as _arc_length measures any list.
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(5, 80))
+    t = np.sort(rng.random(n)) * 2.0 * np.pi
+    x, y = np.cos(t) * (1.0 + 0.1 * rng.random(n)), 0.3 * np.sin(t)
+    if seed % 3 == 0:  # explicitly closed, the last point within rounding of the first
+        x, y = np.append(x, x[0] * (1.0 + 1e-15)), np.append(y, y[0])
+    q = rng.random(x.size)
+    arc, chord, _ = prepare._arc_and_chords(x, y, 0.0)
+    closed, implicit = prepare._closure(x, y, arc)
+    columns, _, listed = prepare._listing(x, y, q, np.empty(0), closed, implicit, arc, chord)
+    assert np.array_equal(listed, prepare._arc_length(columns[0], columns[1], 0.0)[0])
+    # The open contour: listed as given.
+    _, _, listed = prepare._listing(x, y, q, np.empty(0), False, False, arc, chord)
+    assert np.array_equal(listed, prepare._arc_length(x, y, 0.0)[0])
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_nose_arrays_equal_numpy_add_at(seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    n_in = int(rng.integers(5, 50))
+    period = n_in - int(rng.integers(0, 2))
+    first_index = int(rng.integers(0, period))
+    index = np.arange(first_index, first_index + period + 1).astype(np.float64)
+    d_s0, d_slope = rng.standard_normal(index.size), rng.standard_normal(index.size)
+    inputs = index.astype(np.int64) % period
+    first, step = int(rng.integers(1, index.size - 1)), int(rng.choice([-1, 1]))
+    size = first + 1 if step < 0 else index.size - first
+    points, s0_grad, slope_grad = prepare._nose_arrays(
+        index, period, first, step, size, d_s0, d_slope, n_in
+    )
+    branch = np.arange(first, first + step * size, step)
+    assert np.array_equal(points, np.concatenate([[-1], inputs[branch]]))
+    for got, values in ((s0_grad, d_s0), (slope_grad, d_slope)):
+        out = np.zeros(n_in)
+        np.add.at(out, inputs, values)
+        assert np.array_equal(got, out)
+
+
+def axis_point_numpy(x, y, r, arc, closed: bool, radius_from_y: bool) -> float:
+    """The point on the axis written with numpy (the definition of ``_axis_point``)."""
+    total = float(arc[-1])
+    inner = slice(1, -1) if closed else slice(None)
+    on_axis = np.flatnonzero(r[inner] <= prepare.REPEAT_TOLERANCE * total) + (1 if closed else 0)
+    candidates = [(float(x[i]), float(arc[i])) for i in on_axis.tolist()]
+    if radius_from_y:
+        for i in np.flatnonzero(y[:-1] * y[1:] < 0.0).tolist():
+            t = y[i] / (y[i] - y[i + 1])
+            candidates.append(
+                (float(x[i] + t * (x[i + 1] - x[i])), float(arc[i] + t * (arc[i + 1] - arc[i])))
+            )
+    return min(candidates)[1] if candidates else float("nan")
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_axis_point_equals_its_numpy_definition(seed: int) -> None:
+    rng = np.random.default_rng(seed)
+    for _ in range(50):
+        n = int(rng.integers(4, 40))
+        x = np.round(rng.standard_normal(n), 1)  # ties in x
+        y = rng.standard_normal(n)
+        r = np.where(rng.random(n) < 0.2, 0.0, np.abs(y))
+        arc = prepare._arc_length(x, y, 0.0)[0]
+        for closed in (False, True):
+            for from_y in (False, True):
+                got = prepare._axis_point(x, y, r, arc, closed, from_y)
+                want = axis_point_numpy(x, y, r, arc, closed, from_y)
+                assert got == want or (math.isnan(got) and math.isnan(want))
+
+
+def test_station_equals_numpy_searchsorted_and_interpolation() -> None:
+    rng = np.random.default_rng(3)
+    for _ in range(200):
+        n = int(rng.integers(3, 40))
+        arc = np.cumsum(rng.random(n))
+        arc[0] = 0.0
+        columns = rng.standard_normal((4, n))
+        index = np.arange(n) + float(rng.integers(0, 5))
+        s0 = float(rng.choice([arc[int(rng.integers(0, n))], rng.random() * arc[-1]]))
+        tol = 1e-10 * arc[-1]
+        plateau = bool(rng.random() < 0.3)
+        got = prepare._station(columns, arc, index, s0, tol, plateau, 1, 1)
+        i0 = min(max(int(np.searchsorted(arc, s0, side="right")) - 1, 0), n - 2)
+        seg = arc[i0 + 1] - arc[i0]
+        frac = (s0 - arc[i0]) / seg
+        at = [c[i0] + frac * (c[i0 + 1] - c[i0]) for c in columns]
+        slopes = [(c[i0 + 1] - c[i0]) / seg for c in columns]
+        before = 0 if plateau else int(np.searchsorted(arc, s0 - tol, side="left")) - 1
+        after = 2 if plateau else int(np.searchsorted(arc, s0 + tol, side="right"))
+        position = index[i0] + frac * (index[i0 + 1] - index[i0])
+        want = (at[0], at[1], at[3], slopes[0], slopes[1], slopes[3], position)
+        assert got == (*want, before, after)
+
+
+def test_scans_equal_their_numpy_definitions() -> None:
+    rng = np.random.default_rng(5)
+    for _ in range(300):
+        n = int(rng.integers(1, 30))
+        v = rng.choice([-1.0, 0.0, 0.5, 2.0, np.nan, np.inf], n)
+
+        def first(mask: np.ndarray, offset: int = 0) -> int:
+            hits = np.flatnonzero(mask)
+            return int(hits[0]) + offset if hits.size else -1
+
+        assert prepare._first_nonfinite(v) == first(~np.isfinite(v))
+        assert prepare._first_above(v, 0.0) == first(v > 0.0)
+        assert prepare._first_at_most(v, 1, n, 0.0) == first(v[1:] <= 0.0, 1)
+        with np.errstate(invalid="ignore"):  # inf - inf
+            assert prepare._first_not_increasing(v) == first(np.diff(v) <= 0.0, 1)
+        signs = np.sign(v[np.isfinite(v)])
+        moving = np.flatnonzero(signs)
+        change = -1
+        if moving.size and np.any(signs[moving] != signs[moving[0]]):
+            k = moving[np.argmax(signs[moving] != signs[moving[0]])]
+            change = int(np.flatnonzero(np.isfinite(v))[k])
+        assert prepare._sign_change(v) == change
+        w = v[np.isfinite(v)]
+        assert np.array_equal(prepare._bernoulli_q(w), np.maximum(1.0 - w, 0.0))
+        assert np.array_equal(_bernoulli_cp(w), 1.0 - w**2)
+        listed = w.tolist()
+        assert np.array_equal(prepare._array(listed, "", []), np.fromiter(listed, np.float64))
+        if w.size:
+            start = int(rng.integers(0, w.size))
+            for step, size in ((1, w.size - start), (-1, start + 1)):
+                want = float(w[np.arange(start, start + step * size, step)].mean())
+                assert prepare._mean_along(w, start, step, size) == want
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_noise_bound_never_hides_a_larger_estimate(seed: int) -> None:
+    # noise_at_most may say True only where the full estimate is at most the limit.
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(5, 300))
+    s = np.cumsum(rng.random(n) + 1e-3)
+    q = rng.random(n) * 10.0 ** float(rng.integers(-7, 0)) + np.sin(s) ** 2
+    sigma, _ = noise_estimate(s, q)
+    for limit in (0.0, sigma, np.nextafter(sigma, 0.0), 0.5 * sigma, 2.0 * sigma, 1e-3):
+        if noise_at_most(s, q, limit):
+            assert sigma <= limit
+    assert noise_at_most(s, q, 1.01 * math.sqrt(256.0 / 255.0) * sigma + 1.0) or n < 11
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_orientation_decides_as_numpy_dot_products(seed: int) -> None:
+    # The definition: the shoelace area from numpy's dot products against the tolerance.
+    rng = np.random.default_rng(seed)
+    for _ in range(200):
+        n = int(rng.integers(3, 300))
+        t = np.sort(rng.random(n)) * 2.0 * np.pi
+        flat = 10.0 ** float(rng.integers(-16, 0)) * rng.choice([0.0, 1.0, -1.0])
+        x = np.cos(t) + 1e-3 * rng.standard_normal(n)
+        y = flat * np.sin(t) + (1e-14 * rng.standard_normal(n) if rng.random() < 0.5 else 0.0)
+        x, y = np.append(x, x[0]), np.append(y, y[0])
+        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+        limit = prepare.AREA_TOLERANCE * (prepare._extent_product(x, y) + 1e-300)
+        want = (1 if area > 0.0 else -1) if abs(area) > limit else 0
+        got = prepare._orientation(x, y)
+        assert got in (want, 2)
+
+
+def test_side_names_of_nearly_flat_loops_as_numpy_names_them() -> None:
+    # Loops out and back along one curve, offset by about the area tolerance, far from the
+    # origin (large products): the orientation is too close to call in compiled sums, and
+    # numpy's dot products name the sides, as they always did.
+    rng = np.random.default_rng(11)
+    undecided = 0
+    for _ in range(300):
+        n = int(rng.integers(4, 100))
+        t = np.linspace(0.0, 1.0, n)
+        offset = prepare.AREA_TOLERANCE * 10.0 ** float(rng.uniform(-1.0, 1.0))
+        x = 1e3 + np.concatenate([t, t[::-1]])
+        y = 0.1 * np.concatenate([np.sin(t), np.sin(t[::-1]) + offset * rng.random(n)])
+        x, y = np.append(x, x[0]), np.append(y, y[0])
+        undecided += prepare._orientation(x, y) == 2
+        runs = ((n - 1, -1, n), (n, 1, n + 1))
+        area = 0.5 * float(np.dot(x[:-1], y[1:]) - np.dot(x[1:], y[:-1]))
+        if abs(area) > prepare.AREA_TOLERANCE * (prepare._extent_product(x, y) + 1e-300):
+            want = ("upper", "lower") if area > 0.0 else ("lower", "upper")
+        else:
+            want = prepare._side_names(x, y, runs, False, float(y[n - 1]))
+        assert prepare._side_names(x, y, runs, True, float(y[n - 1])) == want
+    assert undecided > 0
