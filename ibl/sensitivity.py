@@ -25,10 +25,15 @@ sizes of the turbulent march that do not end on a station (a continuous function
 state whose influence on the result is of the order of the truncation error), which
 stations are laminar or turbulent and how many are kept (discrete).
 
-Covered: sides of a single surface (``surface.s`` with edge velocity, or Cp or p at
-M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
-every transition criterion (Granville's two steps in ``_granville_bar``), trips; the
-sides of an unsmoothed contour, where the stagnation point's position s0 and slope come
+Covered: sides of a single surface (``surface.s`` with edge velocity, Cp or p at any
+Mach number: the isentropic relation's dq/dCp in ``_isentropic_q_slope``), planar or
+axisymmetric (stations that end at the thin-layer limit are a count kept, held), smoothed
+or not (the spline's transpose at its
+penalty, ``_smoothing_transpose``), every transition criterion (Granville's two steps in
+``_granville_bar``), trips; the sides of a contour, smoothed or not (the stagnation point
+fitted to the smoothed values, the spline's transpose applied to the sum over the input
+points), cut or not where the edge velocity vanishes again (``_cut_side``: the cut held),
+where the stagnation point's position s0 and slope come
 from a model fitted to the nose values (``prepare.Nose``): the slope's bar is kept apart,
 and the same backward sweep carries the derivatives with respect to every station's s
 (each piece above through its interval's length and the distance from its start: the
@@ -1653,8 +1658,6 @@ def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
         return f"the {case.laminar.method} laminar method is not differentiated yet"
     if case.turbulent.method != "head":
         return f"the {case.turbulent.method} turbulent method is not differentiated yet"
-    if side.axisymmetric and math.isfinite(state.thin_layer_s):
-        return "the stations end at the thin-layer limit, which is not differentiated"
     return None
 
 

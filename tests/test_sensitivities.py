@@ -891,3 +891,34 @@ def test_side_cut_where_the_edge_velocity_vanishes_again(first: float, spacing: 
     assert cut.sensitivities is not None
     for name in expected[result.sides.index(cut)]:
         assert np.all(np.array(getattr(cut.sensitivities, name))[: rear + 1] == 0.0), name
+
+
+@pytest.mark.parametrize("transition", ["michel", "trip"])
+def test_stations_cut_at_the_thin_layer_limit(transition: str) -> None:
+    # A slender body of revolution whose radius r = 0.03 sin(pi (0.9 s + 0.05)) closes
+    # towards its tail, edge velocity 1 - 0.1 s: the turbulent layer's delta99 reaches the
+    # radius downstream of the largest radius and the stations end before the first point
+    # past that limit.  That station, a choice, is held like the stations kept up to
+    # separation (and the limit's own position is not a quantity differentiated): the
+    # events before it and the friction drag over the stations kept against central
+    # differences of whole runs.
+    s = np.linspace(0.0, 1.0, 61)
+    trip = {"criterion": "none", "trip": {"surface": 0.05}}
+    doc = _surface(
+        s,
+        1.0 - 0.1 * s,
+        3e6,
+        transition={"criterion": "michel"} if transition == "michel" else trip,
+    )
+    doc["body"] = {
+        "kind": "axisymmetric",
+        "radius": (0.03 * np.sin(np.pi * (0.9 * s + 0.05))).tolist(),
+    }
+    result = ibl.run(ibl.parse_case(doc))
+    codes = [w.code for w in result.warnings]
+    assert "thin_layer_limit" in codes and "sensitivities_unavailable" not in codes
+    _check(
+        doc,
+        {"transition", "friction_drag"},
+        zero=frozenset({"transition"}) if transition == "trip" else frozenset(),
+    )
