@@ -350,14 +350,17 @@ class Output(Struct, frozen=True):
             "velocities are equal (the interpolant's slope limiter switches), where "
             "separation crosses a station (friction_drag), or at a stagnation point of a "
             "single surface (Ue = 0; that entry is 0); a trip's position has derivative "
-            "zero. Covered: single surfaces (surface.s), planar or axisymmetric (short of "
-            "the thin-layer limit), edge_velocity, or cp or p at M = 0, smoothed (the "
-            "penalty held fixed) or not, with every transition criterion; contours (x, y) "
-            "without smoothing, where the stagnation point, its slope and so every "
+            "zero, and so has the position where a contour side is cut because its edge "
+            "velocity vanishes again (held; the points beyond it have zero derivatives). "
+            "Covered: single surfaces (surface.s), planar or axisymmetric (stations "
+            "that end at the thin-layer limit held), edge_velocity, cp or p at any Mach "
+            "number, smoothed "
+            "(the penalty held fixed) or not, with every transition criterion; contours "
+            "(x, y), smoothed or not, where the stagnation point, its slope and so every "
             "station's s follow the nose values its model is fitted to; profile_drag (the "
             "side's share, through theta, H and Ue at the trailing edge; null where the "
-            "case has no profile drag). Elsewhere (a smoothed contour, a nose of equal "
-            "values, a laminar trailing edge, ...) the arrays are null with a "
+            "case has no profile drag). Elsewhere (a nose of equal values, a laminar "
+            "trailing edge, ...) the arrays are null with a "
             "sensitivities_unavailable warning saying why. Empty (the default): none",
         ),
     ] = msgspec.field(default_factory=list)

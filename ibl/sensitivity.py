@@ -25,10 +25,15 @@ sizes of the turbulent march that do not end on a station (a continuous function
 state whose influence on the result is of the order of the truncation error), which
 stations are laminar or turbulent and how many are kept (discrete).
 
-Covered: sides of a single surface (``surface.s`` with edge velocity, or Cp or p at
-M = 0), planar or axisymmetric short of the thin-layer limit, smoothed or not,
-every transition criterion (Granville's two steps in ``_granville_bar``), trips; the
-sides of an unsmoothed contour, where the stagnation point's position s0 and slope come
+Covered: sides of a single surface (``surface.s`` with edge velocity, Cp or p at any
+Mach number: the isentropic relation's dq/dCp in ``_isentropic_q_slope``), planar or
+axisymmetric (stations that end at the thin-layer limit are a count kept, held), smoothed
+or not (the spline's transpose at its
+penalty, ``_smoothing_transpose``), every transition criterion (Granville's two steps in
+``_granville_bar``), trips; the sides of a contour, smoothed or not (the stagnation point
+fitted to the smoothed values, the spline's transpose applied to the sum over the input
+points), cut or not where the edge velocity vanishes again (``_cut_side``: the cut held),
+where the stagnation point's position s0 and slope come
 from a model fitted to the nose values (``prepare.Nose``): the slope's bar is kept apart,
 and the same backward sweep carries the derivatives with respect to every station's s
 (each piece above through its interval's length and the distance from its start: the
@@ -45,6 +50,7 @@ Anything else returns a status code naming the reason (``REASONS``).
 from __future__ import annotations
 
 import math
+from dataclasses import replace
 from typing import Literal
 
 import numba
@@ -53,6 +59,7 @@ from numpy.typing import NDArray
 
 from ibl import kernel
 from ibl import march as march_module
+from ibl import prepare as prepare_module
 from ibl import smoothing as smoothing_module
 from ibl.drag import FIRST_PANEL_EXPONENTS
 from ibl.laminar import GAUSS_NODES, GAUSS_WEIGHTS, LAMBDA_MAX, THWAITES_A, THWAITES_B
@@ -1644,30 +1651,22 @@ def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:
     """Why a side's derivatives are not computed, or None when they are."""
     if case.surface.s is None:
         nose = side.nose
-        if case.pressure.smoothing is not None:
-            return "the smoothing of a contour's values is not differentiated yet"
         if nose is None or nose.gap:
             gap = nose.gap if nose is not None else "no stagnation point model"
             return f"the contour's stagnation point is not differentiated: {gap}"
-        if nose.points.size != side.s.size:
-            return "the side ends at a pressure plateau in the input, which is not differentiated"
     if case.laminar.method != "thwaites":
         return f"the {case.laminar.method} laminar method is not differentiated yet"
     if case.turbulent.method != "head":
         return f"the {case.turbulent.method} turbulent method is not differentiated yet"
-    if side.axisymmetric and math.isfinite(state.thin_layer_s):
-        return "the stations end at the thin-layer limit, which is not differentiated"
-    if case.flow.mach > 0.0 and case.pressure.edge_velocity is None:
-        return "the isentropic edge velocity (M > 0) is not differentiated yet"
     return None
 
 
 def _to_inputs(case: Case, side: SideInput, bars: F64) -> F64:
     """Derivatives with respect to Ue/U_inf at the stations of a single surface (rows of
     ``bars``) turned into derivatives with respect to the input values: through
-    (Ue/U_inf)^2 = q, q = value^2 (edge velocity), 1 - Cp (M = 0) or 1 - (p - p_inf)/q_inf,
-    and the smoothing spline at its penalty when the case smooths.  A station with Ue = 0
-    passes nothing on (there the start of the layer changes kind: no derivative)."""
+    (Ue/U_inf)^2 = q, the smoothing spline at its penalty when the case smooths, and q from
+    the input value (``_q_to_inputs``).  A station with Ue = 0 passes nothing on (there the
+    start of the layer changes kind: no derivative)."""
     pressure = case.pressure
     ue = side.ue
     if pressure.edge_velocity is not None and pressure.smoothing is None:
@@ -1679,44 +1678,137 @@ def _to_inputs(case: Case, side: SideInput, bars: F64) -> F64:
     d_q[inside] = 0.5 / ue[inside]
     bar_q = bars[:, : ue.size] * d_q
     if pressure.smoothing is not None:
-        # The spline is linear in q at a given penalty, and symmetric (a penalised least
-        # squares fit evaluated at the data points: S = B (B'B + penalty P)^-1 B'), so the
-        # transpose is the same smoothing.  The penalty the case chose (or GCV chose on its
-        # grid, a choice that does not change with small moves of the data) is held fixed.
-        raw = _raw_q(case)
-        t = (side.s - side.s[0]) / float(side.s[-1] - side.s[0])
-        penalty = None if pressure.smoothing == "auto" else float(pressure.smoothing)
-        fitted = smoothing_module.smooth(t, raw, penalty, False)
-        if not fitted.undetermined:
-            bar_q = np.array(
-                [smoothing_module.smooth(t, row, fitted.penalty, False).values for row in bar_q]
-            )
-            bar_q[:, fitted.values < 0.0] = 0.0  # clipped to zero after smoothing
-    if pressure.edge_velocity is not None:
-        values = np.asarray(pressure.edge_velocity, dtype=np.float64)
-        return np.asarray(bar_q * 2.0 * values)  # q = value^2
+        bar_q = _smoothing_transpose(case, bar_q)
+    return _q_to_inputs(case, bar_q)
+
+
+def _smoothing_transpose(case: Case, bar_q: F64) -> F64:
+    """Derivatives with respect to the smoothed q = (Ue/U_inf)^2 at the input points (rows
+    of ``bar_q``) turned into derivatives with respect to q before the smoothing, as
+    ``prepare.prepare`` smooths: along the arc length of the input (a contour's chords),
+    periodic on a closed contour (an implicitly closed one with its first point appended,
+    an explicitly closed one with its last value unused and set to the first smoothed).
+
+    The spline is linear in q at a given penalty, and symmetric (a penalised least squares
+    fit evaluated at the data points: S = B (B'B + penalty P)^-1 B'), so its transpose is
+    the same smoothing.  The penalty the case chose (or GCV chose on its grid, a choice that
+    does not change with small moves of the data) is held fixed.  Values clipped to zero
+    after the smoothing pass nothing on."""
+    surface, smoothing = case.surface, case.pressure.smoothing
+    assert smoothing is not None
     raw = _raw_q(case)
-    result = np.where(raw > 0.0, -bar_q, 0.0)  # q = max(1 - Cp, 0)
-    if pressure.p is not None:
-        q_inf = _dynamic_pressure(case)
-        assert q_inf is not None
-        result /= q_inf  # Cp = (p - p_inf) / q_inf
-    return np.asarray(result)
+    closed = implicit = False
+    if surface.s is not None:
+        arc = np.asarray(surface.s, dtype=np.float64)
+    else:
+        x = np.asarray(surface.x, dtype=np.float64)
+        y = np.asarray(surface.y, dtype=np.float64)
+        arc, _ = prepare_module._arc_length(x, y, prepare_module.REPEAT_TOLERANCE)
+        closed, implicit = prepare_module._closure(x, y, arc)
+        if implicit:  # the loop's first point appended at the end of the period
+            arc = np.append(arc, arc[-1] + float(np.hypot(x[-1] - x[0], y[-1] - y[0])))
+            raw = np.append(raw, raw[0])
+    t = (arc - arc[0]) / float(arc[-1] - arc[0])
+    penalty = None if smoothing == "auto" else float(smoothing)
+    fitted = smoothing_module.smooth(t, raw, penalty, closed)
+    if fitted.undetermined:
+        return bar_q  # too few points for GCV: left unsmoothed
+    n = bar_q.shape[1]
+    kept = fitted.values[:n] >= 0.0  # q = max(smoothed, 0)
+    out = np.zeros_like(bar_q)
+    for k, row in enumerate(bar_q):
+        if not row.any():
+            continue
+        row = np.where(kept, row, 0.0)
+        if implicit:  # q -> (q, q_0) -> smoothed, last dropped: S on the n distinct points
+            out[k] = smoothing_module.smooth(t, np.append(row, 0.0), fitted.penalty, True).values[
+                :-1
+            ]
+        elif closed:  # the last smoothed value repeats the first; the last input is unused
+            folded = row.copy()
+            folded[0] += folded[-1]
+            folded[-1] = folded[0]
+            values = smoothing_module.smooth(t, folded, fitted.penalty, True).values
+            out[k, :-1] = values[:-1]
+        else:
+            out[k] = smoothing_module.smooth(t, row, fitted.penalty, False).values
+    return out
 
 
 def _raw_q(case: Case) -> F64:
-    """(Ue/U_inf)^2 from the input values before any smoothing (M = 0, or edge velocity)."""
+    """(Ue/U_inf)^2 from the input values before any smoothing, as ``prepare.prepare``
+    computes it (the isentropic relation at M > 0, Cp clipped to its stagnation value)."""
     pressure = case.pressure
     if pressure.edge_velocity is not None:
         return np.asarray(pressure.edge_velocity, dtype=np.float64) ** 2
-    if pressure.cp is not None:
-        cp = np.asarray(pressure.cp, dtype=np.float64)
-    else:
-        assert pressure.p is not None and pressure.reference_pressure is not None
-        q_inf = _dynamic_pressure(case)
-        assert q_inf is not None
-        cp = (np.asarray(pressure.p, dtype=np.float64) - pressure.reference_pressure) / q_inf
+    cp = _input_cp(case)
+    mach = case.flow.mach
+    if mach > 0.0:
+        cp_max = prepare_module.stagnation_cp(mach)
+        return prepare_module.edge_velocity_from_cp(np.minimum(cp, cp_max), mach) ** 2
     return np.maximum(1.0 - cp, 0.0)
+
+
+def _input_cp(case: Case) -> F64:
+    """Cp at the input points (from ``pressure.p`` with the case's references)."""
+    pressure = case.pressure
+    if pressure.cp is not None:
+        return np.asarray(pressure.cp, dtype=np.float64)
+    assert pressure.p is not None and pressure.reference_pressure is not None
+    q_inf = _dynamic_pressure(case)
+    assert q_inf is not None
+    return (np.asarray(pressure.p, dtype=np.float64) - pressure.reference_pressure) / q_inf
+
+
+def _isentropic_q_slope(cp: F64, mach: float, gamma: float = prepare_module.GAMMA) -> F64:
+    r"""dq/dCp of q = (Ue/U_inf)^2 from ``prepare.edge_velocity_from_cp`` at M > 0, zero
+    where Cp is at or above its stagnation value (clipped there) or p/p_inf is clipped.
+
+    With P = p/p_inf = 1 + (gamma/2) M^2 Cp, A = 1 + (gamma-1)/2 M^2, P0 = A^(gamma/(gamma-1))
+    and W = (P0/P)^((gamma-1)/gamma) = 1 + (gamma-1)/2 Me^2, q = Me^2 A / (M^2 W), so
+
+    .. math::
+        \frac{dq}{dC_p} = \frac{A}{M^2 W^2}\,\frac{dM_e^2}{dP}\,\frac{dP}{dC_p}
+        = -\frac{A}{P\,W}
+
+    (-1 as M -> 0, Bernoulli).  Isentropic flow relations [derived; standard gas
+    dynamics]."""
+    g = gamma
+    k = 0.5 * (g - 1.0) * mach**2
+    p_ratio = 1.0 + 0.5 * g * mach**2 * cp
+    p0_ratio = (1.0 + k) ** (g / (g - 1.0))
+    inside = (cp < prepare_module.stagnation_cp(mach, g)) & (p_ratio > 1e-12)
+    safe = np.where(inside, p_ratio, 1.0)
+    w = (p0_ratio / safe) ** ((g - 1.0) / g)
+    return np.asarray(np.where(inside, -(1.0 + k) / (safe * w), 0.0), dtype=np.float64)
+
+
+def _cut_side(side: SideInput) -> SideInput:
+    """A contour side as ``_contour_to_q`` needs it where its stations end before its
+    branch of the input does, where the edge velocity vanishes again (a second stagnation
+    point in the input): the cut, an input point, is held, so its position has no
+    derivative, and the input points beyond it have none on this side (zero; the side's
+    ``nose.points`` end at the cut).  ``prepare._split_contour`` tells the branch before
+    the stagnation point from the one after it by the branch array itself, which the cut
+    replaces, so a cut branch before the stagnation point gets the ``direction`` and, for a
+    secant slope, the ``slope_grad`` of the other.  Both are restated here from the side:
+    the direction from its first two input points (one step back along the listing, or a
+    wrap round a closed contour's listing, is the branch before), and a secant slope (the
+    nose's model holds s0: no s0 derivative, one point's value in the slope) is the secant
+    Ue_1 / s_1 to the side's first point, so d slope / d q there is 1 / (2 Ue_1 s_1).  A
+    side stated right is returned as it is."""
+    nose = side.nose
+    if nose is None or nose.gap or side.s.size < 3:
+        return side
+    step = int(nose.points[2] - nose.points[1])
+    direction = 1.0 if step == -1 or step > 1 else -1.0
+    if direction == nose.direction:
+        return side
+    slope_grad = nose.slope_grad
+    if not nose.s0_grad.any() and np.count_nonzero(slope_grad) == 1:
+        slope_grad = np.zeros_like(slope_grad)
+        slope_grad[nose.points[1]] = 0.5 / float(side.ue[1]) / float(side.s[1])
+    return replace(side, nose=replace(nose, direction=direction, slope_grad=slope_grad))
 
 
 def _stagnation_shift(side: SideInput, geo: F64) -> F64:
@@ -1758,11 +1850,15 @@ def _contour_to_q(side: SideInput, bars: F64, slope_bar: F64, shift: F64, n_in: 
 def _q_to_inputs(case: Case, bar_q: F64) -> F64:
     """Derivatives with respect to q = (Ue/U_inf)^2 at each input point turned into
     derivatives with respect to the input values: q = value^2 (edge velocity),
-    q = max(1 - Cp, 0), Cp = (p - p_inf)/q_inf."""
+    q = max(1 - Cp, 0) at M = 0, the isentropic relation at M > 0
+    (``_isentropic_q_slope``), Cp = (p - p_inf)/q_inf."""
     pressure = case.pressure
     if pressure.edge_velocity is not None:
         return np.asarray(bar_q * 2.0 * np.asarray(pressure.edge_velocity, dtype=np.float64))
-    result = np.where(_raw_q(case) > 0.0, -bar_q, 0.0)
+    if case.flow.mach > 0.0:
+        result = bar_q * _isentropic_q_slope(_input_cp(case), case.flow.mach)
+    else:
+        result = np.where(_raw_q(case) > 0.0, -bar_q, 0.0)
     if pressure.p is not None:
         q_inf = _dynamic_pressure(case)
         assert q_inf is not None
@@ -1840,6 +1936,7 @@ def derivatives(
             )
         )
 
+    side = _cut_side(side)
     reason = _not_covered(case, side, state)
     if reason is not None:
         for name in wanted:
@@ -1854,7 +1951,10 @@ def derivatives(
     if contour:
         shift = _stagnation_shift(side, geo)
         n_in = len(case.surface.x or ())
-        inputs = _q_to_inputs(case, _contour_to_q(side, out, slope_bar, shift, n_in))
+        bar_q = _contour_to_q(side, out, slope_bar, shift, n_in)
+        if case.pressure.smoothing is not None:
+            bar_q = _smoothing_transpose(case, bar_q)
+        inputs = _q_to_inputs(case, bar_q)
     else:
         inputs = _to_inputs(case, side, out)
     for name in wanted:
