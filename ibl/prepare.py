@@ -1592,9 +1592,10 @@ def _split_contour(
         if nose_gap:
             nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
         else:
-            # A side ended at another stagnation point takes the derivatives and direction
-            # of the side after the stagnation point.
-            before = step < 0 and ends < 0
+            # The side walked backwards from the stagnation point takes the derivatives
+            # and direction of the side before it, whether or not it ends early at another
+            # stagnation point.
+            before = step < 0
             points, s0_grad, slope_grad = _nose_arrays(
                 index,
                 int(period) if closed else 0,
