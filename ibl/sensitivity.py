@@ -1694,6 +1694,44 @@ def _smoothing_transpose(case: Case, bar_q: F64) -> F64:
     the same smoothing.  The penalty the case chose (or GCV chose on its grid, a choice that
     does not change with small moves of the data) is held fixed.  Values clipped to zero
     after the smoothing pass nothing on."""
+    fit = _smoothing_fit(case)
+    if fit is None:
+        return bar_q  # too few points for GCV: left unsmoothed
+    closed, implicit, fitted, operator = fit
+    n = bar_q.shape[1]
+    kept = fitted.values[:n] >= 0.0  # q = max(smoothed, 0)
+    out = np.zeros_like(bar_q)
+    asked = [k for k, row in enumerate(bar_q) if row.any()]
+    if not asked:
+        return out
+    rows = np.where(kept, bar_q[asked], 0.0)
+    if implicit:  # q -> (q, q_0) -> smoothed, last dropped: S on the n distinct points
+        padded = np.concatenate([rows, np.zeros((len(asked), 1))], axis=1)
+        out[asked] = operator.rows(padded, fitted.penalty)[:, :-1]
+    elif closed:  # the last smoothed value repeats the first; the last input is unused
+        folded = rows.copy()
+        folded[:, 0] += folded[:, -1]
+        folded[:, -1] = folded[:, 0]
+        out[asked, :-1] = operator.rows(folded, fitted.penalty)[:, :-1]
+    else:
+        out[asked] = operator.rows(rows, fitted.penalty)
+    return out
+
+
+_SmoothingFit = tuple[bool, bool, "smoothing_module.Smoothed", "smoothing_module.Operator"]
+#: The last case's smoothing fit: every side of a case uses the same one.
+_last_fit: list[tuple[Case, _SmoothingFit | None]] = []
+
+
+def _smoothing_fit(case: Case) -> _SmoothingFit | None:
+    """The smoothing of the case's q as ``prepare.prepare`` does it, refitted here for its
+    penalty and the points clipped to zero: whether the input is closed (and implicitly
+    so), the fit, and the smoothing operator at those points; None when GCV left the values
+    unsmoothed.  Kept for the last case asked (its sides ask
+    in turn)."""
+    last = _last_fit[:1]
+    if last and last[0][0] is case:
+        return last[0][1]
     surface, smoothing = case.surface, case.pressure.smoothing
     assert smoothing is not None
     raw = _raw_q(case)
@@ -1711,28 +1749,13 @@ def _smoothing_transpose(case: Case, bar_q: F64) -> F64:
     t = (arc - arc[0]) / float(arc[-1] - arc[0])
     penalty = None if smoothing == "auto" else float(smoothing)
     fitted = smoothing_module.smooth(t, raw, penalty, closed)
-    if fitted.undetermined:
-        return bar_q  # too few points for GCV: left unsmoothed
-    n = bar_q.shape[1]
-    kept = fitted.values[:n] >= 0.0  # q = max(smoothed, 0)
-    out = np.zeros_like(bar_q)
-    for k, row in enumerate(bar_q):
-        if not row.any():
-            continue
-        row = np.where(kept, row, 0.0)
-        if implicit:  # q -> (q, q_0) -> smoothed, last dropped: S on the n distinct points
-            out[k] = smoothing_module.smooth(t, np.append(row, 0.0), fitted.penalty, True).values[
-                :-1
-            ]
-        elif closed:  # the last smoothed value repeats the first; the last input is unused
-            folded = row.copy()
-            folded[0] += folded[-1]
-            folded[-1] = folded[0]
-            values = smoothing_module.smooth(t, folded, fitted.penalty, True).values
-            out[k, :-1] = values[:-1]
-        else:
-            out[k] = smoothing_module.smooth(t, row, fitted.penalty, False).values
-    return out
+    fit = (
+        None
+        if fitted.undetermined
+        else (closed, implicit, fitted, smoothing_module.Operator(t, closed))
+    )
+    _last_fit[:] = [(case, fit)]
+    return fit
 
 
 def _raw_q(case: Case) -> F64:

@@ -187,6 +187,58 @@ def smooth(t: F64, q: F64, penalty: float | None, periodic: bool) -> Smoothed:
     return Smoothed(out, penalty, chosen, at_limit)
 
 
+class Operator:
+    """The smoothing of ``smooth`` on the points t at a fixed penalty, as a linear operator
+    on rows of values: the spline's basis and factors are built once, then ``rows`` applies
+    it to any number of rows.
+
+    The smoothing is linear in the values at a fixed penalty (its scale factor cancels), so
+    each row comes out as ``smooth(t, row, penalty, periodic).values`` gives it, to
+    rounding; a zero row gives zeros.  Used for the transpose of the smoothing in the
+    derivatives (``ibl.sensitivity``), where the operator is the same for every quantity
+    differentiated and every side of a case.
+    """
+
+    def __init__(self, t: F64, periodic: bool) -> None:
+        from scipy import linalg
+
+        self.periodic = periodic
+        self.points = t.size - 1 if periodic else t.size
+        count = min(self.points, MAX_BASIS)
+        intervals = count if periodic else max(count - 3, 1)
+        tt = t[:-1] if periodic else t
+        design, curvature, count = _basis(tt, _knots(tt, intervals), periodic)
+        gram = (design.T @ design).toarray()
+        gram = 0.5 * (gram + gram.T)
+        ridge = RIDGE * max(float(np.trace(gram)) / count, 1e-300)
+        chol = linalg.cholesky(gram + ridge * np.eye(count), lower=True)
+        inner = linalg.solve_triangular(chol, curvature, lower=True)
+        inner = linalg.solve_triangular(chol, inner.T, lower=True)
+        eigen, vectors = linalg.eigh(0.5 * (inner + inner.T))
+        self.design, self.chol, self.vectors = design, chol, vectors
+        self.eigen = np.maximum(eigen, 0.0)
+
+    def rows(self, rows: F64, penalty: float) -> F64:
+        """The smoothed values of each row of ``rows`` (shape (k, t.size))."""
+        from scipy import linalg
+
+        rows = np.atleast_2d(np.asarray(rows, dtype=np.float64))
+        yy = rows[:, :-1] if self.periodic else rows  # (k, points)
+        chol, vectors = self.chol, self.vectors
+        z = vectors.T @ linalg.solve_triangular(chol, self.design.T @ yy.T, lower=True)
+        shrunk = vectors @ (z / (1.0 + self.points * penalty * self.eigen)[:, None])
+        values = (self.design @ linalg.solve_triangular(chol.T, shrunk, lower=False)).T
+        if self.periodic:
+            values = np.concatenate([values, values[:, :1]], axis=1)
+        return np.asarray(values, dtype=np.float64)
+
+
+def smooth_rows(t: F64, rows: F64, penalty: float, periodic: bool) -> F64:
+    """``smooth(t, row, penalty, periodic).values`` for every row of ``rows`` at one given
+    penalty (``Operator``)."""
+    return Operator(t, periodic).rows(rows, penalty)
+
+
 @numba.njit(cache=True, error_model="numpy")
 def _cubic_residuals(s: F64, q: F64, stride: int, out: F64) -> None:
     """Into ``out[i - 4]``, for points i = 4 .. n-5: |q_i - cubic through the points
