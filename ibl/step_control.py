@@ -2,7 +2,7 @@
 
 Contents
 --------
-- ``march(method, ...)`` (``_march`` for one method): one side's turbulent layer from
+- ``march(method, ...)`` (``march`` for one method): one side's turbulent layer from
   its start by classical Runge-Kutta, for the method of code ``method``
   (``ibl.methods``): Head's equations (``ibl.head``; state theta, H1) or the
   lag-entrainment equations (``ibl.lag_entrainment``; state theta, H, C_E).  The
@@ -24,10 +24,10 @@ the state at its start (``step_limit``, clipped to the next station); a step who
 state asks for a step more than ``RETAKE_FACTOR`` shorter is taken again with that step,
 up to ``RETAKES`` times; only a state outside the equations' validity halves a step.
 
-The method code is an argument of ``march``; ``_march`` is compiled once and passes the
+The method code is an argument of ``march``; ``march`` is compiled once and passes the
 code on to the small dispatch functions, which are inlined (numba's ``inline="always"``),
 so that each step's branch on the code costs a comparison.  Measured side by side, this
-is within 3 % of holding one inlined copy of ``_march`` per method (the batch march per
+is within 3 % of holding one inlined copy of ``march`` per method (the batch march per
 side: 63 to 67 us either way), and it compiles in about 30 s instead of about 78 s; with
 the dispatch functions as plain calls too, the march was 10 to 40 % slower.
 """
@@ -284,54 +284,6 @@ def crossing(
 
 @numba.njit(cache=True, error_model="numpy")
 def march(
-    method: int,
-    s: F64,
-    ue: F64,
-    due: F64,
-    r: F64,
-    dr: F64,
-    n: int,
-    start: float,
-    theta0: float,
-    h0: float,
-    inv_nu: float,
-    h_separation: float,
-    law: int,
-    axisymmetric: bool,
-    theta_out: F64,
-    h_out: F64,
-    c_out: F64,
-    scale: float,
-    s_peak: float,
-    tape: F64,
-) -> tuple[float, int, int]:
-    """The turbulent march of the method of code ``method`` (``_march``)."""
-    return _march(
-        method,
-        s,
-        ue,
-        due,
-        r,
-        dr,
-        n,
-        start,
-        theta0,
-        h0,
-        inv_nu,
-        h_separation,
-        law,
-        axisymmetric,
-        theta_out,
-        h_out,
-        c_out,
-        scale,
-        s_peak,
-        tape,
-    )
-
-
-@numba.njit(cache=True, error_model="numpy")
-def _march(
     method: int,
     s: F64,
     ue: F64,
