@@ -136,25 +136,14 @@ def smooth(t: F64, q: F64, penalty: float | None, periodic: bool) -> Smoothed:
     """
     from scipy import linalg  # loaded on first use: scipy is slow to import
 
-    n = q.size
     scale = float(np.max(np.abs(q)))
     if not scale > 0.0:
         return Smoothed(q.copy(), 0.0 if penalty is None else penalty, penalty is None, False)
     y = q / scale
-    points = n - 1 if periodic else n  # distinct points
-    count = min(points, MAX_BASIS)
-    intervals = count if periodic else max(count - 3, 1)
-    tt, yy = (t[:-1], y[:-1]) if periodic else (t, y)
-    tau = _knots(tt, intervals)
-    design, curvature, count = _basis(tt, tau, periodic)
-    gram = (design.T @ design).toarray()
-    gram = 0.5 * (gram + gram.T)
-    ridge = RIDGE * max(float(np.trace(gram)) / count, 1e-300)
-    chol = linalg.cholesky(gram + ridge * np.eye(count), lower=True)
-    inner = linalg.solve_triangular(chol, curvature, lower=True)
-    inner = linalg.solve_triangular(chol, inner.T, lower=True)
-    eigen, vectors = linalg.eigh(0.5 * (inner + inner.T))
-    eigen = np.maximum(eigen, 0.0)
+    basis = Operator(t, periodic)  # the spline's basis and factors on these points
+    points, design, chol = basis.points, basis.design, basis.chol
+    vectors, eigen = basis.vectors, basis.eigen
+    yy = y[:-1] if periodic else y
     z = vectors.T @ linalg.solve_triangular(chol, design.T @ yy, lower=True)
 
     def coefficients(lam: float) -> F64:

@@ -110,8 +110,10 @@ def corpus() -> list[dict[str, Any]]:
     docs: list[dict[str, Any]] = []
     for name in ("strut.json", "mast.json"):
         docs.append(json.loads((ROOT / "examples" / name).read_text()))
-    for name in ("section_noisy_taps.json",):
-        docs.append(json.loads((ROOT / "tests/cases" / name).read_text()))
+    noisy = json.loads((ROOT / "tests/cases/section_noisy_taps.json").read_text())
+    docs.append(noisy)
+    for smoothing in ("auto", 1e-9):
+        docs.append(_with(noisy, pressure__smoothing=smoothing))
     ellipse = ellipse_case(200)
     docs += [ellipse, ellipse_case(57), ellipse_case(400, reynolds=3e5)]
     for criterion in ("granville", "abu_ghannam_shaw", "none"):
@@ -147,6 +149,19 @@ def corpus() -> list[dict[str, Any]]:
     docs.append(
         _with(
             _plate(gradient=0.3),
+            output={"sensitivities": ["transition", "separation", "friction_drag"]},
+        )
+    )
+    noisy_plate = _plate(gradient=0.3)
+    wobble = 1e-3 * np.sin(np.arange(len(noisy_plate["surface"]["s"])) * 2.1)
+    noisy_plate["pressure"]["edge_velocity"] = (
+        np.asarray(noisy_plate["pressure"]["edge_velocity"]) + wobble
+    ).tolist()
+    docs.append(_with(noisy_plate, pressure__smoothing="auto"))
+    docs.append(
+        _with(
+            noisy_plate,
+            pressure__smoothing="auto",
             output={"sensitivities": ["transition", "separation", "friction_drag"]},
         )
     )
