@@ -63,7 +63,7 @@ def server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
         )
     base = f"http://{HOST}:{port}"
     try:
-        for _ in range(1200):  # start-up, bounded: at most two minutes
+        for _ in range(2400):  # start-up (a first compile included), bounded: four minutes
             assert process.poll() is None, log.read_text()
             with contextlib.suppress(httpx.TransportError):
                 if httpx.get(f"{base}/health/ready", timeout=5).status_code == 200:

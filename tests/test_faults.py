@@ -185,7 +185,7 @@ def serving(tmp_path: Path, workers: int = 2, **env: str) -> Iterator[Server]:
         )
     server = Server(process, f"http://{HOST}:{port}", log, markers, metrics, workers)
     try:
-        for _ in range(1200):  # start-up, bounded: at most two minutes
+        for _ in range(2400):  # start-up (a first compile included), bounded: four minutes
             assert process.poll() is None, log.read_text()
             if server.started_workers() >= workers:
                 break

@@ -1209,7 +1209,7 @@ def test_serve_merges_metrics_of_its_workers(tmp_path: Path) -> None:
             stderr=subprocess.STDOUT,
         )
     try:
-        for _ in range(600):  # start-up, bounded: at most a minute
+        for _ in range(1800):  # start-up (a first compile included), bounded: three minutes
             try:
                 if httpx.get(f"{base}/health/ready", timeout=1).status_code == 200:
                     break

@@ -39,7 +39,7 @@ from litestar.openapi import OpenAPIConfig, ResponseSpec
 from litestar.openapi.spec import Contact, License, Tag
 
 import ibl
-from ibl.schema import Case, Flow, Pressure, Result, Surface
+from ibl.schema import Case, Flow, Output, Pressure, Result, Surface
 from ibl_service import codec, work
 from ibl_service.catalogue import MethodCatalogue
 from ibl_service.config import Settings
@@ -96,13 +96,24 @@ def _warm_up_case(points_per_side: int = 60) -> Case:
 
 
 def warm_up() -> None:
-    """Analyse a small case once with each laminar method: compiles and caches the
-    library's kernels (the march with supplied laminar values is a compilation of its
-    own)."""
+    """Analyse a small case once with each laminar method, and once with every derivative:
+    compiles and caches the library's kernels (the march with supplied laminar values and
+    the derivatives' backward sweep are compilations of their own; without this, the first
+    request that asks for one would stall its worker for the compile, tens of seconds)."""
     case = _warm_up_case()
     ibl.run(case)
     fd = msgspec.structs.replace(case.laminar, method="finite_difference")
     ibl.run(msgspec.structs.replace(case, laminar=fd))
+    every = Output(
+        sensitivities=[
+            "transition",
+            "laminar_separation",
+            "separation",
+            "friction_drag",
+            "profile_drag",
+        ]
+    )
+    ibl.run(msgspec.structs.replace(case, output=every))
 
 
 @dataclass(slots=True)

@@ -74,7 +74,7 @@ def start_server(python: str, port: int, log: Path) -> subprocess.Popen[bytes]:
     command += ["--workers", "1"]
     with log.open("wb") as out:
         server = subprocess.Popen(command, cwd=ROOT, stdout=out, stderr=subprocess.STDOUT)
-    deadline = time.monotonic() + 180
+    deadline = time.monotonic() + 300
     while time.monotonic() < deadline:
         if server.poll() is not None:
             sys.stdout.write(log.read_text(errors="replace"))

@@ -58,7 +58,7 @@ HOST = "127.0.0.1"
 #: PNG file signature (PNG specification, section 5.2).
 PNG_SIGNATURE = b"\x89PNG\r\n\x1a\n"
 #: Seconds to wait for the server to be ready (numba may compile the kernel first).
-READY_TIMEOUT_S = 240.0
+READY_TIMEOUT_S = 300.0
 
 
 class CheckFailed(Exception):

@@ -18,7 +18,7 @@ log="$(mktemp)"
 IBL_MAX_POINTS=400 IBL_MAX_BATCH=8 ibl serve --host 127.0.0.1 --port "$port" --workers 2 >"$log" 2>&1 &
 server=$!
 trap 'kill "$server" 2>/dev/null || true; wait "$server" 2>/dev/null || true; rm -f "$log"' EXIT
-for _ in $(seq 1 240); do
+for _ in $(seq 1 480); do
     if python -c "import urllib.request as u; u.urlopen('http://127.0.0.1:$port/health/ready', timeout=2)" 2>/dev/null; then
         break
     fi

@@ -93,7 +93,7 @@ class Server:
                 stderr=subprocess.STDOUT,
             )
 
-    def wait_ready(self, timeout_s: float = 180.0) -> None:
+    def wait_ready(self, timeout_s: float = 300.0) -> None:
         deadline = time.monotonic() + timeout_s
         while time.monotonic() < deadline:
             if self.process.poll() is not None:
