@@ -607,6 +607,18 @@ def _scalars(side: SideInput, state: SideState, found: Plateau | None, contour: 
 _EMPTY = np.empty(0)
 
 
+def _no_mesh_advice() -> MeshAdvice:
+    """Mesh advice of a side without one finite station: no cells, NaN sizes."""
+    nan = math.nan
+    return MeshAdvice(
+        first_cell=[],
+        max_thickness=nan,
+        max_thickness_s=nan,
+        max_eddy_viscosity_ratio=nan,
+        max_eddy_viscosity_ratio_s=nan,
+    )
+
+
 def _mesh_advice(side: SideInput, state: SideState, v: Scalars, contour: bool) -> MeshAdvice:
     """The mesh advice of a side from its scalars (``_mesh`` defines it)."""
     cells = []
@@ -622,14 +634,7 @@ def _mesh_advice(side: SideInput, state: SideState, v: Scalars, contour: bool) -
             for target, height in zip(y_plus, heights, strict=True)
         ]
     if state.count == 0:  # not one finite station (see SideState.cut_non_finite)
-        nan = math.nan
-        return MeshAdvice(
-            first_cell=[],
-            max_thickness=nan,
-            max_thickness_s=nan,
-            max_eddy_viscosity_ratio=nan,
-            max_eddy_viscosity_ratio_s=nan,
-        )
+        return _no_mesh_advice()
     return MeshAdvice(
         first_cell=cells,
         max_thickness=v.thickness,
@@ -920,14 +925,7 @@ def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
             for y_plus, height in zip(side.options.y_plus, heights.tolist(), strict=True)
         ]
     if state.count == 0:  # not one finite station (see SideState.cut_non_finite)
-        nan = math.nan
-        return MeshAdvice(
-            first_cell=[],
-            max_thickness=nan,
-            max_thickness_s=nan,
-            max_eddy_viscosity_ratio=nan,
-            max_eddy_viscosity_ratio_s=nan,
-        )
+        return _no_mesh_advice()
     i_thick = state.max_delta99_index
     i_ratio = state.max_eddy_viscosity_ratio_index
     return MeshAdvice(

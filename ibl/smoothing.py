@@ -222,12 +222,6 @@ class Operator:
         return np.asarray(values, dtype=np.float64)
 
 
-def smooth_rows(t: F64, rows: F64, penalty: float, periodic: bool) -> F64:
-    """``smooth(t, row, penalty, periodic).values`` for every row of ``rows`` at one given
-    penalty (``Operator``)."""
-    return Operator(t, periodic).rows(rows, penalty)
-
-
 @numba.njit(cache=True, error_model="numpy")
 def _cubic_residuals(s: F64, q: F64, stride: int, out: F64) -> None:
     """Into ``out[i - 4]``, for points i = 4 .. n-5: |q_i - cubic through the points

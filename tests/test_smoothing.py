@@ -371,7 +371,7 @@ def test_smoothing_does_not_depend_on_the_length_unit(penalty: Any) -> None:
 
 @pytest.mark.parametrize("periodic", [False, True])
 def test_smoothing_many_rows_at_once_equals_one_row_at_a_time(periodic: bool) -> None:
-    """``smooth_rows`` is ``smooth`` at a fixed penalty, applied to several rows with the
+    """``Operator.rows`` is ``smooth`` at a fixed penalty, applied to several rows with the
     factors built once: the same linear operator, so the same values to rounding."""
     rng = np.random.default_rng(7)
     t = np.sort(rng.uniform(0.0, 1.0, 120))
@@ -380,7 +380,7 @@ def test_smoothing_many_rows_at_once_equals_one_row_at_a_time(periodic: bool) ->
     rows[2] = 0.0
     if periodic:
         rows[:, -1] = rows[:, 0]
-    many = smoothing.smooth_rows(t, rows, 1e-8, periodic)
+    many = smoothing.Operator(t, periodic).rows(rows, 1e-8)
     for row, got in zip(rows, many, strict=True):
         one = smoothing.smooth(t, row, 1e-8, periodic).values
         assert np.allclose(got, one, rtol=0.0, atol=1e-12 * max(1.0, np.abs(one).max()))
