@@ -91,6 +91,8 @@ def _margin(
     """How far past its threshold an event is (>= 0 once it happens).
 
     kind 0: laminar separation; 1: Michel; 2: Granville instability; 3: Abu-Ghannam & Shaw.
+    Callers pass the kind as a plain integer (``np.int64(0)``, not ``0``): numba compiles
+    a function once more for each literal value of an argument.
     """
     lc = min(max(lam, lam_sep), LAMBDA_MAX)
     if kind == 0:
@@ -178,7 +180,9 @@ def laminar_separation(
     if not supplied:
         for i in range(1, n):
             if lam[i] <= lam_sep:
-                lsep = _refine(0, sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied)
+                lsep = _refine(
+                    np.int64(0), sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
+                )
                 _, _, re_sep, _ = _laminar_at(layer, params, lsep)
                 lsep_re_dstar = re_sep * shape_factor(closure, lam_sep)
                 break
@@ -221,7 +225,9 @@ def natural_transition(
         for i in range(1, n):
             lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
             if re_lam[i] >= granville_instability(lc):
-                s_i = _refine(2, sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied)
+                s_i = _refine(
+                    np.int64(2), sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
+                )
                 _, _, re_i, _ = _laminar_state(layer, params, sup, supplied, s_i)
                 run_i = _interp(sk, running, n, s_i)
                 break

@@ -714,7 +714,13 @@ def _granville_bar(
     for k in range(1, n):
         lc = min(max(lam[k], lam_sep), LAMBDA_MAX)
         if re[k] >= kernel.granville_instability(lc):
-            s_i = kernel._refine(2, sk[k - 1], sk[k], layer, params, lam_sep, tu, _NO_SUPPLY, False)
+            # Plain integer and flag and a writable array: the same compilation of ``_refine`` as
+            # the kernel's (literal or read-only arguments would each be one more).
+            no_supply = np.full((4, 1), np.nan)
+            kind, supplied = np.int64(2), np.bool_(False)
+            s_i = kernel._refine(
+                kind, sk[k - 1], sk[k], layer, params, lam_sep, tu, no_supply, supplied
+            )
             break
     if not np.isfinite(s_i) or s_i <= sk[0]:
         return False
@@ -863,7 +869,7 @@ def _granville_bar(
             br[k] -= bt * theta2[k] * 2.0 / rk[k]
     # The instability point itself.
     return _event_bar(
-        2,
+        np.int64(2),
         s_i,
         b_si,
         sk,
@@ -1278,7 +1284,7 @@ def side_sensitivities(
     elif not np.isfinite(lsep):
         status[1] = ABSENT
     elif not _event_bar(
-        0,
+        np.int64(0),
         lsep,
         1.0,
         sk,
@@ -1308,7 +1314,7 @@ def side_sensitivities(
         status[2] = ABSENT
     elif not sep_turbulent:
         if not _event_bar(
-            0,
+            np.int64(0),
             separation,
             1.0,
             sk,
@@ -1641,10 +1647,6 @@ _CAUSE_CODES = {
     "trip": kernel.CAUSE_TRIP,
     "laminar_separation": kernel.CAUSE_LAMINAR_SEPARATION,
 }
-
-
-#: The kernel's empty supplied-laminar array (sides here use Thwaites' integral).
-_NO_SUPPLY = np.full((4, 1), np.nan)
 
 
 def _not_covered(case: Case, side: SideInput, state: SideState) -> str | None:

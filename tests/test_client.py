@@ -27,6 +27,7 @@ import pytest
 
 import ibl
 from ibl.client import Client, Problem, ProblemError, Unavailable
+from ibl_service.app import warm_up
 
 ROOT = Path(__file__).resolve().parents[1]
 HOST = "127.0.0.1"
@@ -50,7 +51,12 @@ def free_port() -> int:
 
 @pytest.fixture(scope="module")
 def server(tmp_path_factory: pytest.TempPathFactory) -> Iterator[str]:
-    """One ``ibl serve`` worker on 127.0.0.1; its base URL."""
+    """One ``ibl serve`` worker on 127.0.0.1; its base URL.
+
+    The kernels are compiled here first (or loaded from numba's cache), with the server's
+    own warm-up: the server then loads them from the cache. Otherwise, on a fresh checkout,
+    it would compile them a third time beside the test run's two workers."""
+    warm_up()
     port = free_port()
     log = tmp_path_factory.mktemp("client") / "server.log"
     environ = dict(
