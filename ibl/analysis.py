@@ -1024,6 +1024,26 @@ def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
     ]
 
 
+def _fitted_re_theta(method: str, skin_friction: str) -> tuple[float, float, str]:
+    """The Re_theta range the skin-friction law of a turbulent method (with the case's
+    ``skin_friction`` option) was fitted on, and the end of the warning that says so."""
+    law_name = turbulent.METHODS[method].skin_friction
+    if law_name is None:
+        law_name = skin_friction
+        lo, hi = turbulent.SKIN_FRICTION[law_name].validity["re_theta"]
+    else:
+        lo, hi = lag_entrainment.WINTER_GAUDET_RE_THETA
+    return lo, hi, f"{law_name} law was fitted for {lo:g} to {hi:g}"
+
+
+#: ``_fitted_re_theta`` of every turbulent method and skin-friction option.
+_FITTED_RE_THETA = {
+    (method, law): _fitted_re_theta(method, law)
+    for method in turbulent.METHODS
+    for law in turbulent.SKIN_FRICTION
+}
+
+
 def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
     """Correlations used outside the range they were fitted on."""
     notes = []
@@ -1048,18 +1068,13 @@ def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
         )
     low, high = state.turbulent_re_theta_range
     if math.isfinite(low):
-        law_name = turbulent.METHODS[options.turbulent_method].skin_friction
-        if law_name is None:
-            law_name = options.skin_friction
-            lo, hi = turbulent.SKIN_FRICTION[law_name].validity["re_theta"]
-        else:
-            lo, hi = lag_entrainment.WINTER_GAUDET_RE_THETA
+        lo, hi, fitted = _FITTED_RE_THETA[options.turbulent_method, options.skin_friction]
         if low < lo or high > hi:
             notes.append(
                 Notice(
                     code="skin_friction_extrapolated",
                     message=f"{name}: turbulent Re_theta spans {low:.3g} to {high:.3g}; the "
-                    f"{law_name} law was fitted for {lo:g} to {hi:g}",
+                    + fitted,
                 )
             )
     if options.criterion == "michel" and math.isfinite(state.transition_re_s):
