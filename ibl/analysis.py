@@ -234,6 +234,10 @@ def _sides(prepared: list[_Ready | CaseError]) -> list[SideInput]:
     return [side for p in prepared if isinstance(p, _Ready) for side in p.prepared.sides]
 
 
+#: The pointers of the first sides of a result (a contour has two).
+_POINTERS = ("/sides/0", "/sides/1")
+
+
 def _results(
     cases: list[Case],
     prepared: list[_Ready | CaseError],
@@ -249,34 +253,40 @@ def _results(
             results.append(ready)
             continue
         p = ready.prepared
+        sides = p.sides
+        output = case.output
+        derivatives = output.sensitivities
         warnings = list(p.warnings)
-        built = []
-        wanted = _wanted(case.output)
-        marched = [next(states) for _ in p.sides]
+        wanted = _wanted(output)
+        marched = [next(states) for _ in sides]
         profile_scale = None
-        if "profile_drag" in case.output.sensitivities and not _no_trailing_edge(p, marched):
-            axisymmetric = p.sides[0].axisymmetric
-            profile_scale = 0.5 if axisymmetric and _one_body(p.sides) else 1.0
-        for index, (side, state) in enumerate(zip(p.sides, marched, strict=True)):
-            pointer = f"/sides/{index}"
+        if "profile_drag" in derivatives and not _no_trailing_edge(p, marched):
+            axisymmetric = sides[0].axisymmetric
+            profile_scale = 0.5 if axisymmetric and _one_body(sides) else 1.0
+        built = []
+        for index, (side, state) in enumerate(zip(sides, marched, strict=True)):
+            pointer = _POINTERS[index] if index < len(_POINTERS) else f"/sides/{index}"
             found = ready.plateaus[index]
-            built.append(_side(side, state, convert, warnings, pointer, found, wanted))
-            if case.output.sensitivities:
+            one = _side(side, state, convert, warnings, pointer, found, wanted)
+            if derivatives:
                 derived, notes = sensitivity.derivatives(case, side, state, pointer, profile_scale)
-                built[-1] = msgspec.structs.replace(built[-1], sensitivities=derived)
+                one = msgspec.structs.replace(one, sensitivities=derived)
                 warnings.extend(notes)
+            built.append(one)
             if found is not None:
                 warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
-            warnings.extend(_range_warnings(side, state))
-            warnings.extend(_laminar_method_notice(side, state))
-            warnings.extend(_laminar_inflow_notice(side, state))
-            warnings.extend(_near_separation(side, state, built[-1].margins))
+            warnings += _range_warnings(side, state)
+            if state.laminar_failure:
+                warnings += _laminar_method_notice(side, state)
+            if side.start == "inflow":
+                warnings += _laminar_inflow_notice(side, state)
+            warnings += _near_separation(side, state, one.margins)
         results.append(
             Result(
                 name=case.name,
                 stagnation=p.stagnation,
                 sides=built,
-                drag=_drag(p, marched, [side.friction_drag for side in built]),
+                drag=_drag(p, marched, [one.friction_drag for one in built]),
                 options=_options(case),
                 warnings=warnings,
                 caution=CAUTION,
@@ -704,7 +714,10 @@ def _wanted(output: Output) -> frozenset[str]:
 
 
 def _column(name: str, side: SideInput, state: SideState, keep: int) -> NDArray[np.float64]:
-    """One float station array of a marched side (x and y of a contour side only)."""
+    """One float station array of a marched side (x and y of a contour side only).
+
+    The definition; the results take them all at once from the compiled twin,
+    ``ibl.side_scalars.station_columns`` (``tests/test_compiled_results.py``)."""
     if name == "s":
         return state.s + side.offset
     if name == "x":
