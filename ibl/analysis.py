@@ -607,24 +607,26 @@ def _side(
     arrays_out: dict[str, Any] = {}
     if wanted:
         names = _COLUMN_NAMES[contour]
-        block = station_columns(
-            contour,
-            offset,
-            keep,
-            state.s,
-            side_x,
-            side_y,
-            state.ue,
-            state.theta,
-            state.shape_factor,
-            state.re_theta,
-            state.delta99,
-        )
+        picked = None
         if wanted != _ALL_STATIONS:
             picked = [i for i, name in enumerate(names) if name in wanted]
             names = tuple(names[i] for i in picked)
-            block = block[picked]
         if names:
+            block = station_columns(
+                contour,
+                offset,
+                keep,
+                state.s,
+                side_x,
+                side_y,
+                state.ue,
+                state.theta,
+                state.shape_factor,
+                state.re_theta,
+                state.delta99,
+            )
+            if picked is not None and len(picked) < block.shape[0]:
+                block = block[picked]
             arrays_out.update(zip(names, arrays.rows(block), strict=True))
         if not contour:
             for name in ("x", "y"):
