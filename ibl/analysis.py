@@ -44,7 +44,7 @@ from ibl.schema import (
     TransitionEvent,
     TurbulentMargin,
 )
-from ibl.side_scalars import Scalars, side_scalars
+from ibl.side_scalars import side_scalars, station_columns
 
 __all__ = ["CAUTION", "NEAR_SEPARATION_FRACTION", "analyze", "parse_case", "run", "run_batch"]
 
@@ -234,6 +234,10 @@ def _sides(prepared: list[_Ready | CaseError]) -> list[SideInput]:
     return [side for p in prepared if isinstance(p, _Ready) for side in p.prepared.sides]
 
 
+#: The pointers of the first sides of a result (a contour has two).
+_POINTERS = ("/sides/0", "/sides/1")
+
+
 def _results(
     cases: list[Case],
     prepared: list[_Ready | CaseError],
@@ -249,34 +253,40 @@ def _results(
             results.append(ready)
             continue
         p = ready.prepared
+        sides = p.sides
+        output = case.output
+        derivatives = output.sensitivities
         warnings = list(p.warnings)
-        built = []
-        wanted = _wanted(case.output)
-        marched = [next(states) for _ in p.sides]
+        wanted = _wanted(output)
+        marched = [next(states) for _ in sides]
         profile_scale = None
-        if "profile_drag" in case.output.sensitivities and not _no_trailing_edge(p, marched):
-            axisymmetric = p.sides[0].axisymmetric
-            profile_scale = 0.5 if axisymmetric and _one_body(p.sides) else 1.0
-        for index, (side, state) in enumerate(zip(p.sides, marched, strict=True)):
-            pointer = f"/sides/{index}"
+        if "profile_drag" in derivatives and not _no_trailing_edge(p, marched):
+            axisymmetric = sides[0].axisymmetric
+            profile_scale = 0.5 if axisymmetric and _one_body(sides) else 1.0
+        built = []
+        for index, (side, state) in enumerate(zip(sides, marched, strict=True)):
+            pointer = _POINTERS[index] if index < len(_POINTERS) else f"/sides/{index}"
             found = ready.plateaus[index]
-            built.append(_side(side, state, convert, warnings, pointer, found, wanted))
-            if case.output.sensitivities:
+            one = _side(side, state, convert, warnings, pointer, found, wanted)
+            if derivatives:
                 derived, notes = sensitivity.derivatives(case, side, state, pointer, profile_scale)
-                built[-1] = msgspec.structs.replace(built[-1], sensitivities=derived)
+                one = msgspec.structs.replace(one, sensitivities=derived)
                 warnings.extend(notes)
+            built.append(one)
             if found is not None:
                 warnings.append(_plateau_notice(side, state, found, ready.cut[index], pointer))
-            warnings.extend(_range_warnings(side, state))
-            warnings.extend(_laminar_method_notice(side, state))
-            warnings.extend(_laminar_inflow_notice(side, state))
-            warnings.extend(_near_separation(side, state, built[-1].margins))
+            warnings += _range_warnings(side, state)
+            if state.laminar_failure:
+                warnings += _laminar_method_notice(side, state)
+            if side.start == "inflow":
+                warnings += _laminar_inflow_notice(side, state)
+            warnings += _near_separation(side, state, one.margins)
         results.append(
             Result(
                 name=case.name,
                 stagnation=p.stagnation,
                 sides=built,
-                drag=_drag(p, marched, [side.friction_drag for side in built]),
+                drag=_drag(p, marched, [one.friction_drag for one in built]),
                 options=_options(case),
                 warnings=warnings,
                 caution=CAUTION,
@@ -346,12 +356,19 @@ def _options(case: Case) -> dict[str, str | float]:
     }
 
 
+#: Several station arrays of one length: a list of them, or the rows of a 2-D array.
+_Rows = list[NDArray[np.float64]] | NDArray[np.float64]
+
+
 class _Lists:
     """Station arrays as Python lists."""
 
     @staticmethod
-    def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
-        """Each of several arrays of one length."""
+    def rows(columns: _Rows) -> list[Any]:
+        """Each of several arrays of one length (or each row of a 2-D array)."""
+        if isinstance(columns, np.ndarray):
+            rows: list[Any] = columns.tolist()
+            return rows
         return [column.tolist() for column in columns]
 
     @staticmethod
@@ -373,9 +390,12 @@ class _Json:
     """Station arrays as JSON fragments (the same text msgspec writes for the lists)."""
 
     @staticmethod
-    def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
-        """Each of several arrays of one length (finite values: orjson writes NaN as null)."""
+    def rows(columns: _Rows) -> list[Any]:
+        """Each of several arrays of one length, or each row of a 2-D C-ordered array
+        (finite values: orjson writes NaN as null)."""
         dumps, option = orjson.dumps, orjson.OPT_SERIALIZE_NUMPY
+        if isinstance(columns, np.ndarray) and columns.flags.c_contiguous:
+            return [msgspec.Raw(dumps(row, option=option)) for row in columns]
         return [msgspec.Raw(dumps(np.ascontiguousarray(c), option=option)) for c in columns]
 
     @staticmethod
@@ -402,7 +422,7 @@ def _msgpack_header(count: int) -> bytes:
 _PACKED_FLOAT = np.dtype([("marker", "u1"), ("value", ">f8")])
 
 
-def _packed(values: NDArray[np.float64] | list[NDArray[np.float64]]) -> NDArray[np.void]:
+def _packed(values: _Rows) -> NDArray[np.void]:
     """Values (a 1-D array, or several of one length as rows) as packed float 64s."""
     out = np.empty(np.shape(values), dtype=_PACKED_FLOAT)
     out["marker"] = 0xCB
@@ -415,8 +435,9 @@ class _Msgpack:
     every float as a float 64, 0xcb and eight big-endian bytes; None as nil, 0xc0)."""
 
     @staticmethod
-    def rows(columns: list[NDArray[np.float64]]) -> list[Any]:
-        """Each of several arrays of one length (packed together)."""
+    def rows(columns: _Rows) -> list[Any]:
+        """Each of several arrays of one length, or each row of a 2-D array (packed
+        together)."""
         header = _msgpack_header(columns[0].size)
         return [msgspec.Raw(header + row.tobytes()) for row in _packed(columns)]
 
@@ -475,10 +496,69 @@ def _side(
 
     Its scalars (event positions on the contour, margins, mesh advice, friction drag) come
     from one compiled pass, ``ibl.side_scalars.side_scalars``: the twin of ``_xy_at``,
-    ``_margins`` and ``_friction``, which define them."""
+    ``_margins``, ``_mesh`` and ``_friction``, which define them; its float station arrays
+    from another, ``ibl.side_scalars.station_columns``, the twin of ``_column``."""
     keep = state.count
     contour = side.x is not None and side.y is not None
-    v = _scalars(side, state, found, contour)
+    side_x = side.x if side.x is not None and contour else _EMPTY
+    side_y = side.y if side.y is not None and contour else _EMPTY
+    offset = side.offset
+    # In the order of ``ibl.side_scalars.Scalars``.
+    (
+        transition_x,
+        transition_y,
+        laminar_separation_x,
+        laminar_separation_y,
+        separation_x,
+        separation_y,
+        plateau_x,
+        plateau_y,
+        thin_layer_x,
+        _,
+        laminar,
+        lambda_index,
+        lambda_value,
+        lambda_s,
+        h_index,
+        h_value,
+        h_s,
+        friction,
+        cf_missing,
+        cf_first_missing,
+        u_tau_s,
+        u_tau_x,
+        u_tau_y,
+        thickness,
+        thickness_s,
+        eddy_ratio_s,
+    ) = side_scalars(
+        side.s,
+        side_x,
+        side_y,
+        side.r,
+        contour,
+        side.axisymmetric,
+        offset,
+        keep,
+        state.s,
+        state.ue,
+        state.shape_factor,
+        state.cf,
+        state.turbulent,
+        state.thwaites_lambda,
+        state.delta99,
+        (
+            state.transition_s,
+            state.laminar_separation_s,
+            state.separation_s,
+            math.nan if found is None else found.onset_s,
+            state.thin_layer_s,
+        ),
+        state.max_u_tau,
+        state.max_u_tau_index,
+        state.max_delta99_index,
+        state.max_eddy_viscosity_ratio_index,
+    )
     if state.cut_non_finite:
         warnings.append(
             Notice(
@@ -489,63 +569,96 @@ def _side(
             )
         )
     if math.isfinite(state.thin_layer_s):
-        x_limit = v.thin_layer_x if contour else None
+        x_limit = thin_layer_x if contour else None
         warnings.append(_thin_layer_notice(side, state, pointer, x_limit))
-    offset = side.offset
-    tr = None
+    tr = lsep = sep = plateau = None
     if math.isfinite(state.transition_s):
         tr = TransitionEvent(
             s=state.transition_s + offset,
-            x=v.transition_x if contour else None,
-            y=v.transition_y if contour else None,
+            x=transition_x if contour else None,
+            y=transition_y if contour else None,
             cause=state.transition_cause,  # type: ignore[arg-type]
             re_theta=state.transition_re_theta,
         )
-    lsep = None
     if math.isfinite(state.laminar_separation_s):
         lsep = LaminarSeparationEvent(
             s=state.laminar_separation_s + offset,
-            x=v.laminar_separation_x if contour else None,
-            y=v.laminar_separation_y if contour else None,
+            x=laminar_separation_x if contour else None,
+            y=laminar_separation_y if contour else None,
             bubble="short" if state.bubble_short else "long",
             re_delta_star=state.laminar_separation_re_delta_star,
         )
-    sep = None
     if math.isfinite(state.separation_s):
         sep = SeparationEvent(
             s=state.separation_s + offset,
-            x=v.separation_x if contour else None,
-            y=v.separation_y if contour else None,
+            x=separation_x if contour else None,
+            y=separation_y if contour else None,
             regime="turbulent" if state.separation_turbulent else "laminar",
         )
-    plateau = None
     if found is not None:
         on = contour and math.isfinite(found.onset_s)
         plateau = PressurePlateauEvent(
             s=found.onset_s + offset,
-            x=v.plateau_x if on else None,
-            y=v.plateau_y if on else None,
+            x=plateau_x if on else None,
+            y=plateau_y if on else None,
             cp=found.cp,
             end_s=found.end_s + offset,
         )
     arrays_out: dict[str, Any] = {}
     if wanted:
-        laminar = v.laminar_count
-        names = [name for name in _FLOAT_STATIONS if name in wanted]
+        names = _COLUMN_NAMES[contour]
+        picked = None
+        if wanted != _ALL_STATIONS:
+            picked = [i for i, name in enumerate(names) if name in wanted]
+            names = tuple(names[i] for i in picked)
+        if names:
+            block = station_columns(
+                contour,
+                offset,
+                keep,
+                state.s,
+                side_x,
+                side_y,
+                state.ue,
+                state.theta,
+                state.shape_factor,
+                state.re_theta,
+                state.delta99,
+            )
+            if picked is not None and len(picked) < block.shape[0]:
+                block = block[picked]
+            arrays_out.update(zip(names, arrays.rows(block), strict=True))
         if not contour:
             for name in ("x", "y"):
                 if name in wanted:
-                    names.remove(name)
                     arrays_out[name] = None
-        if names:
-            columns = [_column(name, side, state, keep) for name in names]
-            arrays_out.update(zip(names, arrays.rows(columns), strict=True))
         if "cf" in wanted:
-            count = v.cf_missing
-            missing = () if count == 0 else (v.cf_first_missing,) if count == 1 else None
+            missing = () if cf_missing == 0 else (cf_first_missing,) if cf_missing == 1 else None
             arrays_out["cf"] = arrays.nullable(state.cf, missing)
         if "regime" in wanted:
             arrays_out["regime"] = arrays.regime(laminar, keep - laminar)
+    if keep == 0:  # not one finite station (see SideState.cut_non_finite)
+        mesh_advice = _no_mesh_advice()
+    else:
+        cells = []
+        u_tau = state.max_u_tau
+        if math.isfinite(u_tau):
+            # The smallest first cell for every y+ target is where u_tau is largest; its
+            # height as ``mesh.first_cell_heights`` takes it.
+            nu = side.nu
+            x = u_tau_x if contour else None
+            y = u_tau_y if contour else None
+            cells = [
+                FirstCell(y_plus=target, height=target * nu / u_tau, s=u_tau_s, x=x, y=y)
+                for target in side.options.y_plus
+            ]
+        mesh_advice = MeshAdvice(
+            first_cell=cells,
+            max_thickness=thickness,
+            max_thickness_s=thickness_s,
+            max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
+            max_eddy_viscosity_ratio_s=eddy_ratio_s,
+        )
     return Side(
         name=side.name,
         **arrays_out,
@@ -555,52 +668,14 @@ def _side(
         pressure_plateau=plateau,
         margins=Margins(
             laminar=(
-                LaminarMargin(thwaites_lambda=v.lambda_value, s=v.lambda_s)
-                if v.lambda_index >= 0
+                LaminarMargin(thwaites_lambda=lambda_value, s=lambda_s)
+                if lambda_index >= 0
                 else None
             ),
-            turbulent=(
-                TurbulentMargin(shape_factor=v.h_value, s=v.h_s) if v.h_index >= 0 else None
-            ),
+            turbulent=(TurbulentMargin(shape_factor=h_value, s=h_s) if h_index >= 0 else None),
         ),
-        mesh=_mesh_advice(side, state, v, contour),
-        friction_drag=None if math.isnan(v.friction) else v.friction,
-    )
-
-
-def _scalars(side: SideInput, state: SideState, found: Plateau | None, contour: bool) -> Scalars:
-    """The compiled pass over one side's arrays (``ibl.side_scalars``)."""
-    x = side.x if side.x is not None and contour else _EMPTY
-    y = side.y if side.y is not None and contour else _EMPTY
-    return Scalars._make(
-        side_scalars(
-            side.s,
-            x,
-            y,
-            side.r,
-            contour,
-            side.axisymmetric,
-            side.offset,
-            state.count,
-            state.s,
-            state.ue,
-            state.shape_factor,
-            state.cf,
-            state.turbulent,
-            state.thwaites_lambda,
-            state.delta99,
-            (
-                state.transition_s,
-                state.laminar_separation_s,
-                state.separation_s,
-                math.nan if found is None else found.onset_s,
-                state.thin_layer_s,
-            ),
-            state.max_u_tau,
-            state.max_u_tau_index,
-            state.max_delta99_index,
-            state.max_eddy_viscosity_ratio_index,
-        )
+        mesh=mesh_advice,
+        friction_drag=None if math.isnan(friction) else friction,
     )
 
 
@@ -619,34 +694,15 @@ def _no_mesh_advice() -> MeshAdvice:
     )
 
 
-def _mesh_advice(side: SideInput, state: SideState, v: Scalars, contour: bool) -> MeshAdvice:
-    """The mesh advice of a side from its scalars (``_mesh`` defines it)."""
-    cells = []
-    if math.isfinite(state.max_u_tau):
-        # The smallest first cell for every y+ target is where u_tau is largest.
-        s_i = v.u_tau_s
-        x = v.u_tau_x if contour else None
-        y = v.u_tau_y if contour else None
-        y_plus = side.options.y_plus
-        heights = mesh.first_cell_heights(y_plus, side.nu, state.max_u_tau)
-        cells = [
-            FirstCell(y_plus=target, height=height, s=s_i, x=x, y=y)
-            for target, height in zip(y_plus, heights, strict=True)
-        ]
-    if state.count == 0:  # not one finite station (see SideState.cut_non_finite)
-        return _no_mesh_advice()
-    return MeshAdvice(
-        first_cell=cells,
-        max_thickness=v.thickness,
-        max_thickness_s=v.thickness_s,
-        max_eddy_viscosity_ratio=state.max_eddy_viscosity_ratio,
-        max_eddy_viscosity_ratio_s=v.eddy_ratio_s,
-    )
-
-
 #: The float station arrays built by ``_Converter.rows`` (cf and regime have their own).
 _FLOAT_STATIONS = tuple(n for n in STATION_QUANTITIES if n not in ("cf", "regime"))
 _ALL_STATIONS = frozenset(STATION_QUANTITIES)
+#: The rows of ``ibl.side_scalars.station_columns``: without a contour (False), x and y
+#: are left out.
+_COLUMN_NAMES = {
+    True: _FLOAT_STATIONS,
+    False: tuple(n for n in _FLOAT_STATIONS if n not in ("x", "y")),
+}
 
 
 def _wanted(output: Output) -> frozenset[str]:
@@ -660,7 +716,10 @@ def _wanted(output: Output) -> frozenset[str]:
 
 
 def _column(name: str, side: SideInput, state: SideState, keep: int) -> NDArray[np.float64]:
-    """One float station array of a marched side (x and y of a contour side only)."""
+    """One float station array of a marched side (x and y of a contour side only).
+
+    The definition; the results take them all at once from the compiled twin,
+    ``ibl.side_scalars.station_columns`` (``tests/test_compiled_results.py``)."""
     if name == "s":
         return state.s + side.offset
     if name == "x":
@@ -910,8 +969,8 @@ def _near_separation(side: SideInput, state: SideState, margins: Margins) -> lis
 
 
 def _mesh(side: SideInput, state: SideState) -> MeshAdvice:
-    """The mesh advice of a side (the definition; the results build it by ``_mesh_advice``
-    from ``ibl.side_scalars.side_scalars``)."""
+    """The mesh advice of a side (the definition; the results build it in ``_side`` from
+    ``ibl.side_scalars.side_scalars``)."""
     cells = []
     if math.isfinite(state.max_u_tau):
         # The smallest first cell for every y+ target is where u_tau is largest.
@@ -980,6 +1039,26 @@ def _laminar_inflow_notice(side: SideInput, state: SideState) -> list[Notice]:
     ]
 
 
+def _fitted_re_theta(method: str, skin_friction: str) -> tuple[float, float, str]:
+    """The Re_theta range the skin-friction law of a turbulent method (with the case's
+    ``skin_friction`` option) was fitted on, and the end of the warning that says so."""
+    law_name = turbulent.METHODS[method].skin_friction
+    if law_name is None:
+        law_name = skin_friction
+        lo, hi = turbulent.SKIN_FRICTION[law_name].validity["re_theta"]
+    else:
+        lo, hi = lag_entrainment.WINTER_GAUDET_RE_THETA
+    return lo, hi, f"{law_name} law was fitted for {lo:g} to {hi:g}"
+
+
+#: ``_fitted_re_theta`` of every turbulent method and skin-friction option.
+_FITTED_RE_THETA = {
+    (method, law): _fitted_re_theta(method, law)
+    for method in turbulent.METHODS
+    for law in turbulent.SKIN_FRICTION
+}
+
+
 def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
     """Correlations used outside the range they were fitted on."""
     notes = []
@@ -1004,18 +1083,13 @@ def _range_warnings(side: SideInput, state: SideState) -> list[Notice]:
         )
     low, high = state.turbulent_re_theta_range
     if math.isfinite(low):
-        law_name = turbulent.METHODS[options.turbulent_method].skin_friction
-        if law_name is None:
-            law_name = options.skin_friction
-            lo, hi = turbulent.SKIN_FRICTION[law_name].validity["re_theta"]
-        else:
-            lo, hi = lag_entrainment.WINTER_GAUDET_RE_THETA
+        lo, hi, fitted = _FITTED_RE_THETA[options.turbulent_method, options.skin_friction]
         if low < lo or high > hi:
             notes.append(
                 Notice(
                     code="skin_friction_extrapolated",
                     message=f"{name}: turbulent Re_theta spans {low:.3g} to {high:.3g}; the "
-                    f"{law_name} law was fitted for {lo:g} to {hi:g}",
+                    + fitted,
                 )
             )
     if options.criterion == "michel" and math.isfinite(state.transition_re_s):

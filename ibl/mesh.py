@@ -4,7 +4,7 @@ Contents
 --------
 - ``friction_velocity``: u_tau from Ue and Cf.
 - ``first_cell_height``: wall distance of a target y+ (``first_cell_heights``: its twin
-  on Python floats, for the result building).
+  on Python floats, the expression the result building writes for each target).
 - ``delta99_power_law``: delta99 from theta and H for a power-law turbulent profile.
 - ``eddy_viscosity_ratio_clauser``: outer eddy-to-molecular viscosity ratio.
 """

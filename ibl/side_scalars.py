@@ -6,6 +6,9 @@ Contents
   the mesh advice's positions, the friction drag and the count of undefined Cf values of
   one side, from its ``SideState`` arrays and its ``SideInput`` geometry.
 - ``Scalars``: the names of what ``side_scalars`` returns, in order.
+- ``station_columns(...)``: the float station arrays of one side (``s`` to ``delta99``,
+  with x and y on a contour) as the rows of one array, for one conversion to lists or
+  encoded fragments.
 
 The result building (``ibl.analysis``) needs a few dozen numbers per side, each a small
 reduction of the station arrays; as numpy calls they cost more than the march itself.
@@ -27,7 +30,7 @@ from numpy.typing import NDArray
 
 from ibl.drag import friction_drag_compiled
 
-__all__ = ["Scalars", "side_scalars", "xy_at_compiled"]
+__all__ = ["Scalars", "side_scalars", "station_columns", "xy_at_compiled"]
 
 F64 = NDArray[np.float64]
 
@@ -207,3 +210,45 @@ def side_scalars(
         thickness_s,
         eddy_ratio_s,
     )
+
+
+@numba.njit(cache=True, error_model="numpy")
+def station_columns(
+    contour: bool,
+    offset: float,
+    count: int,
+    s: F64,
+    side_x: F64,
+    side_y: F64,
+    ue: F64,
+    theta: F64,
+    shape_factor: F64,
+    re_theta: F64,
+    delta99: F64,
+) -> F64:  # pragma: no cover - compiled
+    """The float station arrays of a side as the rows of one C-ordered array of ``count``
+    columns, in the order of ``ibl.schema.STATION_QUANTITIES`` without cf and regime: s +
+    ``offset``, x and y (the side's first ``count`` points; rows left out without a
+    ``contour``), Ue, theta, delta* = theta H, H, Re_theta, delta99.
+
+    Twin of ``ibl.analysis._column`` (the same operations element by element: one
+    addition for s, one product for delta*, copies for the rest)."""
+    rows = 9 if contour else 7
+    out = np.empty((rows, count))
+    row = 0
+    for k in range(count):
+        out[0, k] = s[k] + offset
+    row = 1
+    if contour:
+        for k in range(count):
+            out[1, k] = side_x[k]
+            out[2, k] = side_y[k]
+        row = 3
+    for k in range(count):
+        out[row, k] = ue[k]
+        out[row + 1, k] = theta[k]
+        out[row + 2, k] = theta[k] * shape_factor[k]
+        out[row + 3, k] = shape_factor[k]
+        out[row + 4, k] = re_theta[k]
+        out[row + 5, k] = delta99[k]
+    return out

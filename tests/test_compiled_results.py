@@ -2,7 +2,8 @@
 
 ``ibl.side_scalars`` and ``ibl.drag.friction_drag_compiled`` do the same floating-point
 operations in the same order as the numpy code that defines each number (``_xy_at``,
-``_margins``, ``_mesh``, ``_friction`` in ``ibl.analysis``, ``ibl.drag.friction_drag``),
+``_margins``, ``_mesh``, ``_friction``, ``_column`` in ``ibl.analysis``,
+``ibl.drag.friction_drag``),
 so the check is equality to the bit (no tolerance; values compared as their IEEE bytes):
 any difference would change results.  The sums of ``friction_drag`` are numpy's ``dot``
 (BLAS ddot); the twin calls the same routine through numba, which the tests check too.
@@ -20,11 +21,21 @@ import numpy as np
 import pytest
 
 from ibl import analysis, drag, mesh
-from ibl.analysis import _builtins, _friction, _margins, _mesh, _xy_at, parse_case, run
+from ibl.analysis import (
+    _FLOAT_STATIONS,
+    _builtins,
+    _column,
+    _friction,
+    _margins,
+    _mesh,
+    _xy_at,
+    parse_case,
+    run,
+)
 from ibl.bench import ellipse_case
 from ibl.march import SideState, march
 from ibl.prepare import SideInput
-from ibl.side_scalars import xy_at_compiled
+from ibl.side_scalars import station_columns, xy_at_compiled
 
 ROOT = Path(__file__).resolve().parents[1]
 
@@ -184,6 +195,37 @@ def test_side_scalars_equal_their_numpy_definitions(index: int) -> None:
         # Cf with its undefined values as None, as the numpy conversion writes it.
         expected_cf = [None if math.isnan(v) else v for v in variant.cf.tolist()]
         assert _same(built.cf, expected_cf)
+
+
+@pytest.mark.parametrize("index", range(len(MARCHED)))
+def test_station_columns_equal_their_numpy_definitions(index: int) -> None:
+    side, state = MARCHED[index]
+    contour = side.x is not None and side.y is not None
+    names = [n for n in _FLOAT_STATIONS if contour or n not in ("x", "y")]
+    empty = np.empty(0)
+    for keep in sorted({state.count, state.count // 2, 1, 0}):
+        # A state cut after ``keep`` stations (as at separation or a non-finite value).
+        arrays = ("s", "ue", "theta", "shape_factor", "re_theta", "delta99")
+        cut = dataclasses.replace(
+            state, count=keep, **{name: getattr(state, name)[:keep] for name in arrays}
+        )
+        block = station_columns(
+            contour,
+            side.offset,
+            keep,
+            cut.s,
+            side.x if contour else empty,
+            side.y if contour else empty,
+            cut.ue,
+            cut.theta,
+            cut.shape_factor,
+            cut.re_theta,
+            cut.delta99,
+        )
+        assert block.shape == (len(names), keep)
+        assert block.flags.c_contiguous
+        expected = np.array([_column(name, side, cut, keep) for name in names]).reshape(block.shape)
+        assert block.tobytes() == expected.tobytes()
 
 
 def test_first_cell_heights_equal_their_numpy_definition() -> None:

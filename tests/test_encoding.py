@@ -57,9 +57,11 @@ def test_fragments_take_strided_arrays() -> None:
 
 @pytest.mark.parametrize("n", [0, 1, 16, 300])
 @pytest.mark.parametrize("fragments", [_Lists, _Json, _Msgpack])
-def test_rows_equal_each_row_on_its_own(n: int, fragments: type) -> None:
+@pytest.mark.parametrize("block", [False, True], ids=["list", "block"])
+def test_rows_equal_each_row_on_its_own(n: int, fragments: type, block: bool) -> None:
+    # Rows given as a list of arrays, or as the rows of one 2-D array.
     columns = [_values(n), -_values(n), _values(n)[::-1] * 1e-9]
-    rows = fragments.rows(columns)
+    rows = fragments.rows(np.array(columns).reshape(3, n) if block else columns)
     assert len(rows) == 3
     for row, values in zip(rows, columns, strict=True):
         expected = fragments.rows([values])[0]
