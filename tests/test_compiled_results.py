@@ -12,6 +12,7 @@ any difference would change results.  The sums of ``friction_drag`` are numpy's 
 from __future__ import annotations
 
 import dataclasses
+import functools
 import json
 import math
 from pathlib import Path
@@ -82,16 +83,16 @@ def _documents() -> list[dict]:
     ]
 
 
-def _marched() -> list[tuple[SideInput, SideState]]:
-    pairs = []
-    for doc in _documents():
-        ready = analysis._prepare_all([parse_case(doc)])
-        sides = analysis._sides(ready)
-        pairs += list(zip(sides, march(sides), strict=True))
-    return pairs
+DOCUMENTS = _documents()
 
 
-MARCHED = _marched()
+@functools.cache
+def _marched(document: int) -> list[tuple[SideInput, SideState]]:
+    """The prepared and marched sides of one of ``DOCUMENTS``: on first use, not when the
+    tests are collected (a first march compiles the kernels, in each test worker)."""
+    ready = analysis._prepare_all([parse_case(DOCUMENTS[document])])
+    sides = analysis._sides(ready)
+    return list(zip(sides, march(sides), strict=True))
 
 
 def _random_side(rng: np.random.Generator, n: int) -> tuple[np.ndarray, ...]:
@@ -105,7 +106,7 @@ def test_xy_at_equals_its_numpy_definition(seed: int) -> None:
     rng = np.random.default_rng(seed)
     n = int(rng.integers(2, 300))
     s, x, y = _random_side(rng, n)
-    side = dataclasses.replace(MARCHED[0][0], s=s, x=x, y=y)
+    side = dataclasses.replace(_marched(0)[0][0], s=s, x=x, y=y)
     # Between stations, on them, and beyond both ends.
     positions = [*rng.uniform(s[0] - 1.0, s[-1] + 1.0, 40), *s[:: max(1, n // 7)], s[-1]]
     for at in positions:
@@ -169,10 +170,13 @@ def _with_nonfinite(state: SideState, rng: np.random.Generator) -> SideState:
     return dataclasses.replace(state, thwaites_lambda=lam, shape_factor=h)
 
 
-@pytest.mark.parametrize("index", range(len(MARCHED)))
-def test_side_scalars_equal_their_numpy_definitions(index: int) -> None:
-    side, state = MARCHED[index]
-    rng = np.random.default_rng(index)
+@pytest.mark.parametrize("document", range(len(DOCUMENTS)))
+def test_side_scalars_equal_their_numpy_definitions(document: int) -> None:
+    for index, (side, state) in enumerate(_marched(document)):
+        _check_side_scalars(side, state, np.random.default_rng([document, index]))
+
+
+def _check_side_scalars(side: SideInput, state: SideState, rng: np.random.Generator) -> None:
     variants = [state, _with_nonfinite(state, rng)]
     nan_lambda = state.thwaites_lambda.copy()
     nan_lambda[:] = np.nan
@@ -197,9 +201,13 @@ def test_side_scalars_equal_their_numpy_definitions(index: int) -> None:
         assert _same(built.cf, expected_cf)
 
 
-@pytest.mark.parametrize("index", range(len(MARCHED)))
-def test_station_columns_equal_their_numpy_definitions(index: int) -> None:
-    side, state = MARCHED[index]
+@pytest.mark.parametrize("document", range(len(DOCUMENTS)))
+def test_station_columns_equal_their_numpy_definitions(document: int) -> None:
+    for side, state in _marched(document):
+        _check_station_columns(side, state)
+
+
+def _check_station_columns(side: SideInput, state: SideState) -> None:
     contour = side.x is not None and side.y is not None
     names = [n for n in _FLOAT_STATIONS if contour or n not in ("x", "y")]
     empty = np.empty(0)
