@@ -1428,6 +1428,155 @@ def _nose_arrays(
     return points, s0_grad, slope_grad
 
 
+#: Why a side's derivatives of the stagnation point are not available when the sides do not
+#: start from a located stagnation point, by the code ``_split_numbers`` returns beyond
+#: those of ``NOSE_GAPS``.
+START_GAPS = (
+    "the sides start without a stagnation slope",
+    "no stagnation point in the data: the sides start as from a sharp edge",
+)
+NO_SLOPE, NO_STAGNATION = len(NOSE_GAPS), len(NOSE_GAPS) + 1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _split_numbers(
+    x: F64,
+    y: F64,
+    q: F64,
+    radius: F64,
+    arc: F64,
+    chord: F64,
+    axisymmetric: bool,
+    radius_from_y: bool,
+) -> tuple[
+    F64, NDArray[np.int64], F64, F64, F64, F64, NDArray[np.int64], F64, F64, NDArray[np.int64], F64
+]:
+    """The numbers of ``_split_contour`` in one compiled call: the listing (``_closure``,
+    ``_listing``), the stagnation point (``_locate``; the most upstream point when the data
+    hold none; on the axis of a body of revolution), its derivatives (``_nose_gradients``),
+    its station (``_station``, ``_along_input``), the orientation (``_orientation``) and
+    each side's rows (``_vanishing``, ``_side_rows``) and ``Nose`` arrays (``_nose_arrays``).
+    ``radius`` is empty without a radius.
+
+    Returns the scalars as a float array (s0, slope before, slope after, Ue at the vertex,
+    smallest q of the run, x0, y0, r0, dx0, dy0, dr0, fractional input index, arc length
+    along the input, distance the axis moved s0 or NaN) and an integer array (closed,
+    implicit, a, b, gap code (``NOSE_GAPS``, ``NO_SLOPE``, ``NO_STAGNATION``), plateau,
+    plateau long enough to report, last point before, first point after, orientation (3 on
+    an open contour), then per side: its count of points (-1 when too few), where its edge
+    velocity vanishes (-1), its first station of zero radius (-1)); then the listed rows,
+    input indices and arc length; then per side its rows, ``Nose.points`` and the rows
+    ``Nose.s0_grad``, ``Nose.slope_grad`` (empty when there are no derivatives)."""
+    n_in = arc.size
+    closed, implicit = _closure(x, y, arc)
+    columns, index, listed = _listing(x, y, q, radius, closed, implicit, arc, chord)
+    lx, ly, lq = columns[0], columns[1], columns[2]
+    n = lx.size
+    total = listed[n - 1]
+    tol = REPEAT_TOLERANCE * total
+    a, b, s0, before, after, ue_vertex, plateau, q_run = _locate(listed, lx, lq, not closed)
+    gap = 0
+    if not (np.isfinite(before) and np.isfinite(after)):
+        before = after = np.nan
+        gap = NO_SLOPE
+    if a < 0:
+        a = b = np.argmin(lx[: n - 1] if closed else lx)
+        while a > 0 and lx[a - 1] <= lx[b] + TIE_TOLERANCE * total:
+            a -= 1
+        while b < n - 1 and lx[b + 1] <= lx[a] + TIE_TOLERANCE * total:
+            b += 1
+        s0 = 0.5 * (listed[a] + listed[b])
+        q_run = lq[a : b + 1].min()
+        ue_vertex = np.sqrt(q_run)
+        before = after = np.nan
+        plateau = False
+        gap = NO_STAGNATION
+    d_s0 = d_before = d_after = np.empty(0)
+    if gap == 0:
+        d_s0, d_before, d_after, gap = _nose_gradients(listed, lq, a, b, s0, before, plateau)
+    moved = np.nan
+    if axisymmetric:
+        r_axis = columns[3] if radius.size else np.abs(ly)
+        axis = _axis_point(lx, ly, r_axis, listed, closed, radius_from_y)
+        if np.isfinite(axis) and abs(axis - s0) > tol:
+            spacing = np.max(np.diff(listed[max(a - 1, 0) : b + 2]))
+            if abs(axis - s0) > spacing:
+                moved = abs(axis - s0)
+            s0 = axis
+            plateau = False
+            if gap == 0:
+                d_s0[:] = 0.0  # placed on the axis: geometry only
+    long_plateau = plateau and b > a and listed[b] - listed[a] > PLATEAU_WARNING * total
+    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
+        columns, listed, index, s0, tol, plateau, a, b
+    )
+    if axisymmetric and radius_from_y:
+        r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
+        dr0 = math.copysign(dy0, y0)
+    period = (n_in if implicit else n_in - 1) if closed else 0
+    if closed:
+        position = position % period
+    along = _along_input(position, arc, x, y)
+    turn = _orientation(lx, ly) if closed else 3
+    ue_start = np.sqrt(q_run) if np.isnan(before) else 0.0
+    ints = np.empty(16, dtype=np.int64)
+    ints[0], ints[1], ints[2], ints[3], ints[4] = closed, implicit, a, b, gap
+    ints[5], ints[6], ints[7] = plateau, long_plateau, last_before
+    ints[8], ints[9] = first_after, turn
+    blocks, points, grads = [], [], []
+    for k in range(2):
+        first = last_before if k == 0 else first_after
+        step = -1 if k == 0 else 1
+        size = max(last_before + 1, 0) if k == 0 else max(n - first_after, 0)
+        ends = zero_r = -1
+        if size + 1 < MIN_POINTS:
+            size = -1
+            blocks.append(np.empty((5, 0)))
+        else:
+            # A side ends where its edge velocity falls to zero again (another stagnation point).
+            ends = _vanishing(lq, first, step, size)
+            if ends >= 0:
+                size = ends + 1
+            block = _side_rows(columns, listed, first, step, size, s0, ue_start, x0, y0, r0)
+            blocks.append(block)
+            if axisymmetric:
+                zero_r = _first_at_most(block[2], 1, size, 0.0)  # station k is point k - 1
+        if gap == 0 and size >= 0:
+            # The side walked backwards from the stagnation point takes the derivatives of
+            # the side before it, whether or not it ends early at another stagnation point.
+            slopes = d_before if step < 0 else d_after
+            p, s0_grad, slope_grad = _nose_arrays(
+                index, period, first, step, size, d_s0, slopes, n_in
+            )
+            rows = np.empty((2, n_in))
+            rows[0] = s0_grad
+            rows[1] = slope_grad
+            points.append(p)
+            grads.append(rows)
+        else:
+            points.append(np.empty(0, dtype=np.int64))
+            grads.append(np.empty((2, 0)))
+        ints[10 + 3 * k] = size
+        ints[11 + 3 * k] = ends
+        ints[12 + 3 * k] = zero_r
+    floats = np.array(
+        [s0, before, after, ue_vertex, q_run, x0, y0, r0, dx0, dy0, dr0, position, along, moved]
+    )
+    return (
+        floats,
+        ints,
+        columns,
+        index,
+        listed,
+        blocks[0],
+        points[0],
+        grads[0],
+        blocks[1],
+        points[1],
+        grads[1],
+    )
+
+
 def _split_contour(
     arc: F64,
     chord: F64,
@@ -1450,39 +1599,29 @@ def _split_contour(
     meet, the most downstream point (the trailing edge or rear point; the middle of a
     flat base), so that the sides and events do not depend on where the list starts.
     The sides then run from the stagnation point both ways round to that point; on an
-    open contour they run to its first and last points.
+    open contour they run to its first and last points.  The numbers come from one
+    compiled call (``_split_numbers``); this builds the warnings and the sides.
     """
     n_in = arc.size
-    arc_in, x_in, y_in = arc, x, y
-    closed, implicit = _closure(x, y, arc)
-    columns, index, arc = _listing(
-        x, y, q, radius if radius is not None else np.empty(0), closed, implicit, arc, chord
+    floats, ints, columns, index, arc, *per_side = _split_numbers(
+        x,
+        y,
+        q,
+        radius if radius is not None else np.empty(0),
+        arc,
+        chord,
+        axisymmetric,
+        radius_from_y,
     )
+    s0, slope_before, slope_after, ue_vertex, q_run, x0, y0, _, dx0, dy0, dr0 = floats[:11].tolist()
+    position, along, moved = floats[11:].tolist()
+    closed_, implicit, a, b, gap, _, long_plateau, last_before, first_after, turn = ints[
+        :10
+    ].tolist()
+    closed = bool(closed_)
     x, y, q = columns[0], columns[1], columns[2]
-    radius = columns[3] if radius is not None else None
     n = x.size
-    total = float(arc[-1])
-    tol = REPEAT_TOLERANCE * total
-
-    a, b, s0, slope_before, slope_after, ue_vertex, plateau, q_run = _locate(arc, x, q, not closed)
-    nose_gap = ""
-    if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
-        slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
-        nose_gap = "the sides start without a stagnation slope"
-    if a < 0:
-        # No stagnation point in the data: the sides start at the most upstream point as
-        # from a sharp leading edge (the middle of a flat front face).
-        a = b = int(np.argmin(x[:-1] if closed else x))
-        while a > 0 and x[a - 1] <= x[b] + TIE_TOLERANCE * total:
-            a -= 1
-        while b < n - 1 and x[b + 1] <= x[a] + TIE_TOLERANCE * total:
-            b += 1
-        s0 = 0.5 * (arc[a] + arc[b])
-        q_run = float(np.min(q[a : b + 1]))
-        ue_vertex = math.sqrt(q_run)
-        slope_before = slope_after = float("nan")
-        plateau = False
-        nose_gap = "no stagnation point in the data: the sides start as from a sharp edge"
+    if gap == NO_STAGNATION:
         warnings.append(
             Notice(
                 code="no_stagnation_point",
@@ -1514,29 +1653,18 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    if not nose_gap:
-        d_s0, d_before, d_after, gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
-        nose_gap = NOSE_GAPS[gap]
-    if axisymmetric:
-        r_axis = radius if radius is not None else np.abs(y)
-        axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
-        if math.isfinite(axis) and abs(axis - s0) > tol:
-            spacing = float(np.max(np.diff(arc[max(a - 1, 0) : b + 2])))
-            if abs(axis - s0) > spacing:
-                warnings.append(
-                    Notice(
-                        code="stagnation_point_on_axis",
-                        message="the pressure data put the stagnation point "
-                        f"{abs(axis - s0):.3g} along the contour from the nose on the axis; "
-                        "on a body of revolution it lies on the axis, and is placed there",
-                        pointer=p_pointer,
-                    )
-                )
-            s0 = axis
-            plateau = False
-            if not nose_gap:
-                d_s0[:] = 0.0  # placed on the axis: geometry only
-    if plateau and b > a and arc[b] - arc[a] > PLATEAU_WARNING * total:
+    nose_gap = START_GAPS[gap - NO_SLOPE] if gap >= NO_SLOPE else NOSE_GAPS[gap]
+    if not math.isnan(moved):
+        warnings.append(
+            Notice(
+                code="stagnation_point_on_axis",
+                message="the pressure data put the stagnation point "
+                f"{moved:.3g} along the contour from the nose on the axis; "
+                "on a body of revolution it lies on the axis, and is placed there",
+                pointer=p_pointer,
+            )
+        )
+    if long_plateau:
         warnings.append(
             Notice(
                 code="stagnation_plateau",
@@ -1547,16 +1675,7 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-
-    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
-        columns, arc, index, s0, tol, plateau, a, b
-    )
-    if axisymmetric and radius_from_y:
-        r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
-        dr0 = math.copysign(dy0, y0)
     period = (n_in if implicit else n_in - 1) if closed else np.inf
-    position = position % period
-    along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
 
     # The points before the stagnation point (walked backwards) and after it, each as
@@ -1564,18 +1683,20 @@ def _split_contour(
     runs = ((last_before, -1, max(last_before + 1, 0)), (first_after, 1, max(n - first_after, 0)))
     no_slope = math.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
-    ue_start = math.sqrt(q_run) if no_slope else 0.0
-    names = _side_names(x, y, runs, closed, y0)
+    names: tuple[Literal["upper", "lower"], Literal["upper", "lower"]]
+    if turn == 1 or turn == -1:
+        names = ("upper", "lower") if turn > 0 else ("lower", "upper")
+    else:
+        names = _side_names(x, y, runs, closed, y0)
+    side_ints = ints[10:].tolist()
     sides: list[SideInput] = []
-    for (first, step, size), name, slope in zip(
-        runs, names, (slope_before, slope_after), strict=True
-    ):
-        if size + 1 < MIN_POINTS:
+    for k, name in enumerate(names):
+        size, ends, zero_r = side_ints[3 * k : 3 * k + 3]
+        if size < 0:
             continue
-        # A side ends where its edge velocity falls to zero again (another stagnation point).
-        ends = _vanishing(q, first, step, size)
+        first, step, _ = runs[k]
+        block, points, grads = per_side[3 * k : 3 * k + 3]
         if ends >= 0:
-            size = ends + 1
             last = first + step * ends
             warnings.append(
                 Notice(
@@ -1586,43 +1707,25 @@ def _split_contour(
                     pointer=f"{p_pointer}/{int(index[last] % period)}",
                 )
             )
-        side_s, u, r, side_x, side_y = _side_rows(
-            columns, arc, first, step, size, s0, ue_start, x0, y0, r0
-        )
+        side_s, u, r, side_x, side_y = block
         if nose_gap:
             nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
         else:
-            # The side walked backwards from the stagnation point takes the derivatives
-            # and direction of the side before it, whether or not it ends early at another
-            # stagnation point.
-            before = step < 0
-            points, s0_grad, slope_grad = _nose_arrays(
-                index,
-                int(period) if closed else 0,
-                first,
-                step,
-                size,
-                d_s0,
-                d_before if before else d_after,
-                n_in,
-            )
             nose = Nose(
                 points=points,
-                s0_grad=s0_grad,
-                slope_grad=slope_grad,
-                direction=1.0 if before else -1.0,
+                s0_grad=grads[0],
+                slope_grad=grads[1],
+                direction=1.0 if step < 0 else -1.0,
                 position_grad=(dx0, dy0, dr0),
                 gap="",
             )
-        if axisymmetric:
-            zero_r = _first_at_most(r, 1, r.size - 1, 0.0)  # station k is listed point k - 1
-            if zero_r >= 0:
-                i = int(index[first + step * (zero_r - 1)] % period)
-                pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
-                raise CaseError.at(
-                    pointer,
-                    "the body radius must be positive between the nose and the tail",
-                )
+        if zero_r >= 0:
+            i = int(index[first + step * (zero_r - 1)] % period)
+            pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
+            raise CaseError.at(
+                pointer,
+                "the body radius must be positive between the nose and the tail",
+            )
         sides.append(
             SideInput(
                 name=name,
@@ -1635,7 +1738,7 @@ def _split_contour(
                 nu=nu,
                 axisymmetric=axisymmetric,
                 start=start,
-                slope=slope_before if no_slope else float(slope),
+                slope=slope_before if no_slope else (slope_before, slope_after)[k],
                 theta0=0.0,
                 h0=float("nan"),
                 turbulent_start=False,
