@@ -370,6 +370,44 @@ def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F
     return array
 
 
+def _packed_contour(case: Case) -> F64 | None:
+    """The rows x, y and Cp of a contour given by Cp (without a radius) in one array, when
+    the three have the same length and hold numbers; else None, and ``prepare`` converts
+    and checks each field on its own (``_array``), naming every problem."""
+    x, y, cp = case.surface.x, case.surface.y, case.pressure.cp
+    if x is None or y is None or cp is None or case.body.radius is not None:
+        return None
+    n = len(x)
+    if len(y) != n or len(cp) != n:
+        return None
+    block = np.empty((3, n))
+    try:
+        struct.pack_into(f"{3 * n}d", block.data, 0, *x, *y, *cp)
+    except struct.error:
+        return None
+    return block
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _contour_scan(
+    block: F64, tolerance: float, cp_max: float, noise: float
+) -> tuple[int, F64, F64, int, int, int, F64]:
+    """The scans of a contour's rows x, y, Cp (``_packed_contour``) in one compiled call:
+    the first row holding a value that is not a finite number (-1 when none: only then do
+    the others mean anything); the arc length, segment lengths and first repeated point
+    (``_arc_and_chords``); the Cp above the stagnation value ``cp_max`` (``_cp_excess``);
+    and q = (Ue/U_inf)^2 by Bernoulli (``_bernoulli_q``)."""
+    bad = -1
+    for row in range(block.shape[0]):
+        if _first_nonfinite(block[row]) >= 0:
+            bad = row
+            break
+    x, y, cp = block[0], block[1], block[2]
+    arc, chord, repeated = _arc_and_chords(x, y, tolerance)
+    over, clipped = _cp_excess(cp, cp_max, noise)
+    return bad, arc, chord, repeated, over, clipped, _bernoulli_q(cp)
+
+
 @numba.njit(cache=True, error_model="numpy")
 def _first_nonfinite(values: F64) -> int:
     """The index of the first value that is not a finite number, or -1."""
@@ -642,42 +680,58 @@ def prepare(case: Case) -> Prepared:
         raise CaseError(problems)
     surface, pressure, flow = case.surface, case.pressure, case.flow
     contour = surface.s is None
-    if contour:
-        assert surface.x is not None and surface.y is not None
-        x = _array(surface.x, "/surface/x", problems)
-        y = _array(surface.y, "/surface/y", problems)
-        n = x.size
-        _check_length(y, n, "/surface/y", "contour (x)", problems)
-    else:
-        assert surface.s is not None
-        s_in = _array(surface.s, "/surface/s", problems)
-        n = s_in.size
     p_pointer = _pressure_pointer(pressure)
     given_cp = pressure.edge_velocity is None  # Cp, or pascals converted to Cp
-    if pressure.cp is not None:
-        p_values = _array(pressure.cp, p_pointer, problems)
-    elif pressure.p is not None:
-        p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems), problems)
-    else:
-        assert pressure.edge_velocity is not None
-        p_values = _array(pressure.edge_velocity, p_pointer, problems)
-        if not contour:
-            _check_one_sign(p_values, problems)
-    _check_length(p_values, n, p_pointer, "surface", problems)
+    mach = flow.mach
+    cp_max = stagnation_cp(mach)
     radius = None
-    if case.body.radius is not None:
-        radius = _array(case.body.radius, "/body/radius", problems)
-        _check_length(radius, n, "/body/radius", "surface", problems)
-        negative = np.flatnonzero(radius < 0.0)
-        if negative.size:
-            problems.append(FieldProblem(f"/body/radius/{negative[0]}", "is negative"))
-    if problems:
-        raise CaseError(problems)
+    block = _packed_contour(case)
+    scan = None if block is None else _contour_scan(block, REPEAT_TOLERANCE, cp_max, CP_NOISE)
+    if scan is not None and scan[0] < 0:
+        # The common input, a contour given by finite Cp values: converted and scanned at once.
+        assert block is not None
+        x, y, p_values = block
+        n = x.size
+        _, arc, chord, repeated, over, clipped, q = scan
+    else:
+        if contour:
+            assert surface.x is not None and surface.y is not None
+            x = _array(surface.x, "/surface/x", problems)
+            y = _array(surface.y, "/surface/y", problems)
+            n = x.size
+            _check_length(y, n, "/surface/y", "contour (x)", problems)
+        else:
+            assert surface.s is not None
+            s_in = _array(surface.s, "/surface/s", problems)
+            n = s_in.size
+        if pressure.cp is not None:
+            p_values = _array(pressure.cp, p_pointer, problems)
+        elif pressure.p is not None:
+            p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems), problems)
+        else:
+            assert pressure.edge_velocity is not None
+            p_values = _array(pressure.edge_velocity, p_pointer, problems)
+            if not contour:
+                _check_one_sign(p_values, problems)
+        _check_length(p_values, n, p_pointer, "surface", problems)
+        if case.body.radius is not None:
+            radius = _array(case.body.radius, "/body/radius", problems)
+            _check_length(radius, n, "/body/radius", "surface", problems)
+            negative = np.flatnonzero(radius < 0.0)
+            if negative.size:
+                problems.append(FieldProblem(f"/body/radius/{negative[0]}", "is negative"))
+        if problems:
+            raise CaseError(problems)
+        if contour:
+            arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
+        if given_cp:
+            over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
+            if mach <= 0.0:
+                q = _bernoulli_q(p_values)
 
     warnings: list[Notice] = []
     # Arc length along the input.
     if contour:
-        arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
         if repeated > 0:
             i = repeated
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
@@ -690,10 +744,7 @@ def prepare(case: Case) -> Prepared:
         arc = s_in - s_in[0]
 
     # Edge velocity squared, q = (Ue/U_inf)^2, smooth through a stagnation point.
-    mach = flow.mach
     if given_cp:
-        cp_max = stagnation_cp(mach)
-        over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
         if over >= 0:
             i = over
             raise CaseError.at(
@@ -712,8 +763,6 @@ def prepare(case: Case) -> Prepared:
             )
         if mach > 0.0:
             q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
-        else:
-            q = _bernoulli_q(p_values)
     else:
         q = p_values**2
     if mach > 0.0:
@@ -1403,6 +1452,33 @@ def _vanishing(q: F64, first: int, step: int, size: int) -> int:
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _input_points(index: F64, period: int) -> NDArray[np.int64]:
+    """The input point of each listed point: its unwrapped index, taken modulo ``period``
+    on a closed contour (0 when open)."""
+    inputs = np.empty(index.size, dtype=np.int64)
+    for j in range(index.size):
+        inputs[j] = int(index[j])
+        if period > 0:
+            while inputs[j] >= period:  # unwrapped indices lie below two periods
+                inputs[j] -= period
+    return inputs
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _summed_onto(inputs: NDArray[np.int64], values: F64, n_in: int) -> F64:
+    """``values`` over the listed points summed onto the ``n_in`` input points in listing
+    order (a point listed twice gets both).  Zeros are not added: the sums start at +0 and
+    never become -0 (x + (-x) is +0), and adding +-0 to any other value leaves it as it is,
+    so the sums are those of adding every value; derivatives have few values that are not
+    zero."""
+    out = np.zeros(n_in)
+    for j in range(inputs.size):
+        if values[j] != 0.0:
+            out[inputs[j]] += values[j]
+    return out
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _nose_arrays(
     index: F64, period: int, first: int, step: int, size: int, d_s0: F64, d_slope: F64, n_in: int
 ) -> tuple[NDArray[np.int64], F64, F64]:
@@ -1411,21 +1487,25 @@ def _nose_arrays(
     are unwrapped, taken modulo ``period`` on a closed contour, 0 when open), and the
     derivatives ``d_s0`` and ``d_slope`` over the listed points summed onto the
     ``n_in`` input points in listing order (a point listed twice gets both)."""
-    inputs = np.empty(index.size, dtype=np.int64)
-    for j in range(index.size):
-        inputs[j] = int(index[j])
-        if period > 0:
-            while inputs[j] >= period:  # unwrapped indices lie below two periods
-                inputs[j] -= period
+    inputs = _input_points(index, period)
+    return (
+        _station_points(inputs, first, step, size),
+        _summed_onto(inputs, d_s0, n_in),
+        _summed_onto(inputs, d_slope, n_in),
+    )
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _station_points(
+    inputs: NDArray[np.int64], first: int, step: int, size: int
+) -> NDArray[np.int64]:
+    """``Nose.points``: -1 at the stagnation point, then the input point of each of the
+    ``size`` listed points from ``first`` on by ``step``."""
     points = np.empty(size + 1, dtype=np.int64)
     points[0] = -1
     for k in range(size):
         points[k + 1] = inputs[first + step * k]
-    s0_grad, slope_grad = np.zeros(n_in), np.zeros(n_in)
-    for j in range(index.size):
-        s0_grad[inputs[j]] += d_s0[j]
-        slope_grad[inputs[j]] += d_slope[j]
-    return points, s0_grad, slope_grad
+    return points
 
 
 #: Why a side's derivatives of the stagnation point are not available when the sides do not
@@ -1524,6 +1604,8 @@ def _split_numbers(
     ints[5], ints[6], ints[7] = plateau, long_plateau, last_before
     ints[8], ints[9] = first_after, turn
     blocks, points, grads = [], [], []
+    inputs = np.empty(0, dtype=np.int64)
+    s0_grad = np.empty(0)
     for k in range(2):
         first = last_before if k == 0 else first_after
         step = -1 if k == 0 else 1
@@ -1543,15 +1625,15 @@ def _split_numbers(
                 zero_r = _first_at_most(block[2], 1, size, 0.0)  # station k is point k - 1
         if gap == 0 and size >= 0:
             # The side walked backwards from the stagnation point takes the derivatives of
-            # the side before it, whether or not it ends early at another stagnation point.
-            slopes = d_before if step < 0 else d_after
-            p, s0_grad, slope_grad = _nose_arrays(
-                index, period, first, step, size, d_s0, slopes, n_in
-            )
+            # the side before it, whether or not it ends early at another stagnation point
+            # (``_nose_arrays`` of each side, the parts they share done once).
+            if inputs.size == 0:
+                inputs = _input_points(index, period)
+                s0_grad = _summed_onto(inputs, d_s0, n_in)
             rows = np.empty((2, n_in))
             rows[0] = s0_grad
-            rows[1] = slope_grad
-            points.append(p)
+            rows[1] = _summed_onto(inputs, d_before if step < 0 else d_after, n_in)
+            points.append(_station_points(inputs, first, step, size))
             grads.append(rows)
         else:
             points.append(np.empty(0, dtype=np.int64))
