@@ -1560,7 +1560,7 @@ def _split_numbers(
         before = after = np.nan
         gap = NO_SLOPE
     if a < 0:
-        a = b = np.argmin(lx[: n - 1] if closed else lx)
+        a = b = int(np.argmin(lx[: n - 1] if closed else lx))
         while a > 0 and lx[a - 1] <= lx[b] + TIE_TOLERANCE * total:
             a -= 1
         while b < n - 1 and lx[b + 1] <= lx[a] + TIE_TOLERANCE * total:
@@ -1685,7 +1685,7 @@ def _split_contour(
     compiled call (``_split_numbers``); this builds the warnings and the sides.
     """
     n_in = arc.size
-    floats, ints, columns, index, arc, *per_side = _split_numbers(
+    numbers = _split_numbers(
         x,
         y,
         q,
@@ -1695,6 +1695,8 @@ def _split_contour(
         axisymmetric,
         radius_from_y,
     )
+    floats, ints, columns, index, arc = numbers[:5]
+    per_side = (numbers[5:8], numbers[8:11])
     s0, slope_before, slope_after, ue_vertex, q_run, x0, y0, _, dx0, dy0, dr0 = floats[:11].tolist()
     position, along, moved = floats[11:].tolist()
     closed_, implicit, a, b, gap, _, long_plateau, last_before, first_after, turn = ints[
@@ -1777,7 +1779,7 @@ def _split_contour(
         if size < 0:
             continue
         first, step, _ = runs[k]
-        block, points, grads = per_side[3 * k : 3 * k + 3]
+        block, points, grads = per_side[k]
         if ends >= 0:
             last = first + step * ends
             warnings.append(
