@@ -19,6 +19,7 @@ import math
 import struct
 from collections.abc import Mapping
 from dataclasses import dataclass, field
+from itertools import chain
 from typing import Literal
 
 import numba
@@ -370,42 +371,68 @@ def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F
     return array
 
 
-def _packed_contour(case: Case) -> F64 | None:
-    """The rows x, y and Cp of a contour given by Cp (without a radius) in one array, when
-    the three have the same length and hold numbers; else None, and ``prepare`` converts
-    and checks each field on its own (``_array``), naming every problem."""
-    x, y, cp = case.surface.x, case.surface.y, case.pressure.cp
-    if x is None or y is None or cp is None or case.body.radius is not None:
+def _packed(case: Case) -> F64 | None:
+    """The rows of a case given by Cp or edge velocity values without a radius in one
+    array: x, y and the values of a contour, s and the values of a single surface; when
+    the rows have the same length (at least ``MIN_POINTS``) and hold numbers.  Else None,
+    and ``prepare`` converts and checks each field on its own (``_array``), naming every
+    problem."""
+    surface, pressure = case.surface, case.pressure
+    values = pressure.cp if pressure.cp is not None else pressure.edge_velocity
+    if values is None or case.body.radius is not None:
         return None
-    n = len(x)
-    if len(y) != n or len(cp) != n:
+    rows = (surface.x, surface.y, values) if surface.s is None else (surface.s, values)
+    n = len(values)
+    if n < MIN_POINTS or any(row is None or len(row) != n for row in rows):
         return None
-    block = np.empty((3, n))
+    block = np.empty((len(rows), n))
     try:
-        struct.pack_into(f"{3 * n}d", block.data, 0, *x, *y, *cp)
+        struct.pack_into(f"{block.size}d", block.data, 0, *chain.from_iterable(rows))  # type: ignore[arg-type]
     except struct.error:
         return None
     return block
 
 
 @numba.njit(cache=True, error_model="numpy")
-def _contour_scan(
-    block: F64, tolerance: float, cp_max: float, noise: float
-) -> tuple[int, F64, F64, int, int, int, F64]:
-    """The scans of a contour's rows x, y, Cp (``_packed_contour``) in one compiled call:
-    the first row holding a value that is not a finite number (-1 when none: only then do
-    the others mean anything); the arc length, segment lengths and first repeated point
-    (``_arc_and_chords``); the Cp above the stagnation value ``cp_max`` (``_cp_excess``);
-    and q = (Ue/U_inf)^2 by Bernoulli (``_bernoulli_q``)."""
+def _input_scan(
+    block: F64, contour: bool, given_cp: bool, tolerance: float, cp_max: float, noise: float
+) -> tuple[int, int, F64, F64, int, int, F64]:
+    """The scans of the rows of ``_packed`` in one compiled call: the first row holding a
+    value that is not a finite number, or the number of rows when a single surface's edge
+    velocity changes sign (``_sign_change``), or -1 when neither (only then do the others
+    mean anything); the first point repeating the one before it on a contour, or not
+    beyond it in s on a single surface (or -1); the arc length (on a contour from the
+    segment lengths, also returned, ``_arc_and_chords``; else s - s_0) and, from Cp, the
+    first Cp above the stagnation value ``cp_max`` by more than ``noise`` and the count
+    above it (``_cp_excess``) and q = (Ue/U_inf)^2 by Bernoulli (``_bernoulli_q``); from the
+    edge velocity -1, 0 and q = Ue^2."""
+    rows = block.shape[0]
     bad = -1
-    for row in range(block.shape[0]):
+    for row in range(rows):
         if _first_nonfinite(block[row]) >= 0:
             bad = row
             break
-    x, y, cp = block[0], block[1], block[2]
-    arc, chord, repeated = _arc_and_chords(x, y, tolerance)
-    over, clipped = _cp_excess(cp, cp_max, noise)
-    return bad, arc, chord, repeated, over, clipped, _bernoulli_q(cp)
+    values = block[rows - 1]
+    if bad < 0 and not contour and not given_cp and _sign_change(values) >= 0:
+        bad = rows
+    if contour:
+        arc, chord, repeated = _arc_and_chords(block[0], block[1], tolerance)
+    else:
+        s = block[0]
+        repeated = _first_not_increasing(s)
+        chord = np.empty(0)
+        arc = np.empty(s.size)
+        for i in range(s.size):
+            arc[i] = s[i] - s[0]
+    if given_cp:
+        over, clipped = _cp_excess(values, cp_max, noise)
+        q = _bernoulli_q(values)
+    else:
+        over, clipped = -1, 0
+        q = np.empty(values.size)
+        for i in range(values.size):
+            q[i] = values[i] * values[i]
+    return bad, repeated, arc, chord, over, clipped, q
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -685,14 +712,22 @@ def prepare(case: Case) -> Prepared:
     mach = flow.mach
     cp_max = stagnation_cp(mach)
     radius = None
-    block = _packed_contour(case)
-    scan = None if block is None else _contour_scan(block, REPEAT_TOLERANCE, cp_max, CP_NOISE)
+    block = _packed(case)
+    scan = (
+        None
+        if block is None
+        else _input_scan(block, contour, given_cp, REPEAT_TOLERANCE, cp_max, CP_NOISE)
+    )
     if scan is not None and scan[0] < 0:
-        # The common input, a contour given by finite Cp values: converted and scanned at once.
+        # The common input (a contour or a surface given by finite Cp or edge velocity
+        # values, without a radius): converted and scanned at once.
         assert block is not None
-        x, y, p_values = block
-        n = x.size
-        _, arc, chord, repeated, over, clipped, q = scan
+        _, repeated, arc, chord, over, clipped, q = scan
+        if contour:
+            x, y, p_values = block
+        else:
+            s_in, p_values = block
+        n = p_values.size
     else:
         if contour:
             assert surface.x is not None and surface.y is not None
@@ -724,24 +759,24 @@ def prepare(case: Case) -> Prepared:
             raise CaseError(problems)
         if contour:
             arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
+        else:
+            repeated = _first_not_increasing(s_in)
+            arc = s_in - s_in[0]
         if given_cp:
             over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
-            if mach <= 0.0:
-                q = _bernoulli_q(p_values)
+            q = _bernoulli_q(p_values)
+        else:
+            q = p_values**2
 
     warnings: list[Notice] = []
     # Arc length along the input.
-    if contour:
-        if repeated > 0:
-            i = repeated
+    if repeated > 0:
+        i = repeated
+        if contour:
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
-    else:
-        i = _first_not_increasing(s_in)
-        if i > 0:
-            raise CaseError.at(
-                f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
-            )
-        arc = s_in - s_in[0]
+        raise CaseError.at(
+            f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
+        )
 
     # Edge velocity squared, q = (Ue/U_inf)^2, smooth through a stagnation point.
     if given_cp:
@@ -763,8 +798,6 @@ def prepare(case: Case) -> Prepared:
             )
         if mach > 0.0:
             q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
-    else:
-        q = p_values**2
     if mach > 0.0:
         warnings.append(
             Notice(
