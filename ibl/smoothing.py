@@ -25,6 +25,7 @@ Ann. Statist. 12, 898-916 [recalled, not re-checked]).
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Any
@@ -305,12 +306,21 @@ def noise_at_most(s: F64, q: F64, sigma: float) -> bool:
     """
     if q.size < 11:
         return sigma >= 0.0
-    limit = sigma / MAD_TO_SIGMA * math.sqrt(255.0 / 256.0)
-    while limit > 0.0 and not _bound(limit) <= sigma:
-        limit = math.nextafter(limit, 0.0)
+    limit = _median_limit(sigma)
     if not limit > 0.0:
         return _bound(_fine_residual_median(s, q)) <= sigma
     return _bound(_fine_residual_median_above(s, q, limit)) <= sigma
+
+
+@functools.lru_cache(maxsize=8)
+def _median_limit(sigma: float) -> float:
+    """The largest median residual (near it, from below) at which the bound of
+    ``noise_at_most`` is at most sigma; 0 when there is none.  A function of the
+    threshold alone (a constant of the callers), kept once computed."""
+    limit = sigma / MAD_TO_SIGMA * math.sqrt(255.0 / 256.0)
+    while limit > 0.0 and not _bound(limit) <= sigma:
+        limit = math.nextafter(limit, 0.0)
+    return max(limit, 0.0)
 
 
 def noise_estimate(s: F64, q: F64) -> tuple[float, float]:
