@@ -1712,20 +1712,21 @@ def _split_contour(
     )
     floats, ints, columns, index, arc = numbers[:5]
     per_side = (numbers[5:8], numbers[8:11])
-    s0, slope_before, slope_after, ue_vertex, q_run, x0, y0, _, dx0, dy0, dr0 = floats[:11].tolist()
-    position, along, moved = floats[11:].tolist()
-    closed_, implicit, a, b, gap, _, long_plateau, last_before, first_after, turn = ints[
-        :10
-    ].tolist()
+    s0, slope_before, slope_after, ue_vertex, q_run, x0, y0, _, dx0, dy0, dr0, *more = (
+        floats.tolist()
+    )
+    position, along, moved = more
+    closed_, implicit, a, b, gap, _, long_plateau, last_before, first_after, turn, *counts = (
+        ints.tolist()
+    )
     closed = bool(closed_)
-    x, y, q = columns[0], columns[1], columns[2]
-    n = x.size
+    n = columns.shape[1]
     if gap == NO_STAGNATION:
         warnings.append(
             Notice(
                 code="no_stagnation_point",
                 message="the edge velocity does not fall to zero in the data (smallest "
-                f"Ue/U_inf about {np.sqrt(q.min()):.3g}); the sides start at the most "
+                f"Ue/U_inf about {np.sqrt(columns[2].min()):.3g}); the sides start at the most "
                 "upstream point as if from a sharp leading edge",
                 pointer=p_pointer,
             )
@@ -1786,11 +1787,10 @@ def _split_contour(
     if turn == 1 or turn == -1:
         names = ("upper", "lower") if turn > 0 else ("lower", "upper")
     else:
-        names = _side_names(x, y, runs, closed, y0)
-    side_ints = ints[10:].tolist()
+        names = _side_names(columns[0], columns[1], runs, closed, y0)
     sides: list[SideInput] = []
     for k, name in enumerate(names):
-        size, ends, zero_r = side_ints[3 * k : 3 * k + 3]
+        size, ends, zero_r = counts[3 * k : 3 * k + 3]
         if size < 0:
             continue
         first, step, _ = runs[k]
@@ -1846,7 +1846,8 @@ def _split_contour(
                 nose=nose,
             )
         )
-    sides.sort(key=lambda side: side.name != "upper")
+    if len(sides) == 2 and sides[0].name != "upper" and sides[1].name == "upper":
+        sides.reverse()  # the upper side first
     if not sides:
         raise CaseError.at("/surface", "too few points on either side of the stagnation point")
     if len(sides) == 2 and sides[0].name == sides[1].name:
