@@ -225,6 +225,8 @@ def _plateaus(case: Case, prepared: Prepared) -> _Ready:
         sides.append(shorter if shorter is not None else side)
         plateaus.append(found)
         cut.append(shorter is not None)
+    if not any(cut):
+        return _Ready(prepared, plateaus, cut)
     ready = Prepared(sides, prepared.stagnation, prepared.warnings, prepared.closed)
     return _Ready(ready, plateaus, cut)
 
