@@ -24,7 +24,7 @@ from ibl import drag, kernel, lag_entrainment, mesh, sensitivity, transition, tu
 from ibl import march as march_module
 from ibl.errors import CaseError, FieldProblem, msgspec_path_to_pointer
 from ibl.march import SideState, march
-from ibl.plateau import Plateau, cp_from_edge_velocity, cut_side, find_plateau
+from ibl.plateau import Plateau, cut_side, side_plateau
 from ibl.prepare import Prepared, SideInput, prepare
 from ibl.schema import (
     STATION_QUANTITIES,
@@ -220,12 +220,13 @@ def _plateaus(case: Case, prepared: Prepared) -> _Ready:
         # flow at constant pressure (ibl.plateau, rule (c)): it is not checked.
         found = None
         if side.x is not None and side.y is not None:
-            cp = cp_from_edge_velocity(side.ue, case.flow.mach)
-            found = find_plateau(side.s, cp, side.x, side.y)
+            found = side_plateau(side.s, side.ue, side.x, side.y, case.flow.mach)
         shorter = cut_side(side, found.onset_s) if found is not None else None
         sides.append(shorter if shorter is not None else side)
         plateaus.append(found)
         cut.append(shorter is not None)
+    if not any(cut):
+        return _Ready(prepared, plateaus, cut)
     ready = Prepared(sides, prepared.stagnation, prepared.warnings, prepared.closed)
     return _Ready(ready, plateaus, cut)
 

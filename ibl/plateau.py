@@ -4,6 +4,7 @@ Contents
 --------
 - ``find_plateau(s, cp, x, y)``: the constant-pressure region downstream of the suction
   peak of one side, or None.
+- ``side_plateau(s, ue, x, y, mach)``: the same from the edge velocity.
 - ``cut_side(side, onset_s)``: a ``SideInput`` ended at the plateau onset, its last point
   interpolated there.
 - ``cp_from_edge_velocity(ue, mach)``: Cp back from Ue/U_inf (Bernoulli or isentropic).
@@ -77,6 +78,7 @@ __all__ = [
     "cp_from_edge_velocity",
     "cut_side",
     "find_plateau",
+    "side_plateau",
 ]
 
 F64 = NDArray[np.float64]
@@ -304,10 +306,39 @@ def find_plateau(s: F64, cp: F64, x: F64, y: F64) -> Plateau | None:
     -------
     Plateau or None
     """
-    n = s.size
-    if n < PLATEAU_MIN_POINTS:
+    if s.size < PLATEAU_MIN_POINTS:
         return None
     band, peak, i0, j0, angle = _search(s, cp, x, y, math.radians(PLATEAU_MIN_TURNING))
+    return _plateau(s, cp, band, peak, i0, j0, angle)
+
+
+def side_plateau(s: F64, ue: F64, x: F64, y: F64, mach: float = 0.0) -> Plateau | None:
+    """``find_plateau(s, cp_from_edge_velocity(ue, mach), x, y)``: the plateau of a side
+    given by its edge velocity; at M = 0 the Cp and the search come from one compiled call
+    (``_search_ue``)."""
+    if s.size < PLATEAU_MIN_POINTS:
+        return None
+    if mach > 0.0:
+        return find_plateau(s, cp_from_edge_velocity(ue, mach), x, y)
+    band, peak, i0, j0, angle, cp = _search_ue(s, ue, x, y, math.radians(PLATEAU_MIN_TURNING))
+    return _plateau(s, cp, band, peak, i0, j0, angle)
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _search_ue(
+    s: F64, ue: F64, x: F64, y: F64, turning: float
+) -> tuple[float, int, int, int, F64, F64]:
+    """``_search`` on Cp = 1 - Ue^2 (``_bernoulli_cp``), and that Cp."""
+    cp = _bernoulli_cp(ue)
+    band, peak, i0, j0, angle = _search(s, cp, x, y, turning)
+    return band, peak, i0, j0, angle, cp
+
+
+def _plateau(
+    s: F64, cp: F64, band: float, peak: int, i0: int, j0: int, angle: F64
+) -> Plateau | None:
+    """The plateau of the stretch [i0, j0] ``_search`` found (none when i0 < 0), if it
+    still meets rules (b) and (c) from its onset."""
     if i0 < 0:
         return None
     length = float(s[-1] - s[0])

@@ -107,9 +107,13 @@ class SideOptions:
     laminar_method: str = "thwaites"  # or "finite_difference" (ibl.laminar_fd)
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(slots=True)
 class SideInput:
-    """One side to march: arc length from its origin, edge velocity, radius, start state."""
+    """One side to march: arc length from its origin, edge velocity, radius, start state.
+
+    Treated as immutable: a changed side is a copy (``dataclasses.replace``).  Not a frozen
+    dataclass only because building one costs twice as much (each field set through
+    ``object.__setattr__``: about 2.5 us more per side, a tenth of preparing a case)."""
 
     name: Literal["upper", "lower", "surface"]
     s: F64  # arc length from the origin (stagnation point, leading edge or first station)
@@ -130,13 +134,14 @@ class SideInput:
     nose: Nose | None = None  # how a contour side's stations follow from the input values
 
 
-@dataclass(frozen=True, slots=True)
+@dataclass(slots=True)
 class Nose:
     """How a contour side's stations depend on the input pressure values, for
     ``ibl.sensitivity``: the input point of each station, and the derivatives of the
     stagnation point's arc position s0 and of the side's stagnation slope dUe/ds with
     respect to q = (Ue/U_inf)^2 at each input point (from the model fitted to the nose
-    taps, ``stagnation_models``, or the secant of a plateau)."""
+    taps, ``stagnation_models``, or the secant of a plateau).  Treated as immutable, as
+    ``SideInput`` is (and not frozen for the same reason)."""
 
     points: NDArray[np.int64]  # input index of each station; -1 at the stagnation point
     s0_grad: F64  # d s0 / d q_j over the input points
@@ -368,6 +373,57 @@ def _array(values: list[float], pointer: str, problems: list[FieldProblem]) -> F
     if bad >= 0:
         problems.append(FieldProblem(f"{pointer}/{bad}", "is not a finite number"))
     return array
+
+
+def _packed(case: Case) -> F64 | None:
+    """The rows x, y and the Cp or edge velocity values of a contour (without a radius) in
+    one array, when the three have the same length (at least ``MIN_POINTS``) and hold
+    numbers; else None, and ``prepare`` converts and checks each field on its own
+    (``_array``), naming every problem.  (For a single surface, converting its two rows on
+    their own costs no more than a compiled scan returning its arrays.)"""
+    surface, pressure = case.surface, case.pressure
+    x, y = surface.x, surface.y
+    values = pressure.cp if pressure.cp is not None else pressure.edge_velocity
+    if x is None or y is None or values is None or case.body.radius is not None:
+        return None
+    n = len(values)
+    if n < MIN_POINTS or len(x) != n or len(y) != n:
+        return None
+    block = np.empty((3, n))
+    try:  # the lists unpacked one after the other: faster than any iterator over them
+        struct.pack_into(f"{3 * n}d", block.data, 0, *x, *y, *values)
+    except struct.error:
+        return None
+    return block
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _input_scan(
+    block: F64, given_cp: bool, tolerance: float, cp_max: float, noise: float
+) -> tuple[int, int, F64, F64, int, int, F64]:
+    """The scans of a contour's rows x, y and values (``_packed``) in one compiled call: the
+    first row holding a value that is not a finite number (-1 when none: only then do the
+    others mean anything); the first point repeating the one before it (or -1), the arc
+    length and the segment lengths (``_arc_and_chords``); from Cp, the first Cp above the
+    stagnation value ``cp_max`` by more than ``noise`` and the count above it
+    (``_cp_excess``) and q = (Ue/U_inf)^2 by Bernoulli (``_bernoulli_q``); from the edge
+    velocity -1, 0 and q = Ue^2."""
+    bad = -1
+    for row in range(3):
+        if _first_nonfinite(block[row]) >= 0:
+            bad = row
+            break
+    arc, chord, repeated = _arc_and_chords(block[0], block[1], tolerance)
+    values = block[2]
+    if given_cp:
+        over, clipped = _cp_excess(values, cp_max, noise)
+        q = _bernoulli_q(values)
+    else:
+        over, clipped = -1, 0
+        q = np.empty(values.size)
+        for i in range(values.size):
+            q[i] = values[i] * values[i]
+    return bad, repeated, arc, chord, over, clipped, q
 
 
 @numba.njit(cache=True, error_model="numpy")
@@ -642,58 +698,75 @@ def prepare(case: Case) -> Prepared:
         raise CaseError(problems)
     surface, pressure, flow = case.surface, case.pressure, case.flow
     contour = surface.s is None
-    if contour:
-        assert surface.x is not None and surface.y is not None
-        x = _array(surface.x, "/surface/x", problems)
-        y = _array(surface.y, "/surface/y", problems)
-        n = x.size
-        _check_length(y, n, "/surface/y", "contour (x)", problems)
-    else:
-        assert surface.s is not None
-        s_in = _array(surface.s, "/surface/s", problems)
-        n = s_in.size
     p_pointer = _pressure_pointer(pressure)
     given_cp = pressure.edge_velocity is None  # Cp, or pascals converted to Cp
-    if pressure.cp is not None:
-        p_values = _array(pressure.cp, p_pointer, problems)
-    elif pressure.p is not None:
-        p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems), problems)
-    else:
-        assert pressure.edge_velocity is not None
-        p_values = _array(pressure.edge_velocity, p_pointer, problems)
-        if not contour:
-            _check_one_sign(p_values, problems)
-    _check_length(p_values, n, p_pointer, "surface", problems)
+    mach = flow.mach
+    cp_max = stagnation_cp(mach)
     radius = None
-    if case.body.radius is not None:
-        radius = _array(case.body.radius, "/body/radius", problems)
-        _check_length(radius, n, "/body/radius", "surface", problems)
-        negative = np.flatnonzero(radius < 0.0)
-        if negative.size:
-            problems.append(FieldProblem(f"/body/radius/{negative[0]}", "is negative"))
-    if problems:
-        raise CaseError(problems)
+    block = _packed(case) if contour else None
+    scan = None
+    if block is not None:
+        scan = _input_scan(block, given_cp, REPEAT_TOLERANCE, cp_max, CP_NOISE)
+    if scan is not None and scan[0] < 0:
+        # The common input (a contour given by finite Cp or edge velocity values, without a
+        # radius): converted and scanned at once.
+        assert block is not None
+        _, repeated, arc, chord, over, clipped, q = scan
+        x, y, p_values = block
+        n = p_values.size
+    else:
+        if contour:
+            assert surface.x is not None and surface.y is not None
+            x = _array(surface.x, "/surface/x", problems)
+            y = _array(surface.y, "/surface/y", problems)
+            n = x.size
+            _check_length(y, n, "/surface/y", "contour (x)", problems)
+        else:
+            assert surface.s is not None
+            s_in = _array(surface.s, "/surface/s", problems)
+            n = s_in.size
+        if pressure.cp is not None:
+            p_values = _array(pressure.cp, p_pointer, problems)
+        elif pressure.p is not None:
+            p_values = _cp_from_case(case, _array(pressure.p, p_pointer, problems), problems)
+        else:
+            assert pressure.edge_velocity is not None
+            p_values = _array(pressure.edge_velocity, p_pointer, problems)
+            if not contour:
+                _check_one_sign(p_values, problems)
+        _check_length(p_values, n, p_pointer, "surface", problems)
+        if case.body.radius is not None:
+            radius = _array(case.body.radius, "/body/radius", problems)
+            _check_length(radius, n, "/body/radius", "surface", problems)
+            negative = np.flatnonzero(radius < 0.0)
+            if negative.size:
+                problems.append(FieldProblem(f"/body/radius/{negative[0]}", "is negative"))
+        if problems:
+            raise CaseError(problems)
+        if contour:
+            arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
+        else:
+            repeated = _first_not_increasing(s_in)
+            arc = s_in - s_in[0]
+        if given_cp:
+            over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
+            if mach <= 0.0:
+                q = _bernoulli_q(p_values)
+        else:
+            q = p_values**2
 
     warnings: list[Notice] = []
     # Arc length along the input.
-    if contour:
-        arc, chord, repeated = _arc_and_chords(x, y, REPEAT_TOLERANCE)
-        if repeated > 0:
-            i = repeated
+    if repeated > 0:
+        i = repeated
+        if contour:
             raise CaseError.at(f"/surface/x/{i}", f"point {i} repeats point {i - 1}")
-    else:
-        i = _first_not_increasing(s_in)
-        if i > 0:
-            raise CaseError.at(
-                f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
-            )
-        arc = s_in - s_in[0]
+        raise CaseError.at(
+            f"/surface/s/{i}", f"must be strictly increasing; it does not at index {i}"
+        )
 
     # Edge velocity squared, q = (Ue/U_inf)^2, smooth through a stagnation point.
-    mach = flow.mach
     if given_cp:
-        cp_max = stagnation_cp(mach)
-        over, clipped = _cp_excess(p_values, cp_max, CP_NOISE)
         if over >= 0:
             i = over
             raise CaseError.at(
@@ -712,10 +785,6 @@ def prepare(case: Case) -> Prepared:
             )
         if mach > 0.0:
             q = edge_velocity_from_cp(np.minimum(p_values, cp_max), mach) ** 2
-        else:
-            q = _bernoulli_q(p_values)
-    else:
-        q = p_values**2
     if mach > 0.0:
         warnings.append(
             Notice(
@@ -1403,6 +1472,33 @@ def _vanishing(q: F64, first: int, step: int, size: int) -> int:
 
 
 @numba.njit(cache=True, error_model="numpy")
+def _input_points(index: F64, period: int) -> NDArray[np.int64]:
+    """The input point of each listed point: its unwrapped index, taken modulo ``period``
+    on a closed contour (0 when open)."""
+    inputs = np.empty(index.size, dtype=np.int64)
+    for j in range(index.size):
+        inputs[j] = int(index[j])
+        if period > 0:
+            while inputs[j] >= period:  # unwrapped indices lie below two periods
+                inputs[j] -= period
+    return inputs
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _summed_onto(inputs: NDArray[np.int64], values: F64, n_in: int) -> F64:
+    """``values`` over the listed points summed onto the ``n_in`` input points in listing
+    order (a point listed twice gets both).  Zeros are not added: the sums start at +0 and
+    never become -0 (x + (-x) is +0), and adding +-0 to any other value leaves it as it is,
+    so the sums are those of adding every value; derivatives have few values that are not
+    zero."""
+    out = np.zeros(n_in)
+    for j in range(inputs.size):
+        if values[j] != 0.0:
+            out[inputs[j]] += values[j]
+    return out
+
+
+@numba.njit(cache=True, error_model="numpy")
 def _nose_arrays(
     index: F64, period: int, first: int, step: int, size: int, d_s0: F64, d_slope: F64, n_in: int
 ) -> tuple[NDArray[np.int64], F64, F64]:
@@ -1411,21 +1507,176 @@ def _nose_arrays(
     are unwrapped, taken modulo ``period`` on a closed contour, 0 when open), and the
     derivatives ``d_s0`` and ``d_slope`` over the listed points summed onto the
     ``n_in`` input points in listing order (a point listed twice gets both)."""
-    inputs = np.empty(index.size, dtype=np.int64)
-    for j in range(index.size):
-        inputs[j] = int(index[j])
-        if period > 0:
-            while inputs[j] >= period:  # unwrapped indices lie below two periods
-                inputs[j] -= period
+    inputs = _input_points(index, period)
+    return (
+        _station_points(inputs, first, step, size),
+        _summed_onto(inputs, d_s0, n_in),
+        _summed_onto(inputs, d_slope, n_in),
+    )
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _station_points(
+    inputs: NDArray[np.int64], first: int, step: int, size: int
+) -> NDArray[np.int64]:
+    """``Nose.points``: -1 at the stagnation point, then the input point of each of the
+    ``size`` listed points from ``first`` on by ``step``."""
     points = np.empty(size + 1, dtype=np.int64)
     points[0] = -1
     for k in range(size):
         points[k + 1] = inputs[first + step * k]
-    s0_grad, slope_grad = np.zeros(n_in), np.zeros(n_in)
-    for j in range(index.size):
-        s0_grad[inputs[j]] += d_s0[j]
-        slope_grad[inputs[j]] += d_slope[j]
-    return points, s0_grad, slope_grad
+    return points
+
+
+#: Why a side's derivatives of the stagnation point are not available when the sides do not
+#: start from a located stagnation point, by the code ``_split_numbers`` returns beyond
+#: those of ``NOSE_GAPS``.
+START_GAPS = (
+    "the sides start without a stagnation slope",
+    "no stagnation point in the data: the sides start as from a sharp edge",
+)
+NO_SLOPE, NO_STAGNATION = len(NOSE_GAPS), len(NOSE_GAPS) + 1
+
+
+@numba.njit(cache=True, error_model="numpy")
+def _split_numbers(
+    x: F64,
+    y: F64,
+    q: F64,
+    radius: F64,
+    arc: F64,
+    chord: F64,
+    axisymmetric: bool,
+    radius_from_y: bool,
+) -> tuple[
+    F64, NDArray[np.int64], F64, F64, F64, F64, NDArray[np.int64], F64, F64, NDArray[np.int64], F64
+]:
+    """The numbers of ``_split_contour`` in one compiled call: the listing (``_closure``,
+    ``_listing``), the stagnation point (``_locate``; the most upstream point when the data
+    hold none; on the axis of a body of revolution), its derivatives (``_nose_gradients``),
+    its station (``_station``, ``_along_input``), the orientation (``_orientation``) and
+    each side's rows (``_vanishing``, ``_side_rows``) and ``Nose`` arrays (``_nose_arrays``).
+    ``radius`` is empty without a radius.
+
+    Returns the scalars as a float array (s0, slope before, slope after, Ue at the vertex,
+    smallest q of the run, x0, y0, r0, dx0, dy0, dr0, fractional input index, arc length
+    along the input, distance the axis moved s0 or NaN) and an integer array (closed,
+    implicit, a, b, gap code (``NOSE_GAPS``, ``NO_SLOPE``, ``NO_STAGNATION``), plateau,
+    plateau long enough to report, last point before, first point after, orientation (3 on
+    an open contour), then per side: its count of points (-1 when too few), where its edge
+    velocity vanishes (-1), its first station of zero radius (-1)); then the listed rows,
+    input indices and arc length; then per side its rows, ``Nose.points`` and the rows
+    ``Nose.s0_grad``, ``Nose.slope_grad`` (empty when there are no derivatives)."""
+    n_in = arc.size
+    closed, implicit = _closure(x, y, arc)
+    columns, index, listed = _listing(x, y, q, radius, closed, implicit, arc, chord)
+    lx, ly, lq = columns[0], columns[1], columns[2]
+    n = lx.size
+    total = listed[n - 1]
+    tol = REPEAT_TOLERANCE * total
+    a, b, s0, before, after, ue_vertex, plateau, q_run = _locate(listed, lx, lq, not closed)
+    gap = 0
+    if not (np.isfinite(before) and np.isfinite(after)):
+        before = after = np.nan
+        gap = NO_SLOPE
+    if a < 0:
+        a = b = int(np.argmin(lx[: n - 1] if closed else lx))
+        while a > 0 and lx[a - 1] <= lx[b] + TIE_TOLERANCE * total:
+            a -= 1
+        while b < n - 1 and lx[b + 1] <= lx[a] + TIE_TOLERANCE * total:
+            b += 1
+        s0 = 0.5 * (listed[a] + listed[b])
+        q_run = lq[a : b + 1].min()
+        ue_vertex = np.sqrt(q_run)
+        before = after = np.nan
+        plateau = False
+        gap = NO_STAGNATION
+    d_s0 = d_before = d_after = np.empty(0)
+    if gap == 0:
+        d_s0, d_before, d_after, gap = _nose_gradients(listed, lq, a, b, s0, before, plateau)
+    moved = np.nan
+    if axisymmetric:
+        r_axis = columns[3] if radius.size else np.abs(ly)
+        axis = _axis_point(lx, ly, r_axis, listed, closed, radius_from_y)
+        if np.isfinite(axis) and abs(axis - s0) > tol:
+            spacing = np.max(np.diff(listed[max(a - 1, 0) : b + 2]))
+            if abs(axis - s0) > spacing:
+                moved = abs(axis - s0)
+            s0 = axis
+            plateau = False
+            if gap == 0:
+                d_s0[:] = 0.0  # placed on the axis: geometry only
+    long_plateau = plateau and b > a and listed[b] - listed[a] > PLATEAU_WARNING * total
+    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
+        columns, listed, index, s0, tol, plateau, a, b
+    )
+    if axisymmetric and radius_from_y:
+        r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
+        dr0 = math.copysign(dy0, y0)
+    period = (n_in if implicit else n_in - 1) if closed else 0
+    if closed:
+        position = position % period
+    along = _along_input(position, arc, x, y)
+    turn = _orientation(lx, ly) if closed else 3
+    ue_start = np.sqrt(q_run) if np.isnan(before) else 0.0
+    ints = np.empty(16, dtype=np.int64)
+    ints[0], ints[1], ints[2], ints[3], ints[4] = closed, implicit, a, b, gap
+    ints[5], ints[6], ints[7] = plateau, long_plateau, last_before
+    ints[8], ints[9] = first_after, turn
+    blocks, points, grads = [], [], []
+    inputs = np.empty(0, dtype=np.int64)
+    s0_grad = np.empty(0)
+    for k in range(2):
+        first = last_before if k == 0 else first_after
+        step = -1 if k == 0 else 1
+        size = max(last_before + 1, 0) if k == 0 else max(n - first_after, 0)
+        ends = zero_r = -1
+        if size + 1 < MIN_POINTS:
+            size = -1
+            blocks.append(np.empty((5, 0)))
+        else:
+            # A side ends where its edge velocity falls to zero again (another stagnation point).
+            ends = _vanishing(lq, first, step, size)
+            if ends >= 0:
+                size = ends + 1
+            block = _side_rows(columns, listed, first, step, size, s0, ue_start, x0, y0, r0)
+            blocks.append(block)
+            if axisymmetric:
+                zero_r = _first_at_most(block[2], 1, size, 0.0)  # station k is point k - 1
+        if gap == 0 and size >= 0:
+            # The side walked backwards from the stagnation point takes the derivatives of
+            # the side before it, whether or not it ends early at another stagnation point
+            # (``_nose_arrays`` of each side, the parts they share done once).
+            if inputs.size == 0:
+                inputs = _input_points(index, period)
+                s0_grad = _summed_onto(inputs, d_s0, n_in)
+            rows = np.empty((2, n_in))
+            rows[0] = s0_grad
+            rows[1] = _summed_onto(inputs, d_before if step < 0 else d_after, n_in)
+            points.append(_station_points(inputs, first, step, size))
+            grads.append(rows)
+        else:
+            points.append(np.empty(0, dtype=np.int64))
+            grads.append(np.empty((2, 0)))
+        ints[10 + 3 * k] = size
+        ints[11 + 3 * k] = ends
+        ints[12 + 3 * k] = zero_r
+    floats = np.array(
+        [s0, before, after, ue_vertex, q_run, x0, y0, r0, dx0, dy0, dr0, position, along, moved]
+    )
+    return (
+        floats,
+        ints,
+        columns,
+        index,
+        listed,
+        blocks[0],
+        points[0],
+        grads[0],
+        blocks[1],
+        points[1],
+        grads[1],
+    )
 
 
 def _split_contour(
@@ -1450,44 +1701,37 @@ def _split_contour(
     meet, the most downstream point (the trailing edge or rear point; the middle of a
     flat base), so that the sides and events do not depend on where the list starts.
     The sides then run from the stagnation point both ways round to that point; on an
-    open contour they run to its first and last points.
+    open contour they run to its first and last points.  The numbers come from one
+    compiled call (``_split_numbers``); this builds the warnings and the sides.
     """
     n_in = arc.size
-    arc_in, x_in, y_in = arc, x, y
-    closed, implicit = _closure(x, y, arc)
-    columns, index, arc = _listing(
-        x, y, q, radius if radius is not None else np.empty(0), closed, implicit, arc, chord
+    numbers = _split_numbers(
+        x,
+        y,
+        q,
+        radius if radius is not None else np.empty(0),
+        arc,
+        chord,
+        axisymmetric,
+        radius_from_y,
     )
-    x, y, q = columns[0], columns[1], columns[2]
-    radius = columns[3] if radius is not None else None
-    n = x.size
-    total = float(arc[-1])
-    tol = REPEAT_TOLERANCE * total
-
-    a, b, s0, slope_before, slope_after, ue_vertex, plateau, q_run = _locate(arc, x, q, not closed)
-    nose_gap = ""
-    if not (math.isfinite(slope_before) and math.isfinite(slope_after)):
-        slope_before = slope_after = float("nan")  # no usable slope: start as from a sharp edge
-        nose_gap = "the sides start without a stagnation slope"
-    if a < 0:
-        # No stagnation point in the data: the sides start at the most upstream point as
-        # from a sharp leading edge (the middle of a flat front face).
-        a = b = int(np.argmin(x[:-1] if closed else x))
-        while a > 0 and x[a - 1] <= x[b] + TIE_TOLERANCE * total:
-            a -= 1
-        while b < n - 1 and x[b + 1] <= x[a] + TIE_TOLERANCE * total:
-            b += 1
-        s0 = 0.5 * (arc[a] + arc[b])
-        q_run = float(np.min(q[a : b + 1]))
-        ue_vertex = math.sqrt(q_run)
-        slope_before = slope_after = float("nan")
-        plateau = False
-        nose_gap = "no stagnation point in the data: the sides start as from a sharp edge"
+    floats, ints, columns, index, arc = numbers[:5]
+    per_side = (numbers[5:8], numbers[8:11])
+    s0, slope_before, slope_after, ue_vertex, q_run, x0, y0, _, dx0, dy0, dr0, *more = (
+        floats.tolist()
+    )
+    position, along, moved = more
+    closed_, implicit, a, b, gap, _, long_plateau, last_before, first_after, turn, *counts = (
+        ints.tolist()
+    )
+    closed = bool(closed_)
+    n = columns.shape[1]
+    if gap == NO_STAGNATION:
         warnings.append(
             Notice(
                 code="no_stagnation_point",
                 message="the edge velocity does not fall to zero in the data (smallest "
-                f"Ue/U_inf about {np.sqrt(q.min()):.3g}); the sides start at the most "
+                f"Ue/U_inf about {np.sqrt(columns[2].min()):.3g}); the sides start at the most "
                 "upstream point as if from a sharp leading edge",
                 pointer=p_pointer,
             )
@@ -1514,29 +1758,18 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-    if not nose_gap:
-        d_s0, d_before, d_after, gap = _nose_gradients(arc, q, a, b, s0, slope_before, plateau)
-        nose_gap = NOSE_GAPS[gap]
-    if axisymmetric:
-        r_axis = radius if radius is not None else np.abs(y)
-        axis = _axis_point(x, y, r_axis, arc, closed, radius_from_y)
-        if math.isfinite(axis) and abs(axis - s0) > tol:
-            spacing = float(np.max(np.diff(arc[max(a - 1, 0) : b + 2])))
-            if abs(axis - s0) > spacing:
-                warnings.append(
-                    Notice(
-                        code="stagnation_point_on_axis",
-                        message="the pressure data put the stagnation point "
-                        f"{abs(axis - s0):.3g} along the contour from the nose on the axis; "
-                        "on a body of revolution it lies on the axis, and is placed there",
-                        pointer=p_pointer,
-                    )
-                )
-            s0 = axis
-            plateau = False
-            if not nose_gap:
-                d_s0[:] = 0.0  # placed on the axis: geometry only
-    if plateau and b > a and arc[b] - arc[a] > PLATEAU_WARNING * total:
+    nose_gap = START_GAPS[gap - NO_SLOPE] if gap >= NO_SLOPE else NOSE_GAPS[gap]
+    if not math.isnan(moved):
+        warnings.append(
+            Notice(
+                code="stagnation_point_on_axis",
+                message="the pressure data put the stagnation point "
+                f"{moved:.3g} along the contour from the nose on the axis; "
+                "on a body of revolution it lies on the axis, and is placed there",
+                pointer=p_pointer,
+            )
+        )
+    if long_plateau:
         warnings.append(
             Notice(
                 code="stagnation_plateau",
@@ -1547,16 +1780,7 @@ def _split_contour(
                 pointer=p_pointer,
             )
         )
-
-    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = _station(
-        columns, arc, index, s0, tol, plateau, a, b
-    )
-    if axisymmetric and radius_from_y:
-        r0 = abs(y0)  # a nose between two points lies on the axis, not at their mean |y|
-        dr0 = math.copysign(dy0, y0)
     period = (n_in if implicit else n_in - 1) if closed else np.inf
-    position = position % period
-    along = _along_input(position, arc_in, x_in, y_in)
     stagnation = Stagnation(x=x0, y=y0, s=along, position=position)
 
     # The points before the stagnation point (walked backwards) and after it, each as
@@ -1564,18 +1788,19 @@ def _split_contour(
     runs = ((last_before, -1, max(last_before + 1, 0)), (first_after, 1, max(n - first_after, 0)))
     no_slope = math.isnan(slope_before)
     start: Literal["stagnation", "sharp"] = "sharp" if no_slope else "stagnation"
-    ue_start = math.sqrt(q_run) if no_slope else 0.0
-    names = _side_names(x, y, runs, closed, y0)
+    names: tuple[Literal["upper", "lower"], Literal["upper", "lower"]]
+    if turn == 1 or turn == -1:
+        names = ("upper", "lower") if turn > 0 else ("lower", "upper")
+    else:
+        names = _side_names(columns[0], columns[1], runs, closed, y0)
     sides: list[SideInput] = []
-    for (first, step, size), name, slope in zip(
-        runs, names, (slope_before, slope_after), strict=True
-    ):
-        if size + 1 < MIN_POINTS:
+    for k, name in enumerate(names):
+        size, ends, zero_r = counts[3 * k : 3 * k + 3]
+        if size < 0:
             continue
-        # A side ends where its edge velocity falls to zero again (another stagnation point).
-        ends = _vanishing(q, first, step, size)
+        first, step, _ = runs[k]
+        block, points, grads = per_side[k]
         if ends >= 0:
-            size = ends + 1
             last = first + step * ends
             warnings.append(
                 Notice(
@@ -1586,43 +1811,25 @@ def _split_contour(
                     pointer=f"{p_pointer}/{int(index[last] % period)}",
                 )
             )
-        side_s, u, r, side_x, side_y = _side_rows(
-            columns, arc, first, step, size, s0, ue_start, x0, y0, r0
-        )
+        side_s, u, r, side_x, side_y = block
         if nose_gap:
             nose = Nose(np.empty(0, np.int64), np.empty(0), np.empty(0), 0.0, (0, 0, 0), nose_gap)
         else:
-            # The side walked backwards from the stagnation point takes the derivatives
-            # and direction of the side before it, whether or not it ends early at another
-            # stagnation point.
-            before = step < 0
-            points, s0_grad, slope_grad = _nose_arrays(
-                index,
-                int(period) if closed else 0,
-                first,
-                step,
-                size,
-                d_s0,
-                d_before if before else d_after,
-                n_in,
-            )
             nose = Nose(
                 points=points,
-                s0_grad=s0_grad,
-                slope_grad=slope_grad,
-                direction=1.0 if before else -1.0,
+                s0_grad=grads[0],
+                slope_grad=grads[1],
+                direction=1.0 if step < 0 else -1.0,
                 position_grad=(dx0, dy0, dr0),
                 gap="",
             )
-        if axisymmetric:
-            zero_r = _first_at_most(r, 1, r.size - 1, 0.0)  # station k is listed point k - 1
-            if zero_r >= 0:
-                i = int(index[first + step * (zero_r - 1)] % period)
-                pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
-                raise CaseError.at(
-                    pointer,
-                    "the body radius must be positive between the nose and the tail",
-                )
+        if zero_r >= 0:
+            i = int(index[first + step * (zero_r - 1)] % period)
+            pointer = f"/surface/y/{i}" if radius_from_y else f"/body/radius/{i}"
+            raise CaseError.at(
+                pointer,
+                "the body radius must be positive between the nose and the tail",
+            )
         sides.append(
             SideInput(
                 name=name,
@@ -1635,7 +1842,7 @@ def _split_contour(
                 nu=nu,
                 axisymmetric=axisymmetric,
                 start=start,
-                slope=slope_before if no_slope else float(slope),
+                slope=slope_before if no_slope else (slope_before, slope_after)[k],
                 theta0=0.0,
                 h0=float("nan"),
                 turbulent_start=False,
@@ -1644,7 +1851,8 @@ def _split_contour(
                 nose=nose,
             )
         )
-    sides.sort(key=lambda side: side.name != "upper")
+    if len(sides) == 2 and sides[0].name != "upper" and sides[1].name == "upper":
+        sides.reverse()  # the upper side first
     if not sides:
         raise CaseError.at("/surface", "too few points on either side of the stagnation point")
     if len(sides) == 2 and sides[0].name == sides[1].name:

@@ -25,6 +25,7 @@ Ann. Statist. 12, 898-916 [recalled, not re-checked]).
 
 from __future__ import annotations
 
+import functools
 import math
 from dataclasses import dataclass
 from typing import Any
@@ -264,6 +265,32 @@ def _fine_residual_median(s: F64, q: F64) -> float:
     return float(np.median(out))
 
 
+@numba.njit(cache=True, error_model="numpy")
+def _fine_residual_median_above(s: F64, q: F64, limit: float) -> float:
+    """``_fine_residual_median``, or ``limit`` where that median is certainly at most
+    ``limit``: when more than half of the residuals are (none NaN), both middle values of
+    the sorted residuals are, and so is their mean as rounded.  The median itself (a
+    selection) is found only otherwise."""
+    out = np.empty(q.size - 8)
+    _cubic_residuals(s, q, 1, out)
+    count = 0
+    for i in range(out.size):
+        if out[i] <= limit:
+            count += 1
+        elif not out[i] > limit:
+            return float(np.median(out))  # NaN
+    if count >= out.size // 2 + 1:
+        return limit
+    return float(np.median(out))
+
+
+def _bound(fine: float) -> float:
+    """The bound on the noise estimate from the fine stencil's median residual alone,
+    sqrt(256 r1^2 / 255) with r1 = 1.4826 x median (see ``noise_at_most``)."""
+    r1 = MAD_TO_SIGMA * fine
+    return math.sqrt(max(256.0 * r1**2 / 255.0, 0.0))
+
+
 def noise_at_most(s: F64, q: F64, sigma: float) -> bool:
     """Whether ``noise_estimate(s, q)[0] <= sigma`` is certain from the fine stencil's
     residuals alone (at about half the cost of the estimate).
@@ -272,11 +299,28 @@ def noise_at_most(s: F64, q: F64, sigma: float) -> bool:
     whatever r2, also as computed: each rounded operation is monotonic, and subtracting
     r2^2 >= 0 cannot raise the rounded difference above the rounded 256 r1^2. False
     means only that the full estimate is needed.
+
+    That bound rises with the median residual, also as rounded; below a median ``limit``
+    at which it is at most sigma, counting the residuals at most ``limit`` tells the
+    answer without the median (``_fine_residual_median_above``).
     """
     if q.size < 11:
         return sigma >= 0.0
-    fine = MAD_TO_SIGMA * _fine_residual_median(s, q)
-    return math.sqrt(max(256.0 * fine**2 / 255.0, 0.0)) <= sigma
+    limit = _median_limit(sigma)
+    if not limit > 0.0:
+        return _bound(_fine_residual_median(s, q)) <= sigma
+    return _bound(_fine_residual_median_above(s, q, limit)) <= sigma
+
+
+@functools.lru_cache(maxsize=8)
+def _median_limit(sigma: float) -> float:
+    """The largest median residual (near it, from below) at which the bound of
+    ``noise_at_most`` is at most sigma; 0 when there is none.  A function of the
+    threshold alone (a constant of the callers), kept once computed."""
+    limit = sigma / MAD_TO_SIGMA * math.sqrt(255.0 / 256.0)
+    while limit > 0.0 and not _bound(limit) <= sigma:
+        limit = math.nextafter(limit, 0.0)
+    return max(limit, 0.0)
 
 
 def noise_estimate(s: F64, q: F64) -> tuple[float, float]:

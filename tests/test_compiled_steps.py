@@ -12,7 +12,7 @@ import math
 import numpy as np
 import pytest
 
-from ibl import prepare
+from ibl import plateau, prepare, smoothing
 from ibl.plateau import _bernoulli_cp
 from ibl.smoothing import _cubic_residual_medians, noise_at_most, noise_estimate
 
@@ -355,3 +355,216 @@ def test_side_names_of_nearly_flat_loops_as_numpy_names_them() -> None:
             want = prepare._side_names(x, y, runs, False, float(y[n - 1]))
         assert prepare._side_names(x, y, runs, True, float(y[n - 1])) == want
     assert undecided > 0
+
+
+def split_one_step_at_a_time(
+    x: np.ndarray,
+    y: np.ndarray,
+    q: np.ndarray,
+    radius: np.ndarray,
+    arc: np.ndarray,
+    chord: np.ndarray,
+    axisymmetric: bool,
+    radius_from_y: bool,
+) -> tuple:
+    """The numbers of ``prepare._split_numbers`` from its steps, each called on its own as
+    the contour split calls them (the definition of the fused call)."""
+    n_in = arc.size
+    closed, implicit = prepare._closure(x, y, arc)
+    columns, index, listed = prepare._listing(x, y, q, radius, closed, implicit, arc, chord)
+    lx, ly, lq = columns[0], columns[1], columns[2]
+    n = lx.size
+    total = float(listed[-1])
+    tol = prepare.REPEAT_TOLERANCE * total
+    a, b, s0, before, after, ue_vertex, plateau, q_run = prepare._locate(listed, lx, lq, not closed)
+    gap = 0
+    if not (math.isfinite(before) and math.isfinite(after)):
+        before = after = math.nan
+        gap = prepare.NO_SLOPE
+    if a < 0:
+        a = b = int(np.argmin(lx[:-1] if closed else lx))
+        while a > 0 and lx[a - 1] <= lx[b] + prepare.TIE_TOLERANCE * total:
+            a -= 1
+        while b < n - 1 and lx[b + 1] <= lx[a] + prepare.TIE_TOLERANCE * total:
+            b += 1
+        s0 = 0.5 * (listed[a] + listed[b])
+        q_run = float(np.min(lq[a : b + 1]))
+        ue_vertex = math.sqrt(q_run)
+        before = after = math.nan
+        plateau = False
+        gap = prepare.NO_STAGNATION
+    if gap == 0:
+        d_s0, d_before, d_after, gap = prepare._nose_gradients(
+            listed, lq, a, b, s0, before, plateau
+        )
+    moved = math.nan
+    if axisymmetric:
+        r_axis = columns[3] if radius.size else np.abs(ly)
+        axis = prepare._axis_point(lx, ly, r_axis, listed, closed, radius_from_y)
+        if math.isfinite(axis) and abs(axis - s0) > tol:
+            spacing = float(np.max(np.diff(listed[max(a - 1, 0) : b + 2])))
+            if abs(axis - s0) > spacing:
+                moved = abs(axis - s0)
+            s0, plateau = axis, False
+            if gap == 0:
+                d_s0[:] = 0.0
+    long_plateau = plateau and b > a and listed[b] - listed[a] > prepare.PLATEAU_WARNING * total
+    x0, y0, r0, dx0, dy0, dr0, position, last_before, first_after = prepare._station(
+        columns, listed, index, s0, tol, plateau, a, b
+    )
+    if axisymmetric and radius_from_y:
+        r0, dr0 = abs(y0), math.copysign(dy0, y0)
+    period = (n_in if implicit else n_in - 1) if closed else 0
+    position = position % period if closed else position
+    along = prepare._along_input(position, arc, x, y)
+    turn = prepare._orientation(lx, ly) if closed else 3
+    ue_start = math.sqrt(q_run) if math.isnan(before) else 0.0
+    ints = [closed, implicit, a, b, gap, plateau, long_plateau, last_before, first_after, turn]
+    sides = []
+    runs = ((last_before, -1, max(last_before + 1, 0)), (first_after, 1, max(n - first_after, 0)))
+    for first, step, size in runs:
+        ends = zero_r = -1
+        block = np.empty((5, 0))
+        if size + 1 < prepare.MIN_POINTS:
+            size = -1
+        else:
+            ends = prepare._vanishing(lq, first, step, size)
+            size = ends + 1 if ends >= 0 else size
+            block = prepare._side_rows(columns, listed, first, step, size, s0, ue_start, x0, y0, r0)
+            if axisymmetric:
+                zero_r = prepare._first_at_most(block[2], 1, size, 0.0)
+        points, grads = np.empty(0, dtype=np.int64), np.empty((2, 0))
+        if gap == 0 and size >= 0:
+            slopes = d_before if step < 0 else d_after
+            points, *rows = prepare._nose_arrays(
+                index, period, first, step, size, d_s0, slopes, n_in
+            )
+            grads = np.array(rows)
+        ints += [size, ends, zero_r]
+        sides += [block, points, grads]
+    floats = [s0, before, after, ue_vertex, q_run, x0, y0, r0, dx0, dy0, dr0, position, along]
+    return (np.array([*floats, moved]), np.array(ints), columns, index, listed, *sides)
+
+
+def _contours() -> list[tuple[np.ndarray, np.ndarray, np.ndarray, np.ndarray, bool, bool]]:
+    """Contours of every kind the split meets: (x, y, q, radius or empty, axisymmetric,
+    radius from y)."""
+    out = []
+    empty = np.empty(0)
+    for n, alpha in ((40, 4.0), (200, 0.0), (57, -7.0)):
+        eta = np.linspace(0.0, 2.0 * np.pi, 2 * n + 1)
+        a, b, al = 0.5, 0.125, np.radians(alpha)
+        # Potential flow round an ellipse (Milne-Thomson [recalled, not re-checked]).
+        ue = (
+            (a + b)
+            * np.abs(np.sin(eta - al))
+            / np.sqrt(a**2 * np.sin(eta) ** 2 + b**2 * np.cos(eta) ** 2)
+        )
+        x, y = a + a * np.cos(eta), b * np.sin(eta)
+        out.append((x, y, ue**2, empty, False, False))
+        out.append((x[:-1], y[:-1], ue[:-1] ** 2, empty, False, False))  # implicitly closed
+        out.append((x[: n + 1], y[: n + 1], ue[: n + 1] ** 2, empty, False, False))  # open
+    phi = np.linspace(0.0, np.pi, 121)
+    sphere_q = (1.5 * np.sin(phi)) ** 2  # potential flow round a sphere [same source]
+    out.append((-np.cos(phi), np.sin(phi), sphere_q, empty, True, True))
+    out.append((-np.cos(phi), np.sin(phi), sphere_q, np.sin(phi), True, False))
+    shifted = np.roll(sphere_q, 3)  # the pressure's stagnation point off the axis
+    out.append((-np.cos(phi), np.sin(phi), shifted, empty, True, True))
+    t = np.linspace(0.0, 2.0 * np.pi, 81)
+    cyl = 4.0 * np.sin(t) ** 2  # circular cylinder
+    plateau = np.where(np.abs(np.sin(t)) < 0.12, 0.0, cyl)  # taps clipped at the nose
+    out.append((-np.cos(t), np.sin(t), plateau, empty, False, False))
+    out.append((-np.cos(t), np.sin(t), 0.5 + 0.1 * np.sin(t), empty, False, False))  # no zero
+    out.append((-np.cos(t), np.sin(t), np.minimum(cyl, 1e-9 + cyl), empty, False, False))
+    return out
+
+
+@pytest.mark.parametrize("index", range(15))
+def test_split_in_one_call_equals_its_steps_one_at_a_time(index: int) -> None:
+    x, y, q, radius, axisymmetric, from_y = _contours()[index]
+    arc, chord, _ = prepare._arc_and_chords(x, y, 0.0)
+    got = prepare._split_numbers(x, y, q, radius, arc, chord, axisymmetric, from_y)
+    want = split_one_step_at_a_time(x, y, q, radius, arc, chord, axisymmetric, from_y)
+    assert len(got) == len(want)
+    for g, w in zip(got, want, strict=True):
+        assert g.dtype == w.dtype and g.shape == w.shape
+        assert np.array_equal(g, w, equal_nan=True)
+
+
+@pytest.mark.parametrize("given_cp", [True, False])
+def test_input_scan_equals_the_scans_one_at_a_time(given_cp: bool) -> None:
+    rng = np.random.default_rng(8)
+    for _ in range(300):
+        n = int(rng.integers(3, 60))
+        block = np.cumsum(rng.random((3, n)), axis=1)
+        block[2] = 1.0 - rng.random(n) * 3.0 + 0.1 * rng.random()
+        if rng.random() < 0.3:
+            block[int(rng.integers(0, 3)), int(rng.integers(0, n))] = rng.choice([np.nan, np.inf])
+        if rng.random() < 0.3:
+            block[:2, n // 2] = block[:2, n // 2 - 1]  # a repeated point
+        bad, repeated, arc, chord, over, clipped, q = prepare._input_scan(
+            block, given_cp, 1e-10, 1.0, 0.05
+        )
+        rows = [prepare._first_nonfinite(row) for row in block]
+        assert bad == next((k for k, i in enumerate(rows) if i >= 0), -1)
+        if bad >= 0:
+            continue
+        want = prepare._arc_and_chords(block[0], block[1], 1e-10)
+        assert np.array_equal(arc, want[0]) and np.array_equal(chord, want[1])
+        assert repeated == want[2]
+        if given_cp:
+            assert (over, clipped) == prepare._cp_excess(block[2], 1.0, 0.05)
+            assert np.array_equal(q, np.maximum(1.0 - block[2], 0.0))
+        else:
+            assert (over, clipped) == (-1, 0) and np.array_equal(q, block[2] ** 2)
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_noise_check_by_counting_answers_as_the_median_bound(seed: int) -> None:
+    # The definition: the bound sqrt(256 r1^2 / 255), r1 = 1.4826 x the median residual.
+    rng = np.random.default_rng(seed)
+    n = int(rng.integers(11, 400))
+    s = np.cumsum(rng.random(n) + 1e-3)
+    q = np.sin(s) ** 2 + rng.standard_normal(n) * 10.0 ** float(rng.uniform(-6.0, -2.0))
+    median = smoothing._fine_residual_median(s, q)
+    r1 = smoothing.MAD_TO_SIGMA * median
+    bound = math.sqrt(max(256.0 * r1**2 / 255.0, 0.0))
+    for sigma in (bound, np.nextafter(bound, 0.0), 0.5 * bound, 2.0 * bound, 1e-3, 0.0):
+        assert noise_at_most(s, q, sigma) == (bound <= sigma)
+        limit = sigma / smoothing.MAD_TO_SIGMA
+        above = smoothing._fine_residual_median_above(s, q, limit)
+        assert above == median or (above == limit and median <= limit)
+
+
+@pytest.mark.parametrize("seed", range(10))
+def test_sums_onto_the_input_points_equal_numpy_add_at(seed: int) -> None:
+    # Zeros of either sign are left out of the sums: the same sums to the bit.
+    rng = np.random.default_rng(seed)
+    n_in = int(rng.integers(3, 40))
+    inputs = rng.integers(0, n_in, int(rng.integers(1, 90)))
+    values = rng.standard_normal(inputs.size) * rng.choice([0.0, -0.0, 1.0, -1.0], inputs.size)
+    values[rng.random(inputs.size) < 0.1] = np.nan
+    want = np.zeros(n_in)
+    np.add.at(want, inputs, values)
+    got = prepare._summed_onto(inputs, values, n_in)
+    assert np.array_equal(got, want, equal_nan=True)
+    assert np.array_equal(np.signbit(got), np.signbit(want))
+
+
+def test_plateau_search_from_the_edge_velocity_equals_the_search_of_its_cp() -> None:
+    rng = np.random.default_rng(3)
+    turning = math.radians(plateau.PLATEAU_MIN_TURNING)
+    for _ in range(100):
+        n = int(rng.integers(3, 120))
+        t = np.sort(rng.random(n)) * np.pi
+        x, y = -np.cos(t), np.sin(t)
+        ue = np.abs(2.0 * np.sin(t)) * (1.0 + 0.02 * rng.standard_normal(n))
+        ue[t > rng.uniform(1.5, 3.0)] = rng.uniform(0.5, 1.5)  # a base-pressure plateau
+        s = np.concatenate([[0.0], np.cumsum(np.hypot(np.diff(x), np.diff(y)))])
+        *got, cp = plateau._search_ue(s, ue, x, y, turning)
+        want = plateau._search(s, plateau.cp_from_edge_velocity(ue), x, y, turning)
+        assert np.array_equal(cp, 1.0 - ue**2)
+        assert got[:4] == list(want[:4]) and np.array_equal(got[4], want[4])
+        for mach in (0.0, 0.4):
+            cp_m = plateau.cp_from_edge_velocity(ue, mach)
+            assert plateau.side_plateau(s, ue, x, y, mach) == plateau.find_plateau(s, cp_m, x, y)
