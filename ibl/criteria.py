@@ -91,7 +91,7 @@ def _margin(
     """How far past its threshold an event is (>= 0 once it happens).
 
     kind 0: laminar separation; 1: Michel; 2: Granville instability; 3: Abu-Ghannam & Shaw.
-    Callers pass the kind as a plain integer (``np.int64(0)``, not ``0``): numba compiles
+    Callers pass the kind as a plain integer (``int(np.int64(0))``, not ``0``): numba compiles
     a function once more for each literal value of an argument.
     """
     lc = min(max(lam, lam_sep), LAMBDA_MAX)
@@ -181,7 +181,7 @@ def laminar_separation(
         for i in range(1, n):
             if lam[i] <= lam_sep:
                 lsep = _refine(
-                    np.int64(0), sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
+                    int(np.int64(0)), sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
                 )
                 _, _, re_sep, _ = _laminar_at(layer, params, lsep)
                 lsep_re_dstar = re_sep * shape_factor(closure, lam_sep)
@@ -226,7 +226,7 @@ def natural_transition(
             lc = min(max(lam[i], lam_sep), LAMBDA_MAX)
             if re_lam[i] >= granville_instability(lc):
                 s_i = _refine(
-                    np.int64(2), sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
+                    int(np.int64(2)), sk[i - 1], sk[i], layer, params, lam_sep, tu, sup, supplied
                 )
                 _, _, re_i, _ = _laminar_state(layer, params, sup, supplied, s_i)
                 run_i = _interp(sk, running, n, s_i)

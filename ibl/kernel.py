@@ -176,7 +176,7 @@ def _head(
     (theta and H at the stations, the separation position, step count and stop code),
     with its ``tape`` for the backward sweep of ``ibl.sensitivity``."""
     return step_control.march(
-        np.int64(METHOD_HEAD),  # a plain integer: a literal one is a compilation of its own
+        int(np.int64(METHOD_HEAD)),  # a plain integer: a literal one is a compilation of its own
         s,
         ue,
         due,

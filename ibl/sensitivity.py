@@ -717,7 +717,7 @@ def _granville_bar(
             # Plain integer and flag and a writable array: the same compilation of ``_refine`` as
             # the kernel's (literal or read-only arguments would each be one more).
             no_supply = np.full((4, 1), np.nan)
-            kind, supplied = np.int64(2), np.bool_(False)
+            kind, supplied = int(np.int64(2)), bool(np.bool_(False))
             s_i = kernel._refine(
                 kind, sk[k - 1], sk[k], layer, params, lam_sep, tu, no_supply, supplied
             )
@@ -869,7 +869,7 @@ def _granville_bar(
             br[k] -= bt * theta2[k] * 2.0 / rk[k]
     # The instability point itself.
     return _event_bar(
-        np.int64(2),
+        int(np.int64(2)),
         s_i,
         b_si,
         sk,
@@ -1284,7 +1284,7 @@ def side_sensitivities(
     elif not np.isfinite(lsep):
         status[1] = ABSENT
     elif not _event_bar(
-        np.int64(0),
+        int(np.int64(0)),
         lsep,
         1.0,
         sk,
@@ -1314,7 +1314,7 @@ def side_sensitivities(
         status[2] = ABSENT
     elif not sep_turbulent:
         if not _event_bar(
-            np.int64(0),
+            int(np.int64(0)),
             separation,
             1.0,
             sk,
