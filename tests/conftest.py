@@ -24,17 +24,8 @@ import msgspec
 import ibl
 from ibl.analysis import _plateaus
 from ibl.prepare import prepare
-from ibl.schema import Output
+from ibl.schema import SENSITIVITY_QUANTITIES, Output
 from ibl_service.app import _warm_up_case
-
-#: The derivatives the service can give, all asked for at once.
-_EVERY_DERIVATIVE = [
-    "transition",
-    "laminar_separation",
-    "separation",
-    "friction_drag",
-    "profile_drag",
-]
 
 
 def _surface() -> ibl.Case:
@@ -62,7 +53,9 @@ def _second_part() -> None:
     _plateaus(contour, prepare(contour))
     smoothed = msgspec.structs.replace(contour.pressure, smoothing="auto")
     prepare(msgspec.structs.replace(contour, pressure=smoothed))
-    ibl.run(msgspec.structs.replace(contour, output=Output(sensitivities=_EVERY_DERIVATIVE)))
+    ibl.run(
+        msgspec.structs.replace(contour, output=Output(sensitivities=list(SENSITIVITY_QUANTITIES)))
+    )
 
 
 def pytest_sessionstart() -> None:
